@@ -1,0 +1,1 @@
+//! The case description: what a run needs, read from RON, validated, turned into particles.

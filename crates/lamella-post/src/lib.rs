@@ -1,0 +1,1 @@
+//! Analyses of Lamella runs and the reference solutions they are compared with.

@@ -1,0 +1,71 @@
+//! Command-line definition (clap) and dispatch to the subcommands.
+
+use std::num::NonZeroUsize;
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand};
+
+use crate::Failure;
+use crate::commands;
+
+/// Lamella: layered flows of immiscible viscous liquids by weakly-compressible SPH.
+///
+/// Exit codes: 0 success, 1 run failed, 2 bad input, 130 interrupted (state saved).
+#[derive(Debug, Parser)]
+#[command(name = "lamella", version, propagate_version = true)]
+pub struct Cli {
+    /// Worker threads for the solver and analyses [default: all cores].
+    /// Results are identical whatever the thread count.
+    #[arg(long, global = true, value_name = "N")]
+    pub threads: Option<NonZeroUsize>,
+
+    /// Print errors only: no progress bar, no summaries.
+    #[arg(long, short, global = true)]
+    pub quiet: bool,
+
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// Options every subcommand sees.
+#[derive(Clone, Copy, Debug)]
+pub struct Globals {
+    /// Print errors only.
+    pub quiet: bool,
+}
+
+/// The subcommands, each defined in its own module under `commands/`.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Validate a case file and print what the run will involve.
+    Check(commands::check::Args),
+    /// Write a commented starter case file from a template.
+    New(commands::new::Args),
+    /// Run a case and write its results to a run folder.
+    Run(commands::run::Args),
+}
+
+/// Parses the command line, runs the subcommand and turns the outcome into an exit code.
+pub fn main() -> ExitCode {
+    let cli = Cli::parse();
+    if let Some(threads) = cli.threads {
+        if let Err(err) = rayon::ThreadPoolBuilder::new()
+            .num_threads(threads.get())
+            .build_global()
+        {
+            return report(Failure::BadInput(format!(
+                "cannot start {threads} worker threads: {err}"
+            )));
+        }
+    }
+    let globals = Globals { quiet: cli.quiet };
+    match commands::dispatch(cli.command, globals) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(failure) => report(failure),
+    }
+}
+
+fn report(failure: Failure) -> ExitCode {
+    eprintln!("error: {failure}");
+    failure.into()
+}
