@@ -1,1 +1,4 @@
 //! Analyses of Lamella runs and the reference solutions they are compared with.
+
+pub mod norms;
+pub mod reference;
