@@ -1,11 +1,24 @@
 //! Weakly-compressible SPH physics: kernels, equation of state, forces, walls, time stepping.
+//!
+//! [`Simulation`] holds a run (configuration + complete state) and advances it step by step;
+//! the physics itself lives in small modules of pure functions over particle slices.
 
 pub mod eos;
+pub mod fault;
+pub mod forces;
 pub mod kernel;
+pub mod neighbours;
 pub mod particles;
+pub mod shifting;
+pub mod simulation;
 pub mod time_step;
+pub mod walls;
 
 pub use eos::{EquationOfState, StateLaw};
+pub use fault::{Fault, FaultCause};
+pub use forces::PairViscosity;
 pub use kernel::{Kernel, KernelKind};
 pub use particles::{Kind, Particles};
+pub use shifting::Regularisation;
+pub use simulation::{SetupError, Simulation, SolverConfig, StepReport};
 pub use time_step::{Limit, TimeStepFactors, stable_time_step};

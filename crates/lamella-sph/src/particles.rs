@@ -51,3 +51,66 @@ impl<V: Vector> Particles<V> {
         self.position.is_empty()
     }
 }
+
+impl<V: Vector> Particles<V> {
+    /// Rewrites `spare` as this state reordered so that entry k is old entry `permutation[k]`,
+    /// then swaps it in. `spare` keeps its capacity, so repeated reordering does not allocate.
+    pub fn reorder(&mut self, permutation: &[u32], spare: &mut Particles<V>) {
+        fn gather<T: Copy>(out: &mut Vec<T>, source: &[T], permutation: &[u32]) {
+            out.clear();
+            out.extend(permutation.iter().map(|&k| source[k as usize]));
+        }
+        gather(&mut spare.position, &self.position, permutation);
+        gather(&mut spare.velocity, &self.velocity, permutation);
+        gather(&mut spare.density, &self.density, permutation);
+        gather(&mut spare.pressure, &self.pressure, permutation);
+        gather(&mut spare.mass, &self.mass, permutation);
+        gather(&mut spare.viscosity, &self.viscosity, permutation);
+        gather(&mut spare.phase, &self.phase, permutation);
+        gather(&mut spare.kind, &self.kind, permutation);
+        gather(&mut spare.id, &self.id, permutation);
+        gather(&mut spare.initial_position, &self.initial_position, permutation);
+        std::mem::swap(self, spare);
+    }
+
+    /// The first array whose length differs from `position`'s, if any (its field name).
+    pub fn inconsistent_field(&self) -> Option<&'static str> {
+        let n = self.len();
+        [
+            ("velocity", self.velocity.len()),
+            ("density", self.density.len()),
+            ("pressure", self.pressure.len()),
+            ("mass", self.mass.len()),
+            ("viscosity", self.viscosity.len()),
+            ("phase", self.phase.len()),
+            ("kind", self.kind.len()),
+            ("id", self.id.len()),
+            ("initial_position", self.initial_position.len()),
+        ]
+        .into_iter()
+        .find(|&(_, len)| len != n)
+        .map(|(name, _)| name)
+    }
+
+    /// Total mass Σ m (kg, or kg/m in 2D) of the fluid particles, summed in array order.
+    pub fn fluid_mass(&self) -> f64 {
+        self.fluid_indices().map(|i| self.mass[i]).sum()
+    }
+
+    /// Total momentum Σ m v of the fluid particles, summed in array order.
+    pub fn fluid_momentum(&self) -> V {
+        self.fluid_indices()
+            .fold(V::ZERO, |sum, i| sum + self.velocity[i] * self.mass[i])
+    }
+
+    /// Kinetic energy Σ ½ m |v|² of the fluid particles, summed in array order.
+    pub fn fluid_kinetic_energy(&self) -> f64 {
+        self.fluid_indices()
+            .map(|i| 0.5 * self.mass[i] * self.velocity[i].length_squared())
+            .sum()
+    }
+
+    fn fluid_indices(&self) -> impl Iterator<Item = usize> + '_ {
+        (0..self.len()).filter(|&i| self.kind[i] == Kind::Fluid)
+    }
+}
