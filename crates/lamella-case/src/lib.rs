@@ -1,1 +1,24 @@
 //! The case description: what a run needs, read from RON, validated, turned into particles.
+//!
+//! Read a case with [`load`] (file) or [`parse_str`] (text); both validate and report every
+//! problem at once. [`generate`] builds the initial particles. The fields of a case file are
+//! documented on the types in [`schema`] and in `cases/README.md`.
+
+pub mod derived;
+mod error;
+mod generate;
+mod load;
+pub mod schema;
+pub mod templates;
+mod validate;
+
+pub use derived::{LayerBand, LayerPair, Limit, stable_time_step};
+pub use error::{CaseError, Problem, Warning};
+pub use generate::{Generated, generate};
+pub use load::{check_output_folder, load, parse_str, parse_unvalidated, to_ron};
+pub use schema::{
+    Analysis, Axis, Case, Domain, EquationOfState, InitialVelocity, Kernel, Output, PairViscosity,
+    ParticleSettings, Perturbation, Phase, Probe, Region, Scales, Side, Time, TimeStepFactors,
+    ViscosityLaw, Wall,
+};
+pub use validate::{MAX_PARTICLES, SMOOTHING_RATIO_COMMON, SMOOTHING_RATIO_RANGE};

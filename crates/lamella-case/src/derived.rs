@@ -1,0 +1,304 @@
+//! Quantities derived from a case: smoothing length, sound speed, time step, dimensionless
+//! numbers, layer ratios and memory. Meaningful on a validated case.
+
+use crate::schema::{Axis, Case, Region, TimeStepFactors};
+
+/// Largest relative density variation the automatic sound speed allows, δ in Morris, Fox &
+/// Zhu 1997 §2.4 (c0 ≥ U/√δ gives c0 ≥ 10 U: common practice).
+pub const DENSITY_VARIATION: f64 = 0.01;
+
+/// Which limit set the time step.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Limit {
+    /// Acoustic (CFL) limit C h/(c0 + U).
+    Acoustic,
+    /// Viscous diffusion limit C h²/ν.
+    Viscous,
+    /// Body-force limit C √(h/|a|).
+    Force,
+}
+
+/// The largest stable time step of weakly-compressible SPH:
+/// dt = min(C_ac h/(c0 + U), C_visc h²/ν_max, C_f √(h/|a|))
+/// (Morris, Fox & Zhu 1997, eqs. 33–34; Monaghan 1992, Annu. Rev. Astron. Astrophys. 30).
+///
+/// Zero viscosity or acceleration removes that limit. Returns the step and the binding limit.
+pub fn stable_time_step(
+    h: f64,
+    sound_speed: f64,
+    max_speed: f64,
+    max_kinematic_viscosity: f64,
+    max_acceleration: f64,
+    factors: &TimeStepFactors,
+) -> (f64, Limit) {
+    let mut best = (
+        factors.acoustic * h / (sound_speed + max_speed),
+        Limit::Acoustic,
+    );
+    if max_kinematic_viscosity > 0.0 {
+        let dt = factors.viscous * h * h / max_kinematic_viscosity;
+        if dt < best.0 {
+            best = (dt, Limit::Viscous);
+        }
+    }
+    if max_acceleration > 0.0 {
+        let dt = factors.force * (h / max_acceleration).sqrt();
+        if dt < best.0 {
+            best = (dt, Limit::Force);
+        }
+    }
+    best
+}
+
+/// A Layer region after sorting: which phase fills which band of heights.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LayerBand {
+    /// Phase index.
+    pub phase: usize,
+    /// Lower bound in y (m).
+    pub bottom: f64,
+    /// Upper bound in y (m).
+    pub top: f64,
+}
+
+/// Two stacked layers of different phases that share a boundary.
+#[derive(Clone, Debug, PartialEq)]
+pub struct LayerPair {
+    /// Phase index of the lower layer.
+    pub lower: usize,
+    /// Phase index of the upper layer.
+    pub upper: usize,
+    /// Height of the shared boundary (m).
+    pub interface: f64,
+    /// Viscosity ratio m = μ_lower / μ_upper.
+    pub viscosity_ratio: f64,
+    /// Layer-width ratio n = width_lower / width_upper.
+    pub width_ratio: f64,
+}
+
+impl Case {
+    /// Smoothing length h = (h/dx) · dx (m).
+    pub fn smoothing_length(&self) -> f64 {
+        self.particles.smoothing_ratio * self.particles.spacing
+    }
+
+    /// Kernel support radius (m): 2h for Wendland C2 and cubic spline, 3h for quintic.
+    pub fn support_radius(&self) -> f64 {
+        self.particles.kernel.support_factor() * self.smoothing_length()
+    }
+
+    /// Index of the phase called `name`.
+    pub fn phase_index(&self, name: &str) -> Option<usize> {
+        self.phases.iter().position(|p| p.name == name)
+    }
+
+    /// True when the domain wraps around along `axis`.
+    pub fn is_periodic(&self, axis: Axis) -> bool {
+        self.domain.periodic.contains(&axis)
+    }
+
+    /// Domain extent along component `axis` (m).
+    pub fn extent(&self, axis: usize) -> f64 {
+        self.domain.upper[axis] - self.domain.lower[axis]
+    }
+
+    /// Number of lattice sites along each axis inside the domain.
+    pub fn lattice_counts(&self) -> Vec<usize> {
+        (0..self.dimension as usize)
+            .map(|a| (self.extent(a) / self.particles.spacing).round().max(0.0) as usize)
+            .collect()
+    }
+
+    /// Reference length L (m): `scales.reference_length`, or the domain height.
+    pub fn reference_length(&self) -> f64 {
+        self.scales
+            .reference_length
+            .unwrap_or_else(|| self.extent(1))
+    }
+
+    /// Kinematic viscosity ν = μ/ρ0 of each phase (m²/s), by the law's reference viscosity.
+    pub fn kinematic_viscosities(&self) -> Vec<f64> {
+        self.phases
+            .iter()
+            .map(|p| p.viscosity_law.reference_viscosity() / p.density)
+            .collect()
+    }
+
+    /// Magnitude of the body force per unit mass (m/s²), zero when none is given.
+    pub fn body_force_magnitude(&self) -> f64 {
+        self.body_force
+            .as_ref()
+            .map_or(0.0, |f| f.iter().map(|x| x * x).sum::<f64>().sqrt())
+    }
+
+    /// Sound speed c0 (m/s): `scales.sound_speed` if given, else the smallest value that keeps
+    /// density variations near δ = 1 % (Morris, Fox & Zhu 1997 §2.4):
+    /// c0² = max(U²/δ, ν_max U/(L δ), |F| L/δ), U the expected peak speed, L the reference
+    /// length, F the body force per unit mass.
+    pub fn sound_speed(&self) -> f64 {
+        if let Some(c0) = self.scales.sound_speed {
+            return c0;
+        }
+        let u = self.scales.expected_max_speed;
+        let length = self.reference_length();
+        let nu = self.kinematic_viscosities().into_iter().fold(0.0, f64::max);
+        let delta = DENSITY_VARIATION;
+        let c2 = (u * u / delta)
+            .max(nu * u / (length * delta))
+            .max(self.body_force_magnitude() * length / delta);
+        c2.sqrt()
+    }
+
+    /// Reynolds number U L / ν_min with the expected peak speed, the reference length and the
+    /// least viscous phase (the most inertial one).
+    pub fn reynolds_number(&self) -> f64 {
+        let nu = self
+            .kinematic_viscosities()
+            .into_iter()
+            .fold(f64::INFINITY, f64::min);
+        self.scales.expected_max_speed * self.reference_length() / nu
+    }
+
+    /// Ratio of the largest to the smallest phase viscosity (1 for a single phase).
+    pub fn viscosity_contrast(&self) -> f64 {
+        let mu: Vec<f64> = self
+            .phases
+            .iter()
+            .map(|p| p.viscosity_law.reference_viscosity())
+            .collect();
+        let max = mu.iter().copied().fold(0.0, f64::max);
+        let min = mu.iter().copied().fold(f64::INFINITY, f64::min);
+        max / min
+    }
+
+    /// The time step the run will start with and the limit that sets it, from the expected
+    /// peak speed, the largest kinematic viscosity and the body force ([`stable_time_step`]).
+    pub fn time_step_estimate(&self) -> (f64, Limit) {
+        let nu_max = self.kinematic_viscosities().into_iter().fold(0.0, f64::max);
+        stable_time_step(
+            self.smoothing_length(),
+            self.sound_speed(),
+            self.scales.expected_max_speed,
+            nu_max,
+            self.body_force_magnitude(),
+            &self.time_step,
+        )
+    }
+
+    /// Number of steps to the end time at the estimated time step.
+    pub fn step_estimate(&self) -> u64 {
+        (self.time.end / self.time_step_estimate().0).ceil() as u64
+    }
+
+    /// Every Layer region with a known phase, sorted by bottom height.
+    pub fn layer_bands(&self) -> Vec<LayerBand> {
+        let mut bands: Vec<LayerBand> = self
+            .regions
+            .iter()
+            .filter_map(|region| match region {
+                Region::Layer { phase, bottom, top } => {
+                    self.phase_index(phase).map(|phase| LayerBand {
+                        phase,
+                        bottom: *bottom,
+                        top: *top,
+                    })
+                }
+                _ => None,
+            })
+            .collect();
+        bands.sort_by(|a, b| a.bottom.total_cmp(&b.bottom));
+        bands
+    }
+
+    /// Adjacent layers of different phases, bottom to top, with Yih's ratios m and n
+    /// (lower over upper). Empty unless the case is layered.
+    pub fn layer_pairs(&self) -> Vec<LayerPair> {
+        let bands = self.layer_bands();
+        let tol = 1e-9 * self.extent(1).abs();
+        bands
+            .windows(2)
+            .filter(|w| w[0].phase != w[1].phase && (w[0].top - w[1].bottom).abs() <= tol)
+            .map(|w| {
+                let mu = |i: usize| self.phases[i].viscosity_law.reference_viscosity();
+                LayerPair {
+                    lower: w[0].phase,
+                    upper: w[1].phase,
+                    interface: w[0].top,
+                    viscosity_ratio: mu(w[0].phase) / mu(w[1].phase),
+                    width_ratio: (w[0].top - w[0].bottom) / (w[1].top - w[1].bottom),
+                }
+            })
+            .collect()
+    }
+
+    /// Heights of Layer bounds strictly inside the domain: the boundaries the interface
+    /// perturbation displaces.
+    pub fn interior_layer_boundaries(&self) -> Vec<f64> {
+        if self.domain.lower.len() < 2 || self.domain.upper.len() < 2 {
+            return Vec::new();
+        }
+        let (lo, hi) = (self.domain.lower[1], self.domain.upper[1]);
+        let tol = 1e-9 * (hi - lo).abs();
+        let mut heights: Vec<f64> = self
+            .regions
+            .iter()
+            .filter_map(|region| match region {
+                Region::Layer { bottom, top, .. } => Some([*bottom, *top]),
+                _ => None,
+            })
+            .flatten()
+            .filter(|y| *y > lo + tol && *y < hi - tol)
+            .collect();
+        heights.sort_by(f64::total_cmp);
+        heights.dedup_by(|a, b| (*a - *b).abs() <= tol);
+        heights
+    }
+
+    /// Bytes of solver state per particle (estimate): the stored arrays of
+    /// `lamella_sph::Particles` (three vectors, four scalars, phase, kind, id), two vectors and
+    /// two scalars of rates and work arrays, and a neighbour list of 4-byte indices sized by
+    /// the number of lattice sites within the kernel support.
+    pub fn state_bytes_per_particle(&self) -> usize {
+        let dim = self.dimension as usize;
+        let vector = 8 * dim;
+        let stored = 3 * vector + 4 * 8 + 2 + 1 + 8;
+        let work = 2 * vector + 2 * 8;
+        let r = self.particles.kernel.support_factor() * self.particles.smoothing_ratio;
+        let neighbours = if dim == 3 {
+            4.0 / 3.0 * std::f64::consts::PI * r.powi(3)
+        } else {
+            std::f64::consts::PI * r * r
+        };
+        stored + work + 4 * neighbours.ceil() as usize
+    }
+
+    /// Estimated memory of a run with `particles` particles (bytes).
+    pub fn memory_estimate(&self, particles: usize) -> usize {
+        particles * self.state_bytes_per_particle()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn time_step_takes_the_binding_limit() {
+        let f = TimeStepFactors::default();
+        // Acoustic: 0.25 · 1e-4 / (1 + 0.1) ≈ 2.27e-5 s; viscous: 0.125 · 1e-8 / 1e-6 = 1.25e-3 s.
+        let (dt, limit) = stable_time_step(1e-4, 1.0, 0.1, 1e-6, 0.0, &f);
+        assert_eq!(limit, Limit::Acoustic);
+        assert!((dt - 0.25e-4 / 1.1).abs() < 1e-15);
+        // Very viscous: 0.125 · 1e-8 / 1e-2 = 1.25e-7 s.
+        let (dt, limit) = stable_time_step(1e-4, 1.0, 0.1, 1e-2, 0.0, &f);
+        assert_eq!(limit, Limit::Viscous);
+        assert!((dt - 1.25e-7).abs() < 1e-18);
+        // Strong force: 0.25 · √(1e-4 / 1e6) = 2.5e-6 s.
+        let (dt, limit) = stable_time_step(1e-4, 1000.0, 0.0, 0.0, 1e6, &f);
+        assert_eq!(limit, Limit::Acoustic);
+        assert!(dt < 2.5e-6);
+        let (dt, limit) = stable_time_step(1e-4, 1.0, 0.0, 0.0, 1e6, &f);
+        assert_eq!(limit, Limit::Force);
+        assert!((dt - 2.5e-6).abs() < 1e-18);
+    }
+}

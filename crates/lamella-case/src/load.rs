@@ -1,0 +1,175 @@
+//! Reading a case: file → text → `Case`, with every problem reported.
+
+use std::fs;
+use std::path::{Path, PathBuf};
+
+use crate::error::{CaseError, Problem};
+use crate::schema::Case;
+
+/// Reads, parses and validates a case file, including that `output.folder` (when given) can
+/// be written.
+///
+/// Errors list every problem found (a syntax error stops parsing, so there is at most one).
+pub fn load(path: &Path) -> Result<Case, CaseError> {
+    let origin = path.display().to_string();
+    let text = fs::read_to_string(path).map_err(|err| CaseError {
+        origin: origin.clone(),
+        problems: vec![Problem::File {
+            message: format!("cannot read the case file: {err}; check the path and permissions"),
+        }],
+    })?;
+    let case = parse_str(&text, &origin)?;
+    if let Some(folder) = &case.output.folder {
+        if let Err(problem) = check_output_folder(Path::new(folder)) {
+            return Err(CaseError {
+                origin,
+                problems: vec![Problem::value(
+                    "output.folder",
+                    format!("{folder:?}"),
+                    format!("a folder that can be created and written ({problem})"),
+                )],
+            });
+        }
+    }
+    Ok(case)
+}
+
+/// Parses and validates case text; `origin` names it in messages (usually the file path).
+///
+/// Does not touch the file system (the output folder is checked by [`load`]).
+pub fn parse_str(text: &str, origin: &str) -> Result<Case, CaseError> {
+    let case = parse_unvalidated(text).map_err(|problem| CaseError {
+        origin: origin.to_string(),
+        problems: vec![problem],
+    })?;
+    let problems = case.validate();
+    if problems.is_empty() {
+        Ok(case)
+    } else {
+        Err(CaseError {
+            origin: origin.to_string(),
+            problems,
+        })
+    }
+}
+
+/// Parses case text without validating its values.
+pub fn parse_unvalidated(text: &str) -> Result<Case, Problem> {
+    ron::Options::default()
+        .from_str::<Case>(text)
+        .map_err(|err| Problem::Syntax {
+            line: err.span.start.line,
+            column: err.span.start.col,
+            message: syntax_message(&err.code),
+        })
+}
+
+/// The parser's message with a hint on how to fix the common mistakes.
+fn syntax_message(code: &ron::Error) -> String {
+    let hint = match code {
+        ron::Error::NoSuchStructField { .. } => {
+            "; remove it or fix its spelling (every field is listed in cases/README.md)"
+        }
+        ron::Error::MissingStructField { .. } => "; add it (see cases/README.md)",
+        ron::Error::NoSuchEnumVariant { .. } => "; use one of the listed choices",
+        _ => "",
+    };
+    format!("{code}{hint}")
+}
+
+/// Writes a case as RON text that [`parse_str`] reads back to an equal case.
+pub fn to_ron(case: &Case) -> String {
+    let config = ron::ser::PrettyConfig::new()
+        .extensions(ron::extensions::Extensions::IMPLICIT_SOME)
+        .struct_names(false);
+    ron::Options::default()
+        .to_string_pretty(case, config)
+        .expect("every case type serialises to RON")
+}
+
+/// Checks that `folder` can be created (if missing) and written, by creating and removing a
+/// probe file in it or in its nearest existing parent. Leaves nothing behind.
+pub fn check_output_folder(folder: &Path) -> Result<(), Problem> {
+    let folder: PathBuf = if folder.as_os_str().is_empty() {
+        PathBuf::from(".")
+    } else {
+        folder.to_path_buf()
+    };
+    let mut existing = folder.as_path();
+    loop {
+        match fs::metadata(existing) {
+            Ok(meta) if meta.is_dir() => break,
+            Ok(_) => {
+                return Err(Problem::File {
+                    message: format!(
+                        "{} exists and is not a folder; choose another run folder",
+                        existing.display()
+                    ),
+                });
+            }
+            Err(_) => match existing.parent() {
+                Some(parent) if !parent.as_os_str().is_empty() => existing = parent,
+                _ => {
+                    existing = Path::new(".");
+                    if fs::metadata(existing).is_err() {
+                        return Err(Problem::File {
+                            message: "the current folder cannot be read".into(),
+                        });
+                    }
+                    break;
+                }
+            },
+        }
+    }
+    let probe = existing.join(format!(".lamella-write-probe-{}", std::process::id()));
+    match fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(&probe)
+    {
+        Ok(file) => {
+            drop(file);
+            let _ = fs::remove_file(&probe);
+            Ok(())
+        }
+        Err(err) => Err(Problem::File {
+            message: format!(
+                "cannot write in {}: {err}; choose a folder you can write to",
+                existing.display()
+            ),
+        }),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn output_folder_check_leaves_nothing_behind() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("a/b/run");
+        check_output_folder(&target).unwrap();
+        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 0);
+        check_output_folder(dir.path()).unwrap();
+        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 0);
+    }
+
+    #[test]
+    fn output_folder_under_a_file_is_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let file = dir.path().join("plain");
+        fs::write(&file, "x").unwrap();
+        let err = check_output_folder(&file.join("run")).unwrap_err();
+        assert!(err.to_string().contains("is not a folder"), "{err}");
+    }
+
+    #[test]
+    fn syntax_errors_carry_line_and_column() {
+        let problem = parse_unvalidated("(\n  dimension: 2,\n  domian: ()\n)").unwrap_err();
+        match problem {
+            Problem::Syntax { line, column, .. } => assert_eq!((line, column), (3, 3)),
+            other => panic!("expected a syntax problem, got {other:?}"),
+        }
+    }
+}

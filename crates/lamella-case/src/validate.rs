@@ -1,0 +1,829 @@
+//! Meaning checks of a parsed case: every bad value, with its field path and what would be
+//! valid. Never panics, whatever the values.
+
+use std::collections::HashSet;
+
+use crate::error::{Problem, Warning, num, vec_str};
+use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, Side};
+
+/// Accepted smoothing ratios h/dx (inclusive). Common practice is 1.2 … 1.5.
+pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
+/// Smoothing ratios of common practice; outside them `check` warns.
+pub const SMOOTHING_RATIO_COMMON: (f64, f64) = (1.2, 1.5);
+/// Most lattice sites a case may ask for (fluid and wall), to catch a spacing typed wrong.
+pub const MAX_PARTICLES: f64 = 2.0e8;
+/// Relative tolerance when a length must be a whole number of spacings or wavelengths.
+const TILE_TOLERANCE: f64 = 1e-6;
+
+/// Collects problems as the checks go.
+struct Checker {
+    problems: Vec<Problem>,
+}
+
+impl Checker {
+    fn bad(&mut self, path: impl Into<String>, value: impl Into<String>, expected: &str) {
+        self.problems.push(Problem::value(path, value, expected));
+    }
+
+    /// A strictly positive, finite number.
+    fn positive(&mut self, path: &str, x: f64, what: &str) -> bool {
+        let ok = x.is_finite() && x > 0.0;
+        if !ok {
+            self.bad(path, num(x), &format!("a positive {what}"));
+        }
+        ok
+    }
+
+    /// A vector with one finite entry per dimension.
+    fn vector(&mut self, path: &str, v: &[f64], dim: Option<usize>, what: &str) -> bool {
+        if let Some(d) = dim {
+            if v.len() != d {
+                self.bad(
+                    path,
+                    vec_str(v),
+                    &format!("{d} entries ({what}, one per dimension, dimension is {d})"),
+                );
+                return false;
+            }
+        }
+        if v.iter().any(|x| !x.is_finite()) {
+            self.bad(path, vec_str(v), &format!("finite numbers ({what})"));
+            return false;
+        }
+        dim.is_some()
+    }
+}
+
+/// The domain box once its own fields are known to be sound.
+struct Box_ {
+    lower: Vec<f64>,
+    upper: Vec<f64>,
+}
+
+impl Box_ {
+    fn extent(&self, axis: usize) -> f64 {
+        self.upper[axis] - self.lower[axis]
+    }
+    fn tolerance(&self) -> f64 {
+        let largest = (0..self.lower.len())
+            .map(|a| self.extent(a))
+            .fold(0.0, f64::max);
+        1e-9 * largest
+    }
+    fn contains(&self, p: &[f64]) -> bool {
+        let tol = self.tolerance();
+        p.iter()
+            .enumerate()
+            .all(|(a, &x)| x >= self.lower[a] - tol && x <= self.upper[a] + tol)
+    }
+    fn describe(&self) -> String {
+        format!(
+            "inside the domain {} … {}",
+            vec_str(&self.lower),
+            vec_str(&self.upper)
+        )
+    }
+}
+
+/// True when `length / unit` is a whole number (within a relative tolerance).
+pub(crate) fn tiles(length: f64, unit: f64) -> bool {
+    let n = length / unit;
+    n.round() >= 1.0 && (n - n.round()).abs() <= TILE_TOLERANCE * n.max(1.0)
+}
+
+impl Case {
+    /// Checks every value and returns all problems found (empty when the case is valid).
+    pub fn validate(&self) -> Vec<Problem> {
+        let mut c = Checker {
+            problems: Vec::new(),
+        };
+        let dim = self.check_dimension(&mut c);
+        let domain = self.check_domain(&mut c, dim);
+        let spacing_ok = self.check_particles(&mut c, domain.as_ref());
+        self.check_phases(&mut c);
+        self.check_regions(&mut c, dim, domain.as_ref());
+        self.check_perturbation(&mut c, domain.as_ref());
+        self.check_scales(&mut c);
+        self.check_initial_velocity(&mut c, dim);
+        self.check_walls(&mut c, dim, spacing_ok);
+        if let Some(force) = &self.body_force {
+            c.vector("body_force", force, dim, "force per unit mass in m/s²");
+        }
+        self.check_equation_of_state(&mut c);
+        self.check_run_settings(&mut c);
+        self.check_output(&mut c, dim, domain.as_ref());
+        c.problems
+    }
+
+    /// Advice on a valid case: settings that work but lie outside common practice.
+    pub fn warnings(&self) -> Vec<Warning> {
+        let mut warnings = Vec::new();
+        let (lo, hi) = SMOOTHING_RATIO_COMMON;
+        let ratio = self.particles.smoothing_ratio;
+        if !(lo..=hi).contains(&ratio) {
+            warnings.push(Warning {
+                path: "particles.smoothing_ratio".into(),
+                message: format!(
+                    "{} is accepted but outside the common-practice range {lo} … {hi}",
+                    num(ratio)
+                ),
+            });
+        }
+        if let Some(p) = &self.interface_perturbation {
+            if p.amplitude < 0.5 * self.particles.spacing {
+                warnings.push(Warning {
+                    path: "interface_perturbation.amplitude".into(),
+                    message: format!(
+                        "{} m is under half the spacing ({} m): few or no particles change phase",
+                        num(p.amplitude),
+                        num(0.5 * self.particles.spacing)
+                    ),
+                });
+            }
+        }
+        if let Some(c0) = self.scales.sound_speed {
+            let floor = 10.0 * self.scales.expected_max_speed;
+            if c0 < floor {
+                warnings.push(Warning {
+                    path: "scales.sound_speed".into(),
+                    message: format!(
+                        "{} m/s is below 10 × expected_max_speed = {} m/s; density may vary by \
+                         more than 1 % (common practice)",
+                        num(c0),
+                        num(floor)
+                    ),
+                });
+            }
+        }
+        warnings
+    }
+
+    fn check_dimension(&self, c: &mut Checker) -> Option<usize> {
+        match self.dimension {
+            2 | 3 => Some(self.dimension as usize),
+            d => {
+                c.bad("dimension", d.to_string(), "2 or 3");
+                None
+            }
+        }
+    }
+
+    fn check_domain(&self, c: &mut Checker, dim: Option<usize>) -> Option<Box_> {
+        let d = &self.domain;
+        let lower_ok = c.vector("domain.lower", &d.lower, dim, "lower corner in m");
+        let upper_ok = c.vector("domain.upper", &d.upper, dim, "upper corner in m");
+        let mut ok = lower_ok && upper_ok;
+        if ok {
+            for axis in 0..d.lower.len() {
+                if d.upper[axis] <= d.lower[axis] {
+                    c.bad(
+                        format!("domain.upper[{axis}]"),
+                        num(d.upper[axis]),
+                        &format!(
+                            "a value above domain.lower[{axis}] = {}",
+                            num(d.lower[axis])
+                        ),
+                    );
+                    ok = false;
+                }
+            }
+        }
+        let mut seen = HashSet::new();
+        for (i, axis) in d.periodic.iter().enumerate() {
+            if let Some(dim) = dim {
+                if axis.index() >= dim {
+                    c.bad(
+                        format!("domain.periodic[{i}]"),
+                        format!("{axis:?}"),
+                        &format!("an axis of a {dim}D case ({})", axes_list(dim)),
+                    );
+                }
+            }
+            if !seen.insert(*axis) {
+                c.bad(
+                    format!("domain.periodic[{i}]"),
+                    format!("{axis:?}"),
+                    "each axis listed once",
+                );
+            }
+        }
+        ok.then(|| Box_ {
+            lower: d.lower.clone(),
+            upper: d.upper.clone(),
+        })
+    }
+
+    fn check_particles(&self, c: &mut Checker, domain: Option<&Box_>) -> bool {
+        let p = &self.particles;
+        let (lo, hi) = SMOOTHING_RATIO_RANGE;
+        if !(p.smoothing_ratio.is_finite() && (lo..=hi).contains(&p.smoothing_ratio)) {
+            c.bad(
+                "particles.smoothing_ratio",
+                num(p.smoothing_ratio),
+                &format!(
+                    "h/dx within the stable range {lo} … {hi} (common practice {} … {})",
+                    SMOOTHING_RATIO_COMMON.0, SMOOTHING_RATIO_COMMON.1
+                ),
+            );
+        }
+        let dx = p.spacing;
+        if !(dx.is_finite() && dx > 0.0) {
+            c.bad(
+                "particles.spacing",
+                num(dx),
+                "a positive particle spacing in m",
+            );
+            return false;
+        }
+        let Some(domain) = domain else {
+            return true;
+        };
+        let dim = domain.lower.len();
+        let smallest = (0..dim).map(|a| domain.extent(a)).fold(f64::MAX, f64::min);
+        if dx > smallest {
+            c.bad(
+                "particles.spacing",
+                num(dx),
+                &format!(
+                    "a spacing no larger than the smallest domain extent {} m (a few dozen \
+                     particles across is a coarse start)",
+                    num(smallest)
+                ),
+            );
+            return false;
+        }
+        let mut ok = true;
+        for axis in 0..dim {
+            let length = domain.extent(axis);
+            if !tiles(length, dx) {
+                let n = (length / dx).round().max(1.0);
+                c.bad(
+                    "particles.spacing",
+                    num(dx),
+                    &format!(
+                        "a spacing that divides the domain extent along {} ({} m) into whole \
+                         particles, e.g. {} m ({n} particles)",
+                        axis_name(axis),
+                        num(length),
+                        num(length / n)
+                    ),
+                );
+                ok = false;
+            }
+        }
+        let sites: f64 = (0..dim)
+            .map(|a| domain.extent(a) / dx + 2.0 * 8.0)
+            .product();
+        if sites > MAX_PARTICLES {
+            c.bad(
+                "particles.spacing",
+                num(dx),
+                &format!(
+                    "a spacing giving at most {} particles (this one gives about {})",
+                    num(MAX_PARTICLES),
+                    num(sites.round())
+                ),
+            );
+            ok = false;
+        }
+        ok
+    }
+
+    fn check_phases(&self, c: &mut Checker) {
+        if self.phases.is_empty() {
+            c.bad(
+                "phases",
+                "[]",
+                "at least one phase, e.g. (name: \"water\", density: 1000.0, viscosity_law: \
+                 Newtonian(viscosity: 1.0e-3))",
+            );
+        }
+        if self.phases.len() > u16::MAX as usize {
+            c.bad(
+                "phases",
+                format!("{} phases", self.phases.len()),
+                "at most 65535 phases",
+            );
+        }
+        let mut names = HashSet::new();
+        for (i, phase) in self.phases.iter().enumerate() {
+            if phase.name.trim().is_empty() {
+                c.bad(
+                    format!("phases[{i}].name"),
+                    format!("{:?}", phase.name),
+                    "a non-empty name",
+                );
+            } else if !names.insert(phase.name.as_str()) {
+                c.bad(
+                    format!("phases[{i}].name"),
+                    format!("{:?}", phase.name),
+                    "a name no other phase has",
+                );
+            }
+            c.positive(
+                &format!("phases[{i}].density"),
+                phase.density,
+                "reference density in kg/m³",
+            );
+            match &phase.viscosity_law {
+                crate::schema::ViscosityLaw::Newtonian { viscosity } => {
+                    c.positive(
+                        &format!("phases[{i}].viscosity_law.viscosity"),
+                        *viscosity,
+                        "dynamic viscosity in Pa·s (water is about 1.0e-3)",
+                    );
+                }
+            }
+        }
+    }
+
+    fn check_regions(&self, c: &mut Checker, dim: Option<usize>, domain: Option<&Box_>) {
+        if self.regions.is_empty() {
+            c.bad(
+                "regions",
+                "[]",
+                "at least one region, e.g. Fill(phase: \"water\")",
+            );
+        }
+        let names: Vec<String> = self
+            .phases
+            .iter()
+            .map(|p| format!("{:?}", p.name))
+            .collect();
+        for (i, region) in self.regions.iter().enumerate() {
+            let path = format!("regions[{i}]");
+            if self.phase_index(region.phase()).is_none() {
+                c.bad(
+                    format!("{path}.phase"),
+                    format!("{:?}", region.phase()),
+                    &format!("one of the phase names: {}", names.join(", ")),
+                );
+            }
+            match region {
+                Region::Fill { .. } => {}
+                Region::Layer { bottom, top, .. } => {
+                    let finite = bottom.is_finite() && top.is_finite();
+                    if !finite || bottom >= top {
+                        c.bad(
+                            format!("{path}.top"),
+                            num(*top),
+                            &format!("a finite height above bottom = {}", num(*bottom)),
+                        );
+                    } else if let Some(domain) = domain {
+                        let tol = domain.tolerance();
+                        let (lo, hi) = (domain.lower[1], domain.upper[1]);
+                        if *bottom < lo - tol || *bottom > hi + tol {
+                            c.bad(
+                                format!("{path}.bottom"),
+                                num(*bottom),
+                                &format!("a height inside the domain, {} … {}", num(lo), num(hi)),
+                            );
+                        }
+                        if *top > hi + tol || *top < lo - tol {
+                            c.bad(
+                                format!("{path}.top"),
+                                num(*top),
+                                &format!("a height inside the domain, {} … {}", num(lo), num(hi)),
+                            );
+                        }
+                    }
+                }
+                Region::Box { lower, upper, .. } => {
+                    let ok_lower = c.vector(&format!("{path}.lower"), lower, dim, "corner in m");
+                    let ok_upper = c.vector(&format!("{path}.upper"), upper, dim, "corner in m");
+                    if ok_lower && ok_upper {
+                        if lower.iter().zip(upper).any(|(l, u)| u <= l) {
+                            c.bad(
+                                format!("{path}.upper"),
+                                vec_str(upper),
+                                &format!("every entry above lower = {}", vec_str(lower)),
+                            );
+                        }
+                        if let Some(domain) = domain {
+                            if !domain.contains(lower) {
+                                c.bad(format!("{path}.lower"), vec_str(lower), &domain.describe());
+                            }
+                            if !domain.contains(upper) {
+                                c.bad(format!("{path}.upper"), vec_str(upper), &domain.describe());
+                            }
+                        }
+                    }
+                }
+                Region::Circle { centre, radius, .. } => {
+                    let ok_centre = c.vector(&format!("{path}.centre"), centre, dim, "centre in m");
+                    let ok_radius = c.positive(&format!("{path}.radius"), *radius, "radius in m");
+                    if let (true, true, Some(domain)) = (ok_centre, ok_radius, domain) {
+                        if !domain.contains(centre) {
+                            c.bad(
+                                format!("{path}.centre"),
+                                vec_str(centre),
+                                &domain.describe(),
+                            );
+                        } else {
+                            let lo: Vec<f64> = centre.iter().map(|x| x - radius).collect();
+                            let hi: Vec<f64> = centre.iter().map(|x| x + radius).collect();
+                            if !domain.contains(&lo) || !domain.contains(&hi) {
+                                c.bad(
+                                    format!("{path}.radius"),
+                                    num(*radius),
+                                    &format!("a radius keeping the circle {}", domain.describe()),
+                                );
+                            }
+                        }
+                    }
+                }
+            }
+        }
+    }
+
+    fn check_perturbation(&self, c: &mut Checker, domain: Option<&Box_>) {
+        let Some(p) = &self.interface_perturbation else {
+            return;
+        };
+        if !(p.amplitude.is_finite() && p.amplitude >= 0.0) {
+            c.bad(
+                "interface_perturbation.amplitude",
+                num(p.amplitude),
+                "a non-negative amplitude in m",
+            );
+        }
+        if !c.positive(
+            "interface_perturbation.wavelength",
+            p.wavelength,
+            "wavelength in m",
+        ) {
+            return;
+        }
+        let Some(domain) = domain else {
+            return;
+        };
+        if self.is_periodic(Axis::X) && !tiles(domain.extent(0), p.wavelength) {
+            let length = domain.extent(0);
+            let n = (length / p.wavelength).round().max(1.0);
+            c.bad(
+                "interface_perturbation.wavelength",
+                num(p.wavelength),
+                &format!(
+                    "a wavelength that tiles the periodic length along x ({} m), e.g. {} m",
+                    num(length),
+                    num(length / n)
+                ),
+            );
+        }
+        let boundaries = self.interior_layer_boundaries();
+        if boundaries.is_empty() {
+            c.bad(
+                "interface_perturbation",
+                format!(
+                    "(amplitude: {}, wavelength: {})",
+                    num(p.amplitude),
+                    num(p.wavelength)
+                ),
+                "None, or Layer regions with a boundary inside the domain to perturb",
+            );
+        }
+        let (lo, hi) = (domain.lower[1], domain.upper[1]);
+        for y0 in boundaries {
+            if y0 - p.amplitude <= lo || y0 + p.amplitude >= hi {
+                c.bad(
+                    "interface_perturbation.amplitude",
+                    num(p.amplitude),
+                    &format!(
+                        "an amplitude keeping the interface at y = {} inside the domain \
+                         ({} … {})",
+                        num(y0),
+                        num(lo),
+                        num(hi)
+                    ),
+                );
+                break;
+            }
+        }
+    }
+
+    fn check_scales(&self, c: &mut Checker) {
+        let s = &self.scales;
+        c.positive(
+            "scales.expected_max_speed",
+            s.expected_max_speed,
+            "speed in m/s (the largest flow speed you expect)",
+        );
+        if let Some(length) = s.reference_length {
+            c.positive("scales.reference_length", length, "length in m");
+        }
+        if let Some(speed) = s.sound_speed {
+            c.positive("scales.sound_speed", speed, "sound speed in m/s");
+        }
+    }
+
+    fn check_initial_velocity(&self, c: &mut Checker, dim: Option<usize>) {
+        let umax = self.scales.expected_max_speed;
+        match &self.initial_velocity {
+            InitialVelocity::Rest => {}
+            InitialVelocity::Uniform { velocity } => {
+                let path = "initial_velocity.velocity";
+                if c.vector(path, velocity, dim, "velocity in m/s") {
+                    let speed = velocity.iter().map(|x| x * x).sum::<f64>().sqrt();
+                    if speed > umax {
+                        c.bad(
+                            path,
+                            vec_str(velocity),
+                            &format!(
+                                "a speed no larger than scales.expected_max_speed = {} m/s \
+                                 (or raise that)",
+                                num(umax)
+                            ),
+                        );
+                    }
+                }
+            }
+            InitialVelocity::TaylorGreen { amplitude } => {
+                let path = "initial_velocity.amplitude";
+                if !(amplitude.is_finite() && *amplitude >= 0.0) {
+                    c.bad(path, num(*amplitude), "a non-negative speed in m/s");
+                } else if *amplitude > umax {
+                    c.bad(
+                        path,
+                        num(*amplitude),
+                        &format!(
+                            "a speed no larger than scales.expected_max_speed = {} m/s \
+                             (or raise that)",
+                            num(umax)
+                        ),
+                    );
+                }
+                let needed: Vec<Axis> = match dim {
+                    Some(3) => vec![Axis::X, Axis::Y, Axis::Z],
+                    _ => vec![Axis::X, Axis::Y],
+                };
+                let lengths_ok = self.domain.lower.len() == needed.len()
+                    && self.domain.upper.len() == needed.len();
+                if lengths_ok {
+                    let lx = self.extent(0);
+                    let square =
+                        (1..needed.len()).all(|a| (self.extent(a) - lx).abs() <= 1e-9 * lx.abs());
+                    if !square {
+                        c.bad(
+                            "domain.upper",
+                            vec_str(&self.domain.upper),
+                            "a square (cube) domain: the Taylor–Green vortex uses one \
+                             wavelength along every axis",
+                        );
+                    }
+                }
+                if !needed.iter().all(|&a| self.is_periodic(a)) {
+                    c.bad(
+                        "domain.periodic",
+                        format!("{:?}", self.domain.periodic),
+                        &format!("{needed:?}: the Taylor–Green vortex needs every axis periodic"),
+                    );
+                }
+            }
+        }
+    }
+
+    fn check_walls(&self, c: &mut Checker, dim: Option<usize>, spacing_ok: bool) {
+        let support = self.particles.kernel.support_factor() * self.particles.smoothing_ratio;
+        let needed_layers = (support - 1e-9).ceil().max(1.0);
+        let mut sides = HashSet::new();
+        for (i, wall) in self.walls.iter().enumerate() {
+            let path = format!("walls[{i}]");
+            let axis = wall.side.axis();
+            if let Some(d) = dim {
+                if axis.index() >= d {
+                    c.bad(
+                        format!("{path}.side"),
+                        format!("{:?}", wall.side),
+                        &format!("a side of a {d}D box ({})", sides_list(d)),
+                    );
+                }
+            }
+            if !sides.insert(wall.side) {
+                c.bad(
+                    format!("{path}.side"),
+                    format!("{:?}", wall.side),
+                    "each side walled at most once",
+                );
+            }
+            if self.is_periodic(axis) {
+                c.bad(
+                    format!("{path}.side"),
+                    format!("{:?}", wall.side),
+                    &format!(
+                        "a side whose axis is not periodic ({axis:?} is listed in \
+                         domain.periodic); remove this wall or that periodic axis"
+                    ),
+                );
+            }
+            if spacing_ok && f64::from(wall.layers) < needed_layers {
+                c.bad(
+                    format!("{path}.layers"),
+                    wall.layers.to_string(),
+                    &format!(
+                        "at least {needed_layers} layers, so that layers · dx covers the \
+                         {:?} kernel support of {} dx",
+                        self.particles.kernel,
+                        num(support)
+                    ),
+                );
+            }
+            if let Some(v) = &wall.velocity {
+                let vpath = format!("{path}.velocity");
+                if c.vector(&vpath, v, dim, "wall velocity in m/s") {
+                    if v[axis.index()] != 0.0 {
+                        c.bad(
+                            &vpath,
+                            vec_str(v),
+                            &format!(
+                                "a velocity along the wall: its {axis:?} component must be 0 \
+                                 (walls slide, they do not move through the fluid)"
+                            ),
+                        );
+                    }
+                    let speed = v.iter().map(|x| x * x).sum::<f64>().sqrt();
+                    if speed > self.scales.expected_max_speed {
+                        c.bad(
+                            &vpath,
+                            vec_str(v),
+                            &format!(
+                                "a speed no larger than scales.expected_max_speed = {} m/s \
+                                 (or raise that)",
+                                num(self.scales.expected_max_speed)
+                            ),
+                        );
+                    }
+                }
+            }
+        }
+        if let Some(d) = dim {
+            for side in Side::ALL {
+                let axis = side.axis();
+                if axis.index() < d && !self.is_periodic(axis) && !sides.contains(&side) {
+                    c.bad(
+                        "walls",
+                        format!("no wall on side {side:?}"),
+                        &format!(
+                            "a wall (side: {side:?}) or {axis:?} in domain.periodic: free \
+                             surfaces are not supported"
+                        ),
+                    );
+                }
+            }
+        }
+    }
+
+    fn check_equation_of_state(&self, c: &mut Checker) {
+        let background = match &self.equation_of_state {
+            EquationOfState::Linear {
+                background_pressure,
+            } => background_pressure,
+            EquationOfState::Tait {
+                exponent,
+                background_pressure,
+            } => {
+                if !(exponent.is_finite() && *exponent >= 1.0) {
+                    c.bad(
+                        "equation_of_state.exponent",
+                        num(*exponent),
+                        "an exponent of at least 1 (7 is common for water)",
+                    );
+                }
+                background_pressure
+            }
+        };
+        if !(background.is_finite() && *background >= 0.0) {
+            c.bad(
+                "equation_of_state.background_pressure",
+                num(*background),
+                "a non-negative pressure in Pa",
+            );
+        }
+    }
+
+    fn check_run_settings(&self, c: &mut Checker) {
+        let tol = self.density_tolerance;
+        if !(tol.is_finite() && tol > 0.0 && tol < 1.0) {
+            c.bad(
+                "density_tolerance",
+                num(tol),
+                "a fraction between 0 and 1, e.g. 0.05 for 5 %",
+            );
+        }
+        let f = &self.time_step;
+        for (name, value) in [
+            ("acoustic", f.acoustic),
+            ("viscous", f.viscous),
+            ("force", f.force),
+        ] {
+            if !(value.is_finite() && value > 0.0 && value <= 1.0) {
+                c.bad(
+                    format!("time_step.{name}"),
+                    num(value),
+                    "a safety factor in (0, 1]",
+                );
+            }
+        }
+        c.positive("time.end", self.time.end, "end time in s");
+        c.positive(
+            "time.snapshot_interval",
+            self.time.snapshot_interval,
+            "interval in s",
+        );
+        if let Some(interval) = self.time.sample_interval {
+            c.positive("time.sample_interval", interval, "interval in s");
+        }
+    }
+
+    fn check_output(&self, c: &mut Checker, dim: Option<usize>, domain: Option<&Box_>) {
+        let o = &self.output;
+        if let Some(folder) = &o.folder {
+            if folder.trim().is_empty() {
+                c.bad(
+                    "output.folder",
+                    format!("{folder:?}"),
+                    "a folder path, or None",
+                );
+            }
+        }
+        c.positive(
+            "output.checkpoint_minutes",
+            o.checkpoint_minutes,
+            "number of wall-clock minutes",
+        );
+        let mut names = HashSet::new();
+        for (i, probe) in o.probes.iter().enumerate() {
+            let path = format!("output.probes[{i}]");
+            if probe.name().trim().is_empty() || !names.insert(probe.name()) {
+                c.bad(
+                    format!("{path}.name"),
+                    format!("{:?}", probe.name()),
+                    "a non-empty name no other probe has",
+                );
+            }
+            let points: Vec<(&str, &Vec<f64>)> = match probe {
+                Probe::Point { at, .. } => vec![("at", at)],
+                Probe::Line {
+                    from, to, samples, ..
+                } => {
+                    if *samples < 2 {
+                        c.bad(
+                            format!("{path}.samples"),
+                            samples.to_string(),
+                            "at least 2 sample points",
+                        );
+                    }
+                    vec![("from", from), ("to", to)]
+                }
+            };
+            for (field, point) in points {
+                let fpath = format!("{path}.{field}");
+                if c.vector(&fpath, point, dim, "position in m") {
+                    if let Some(domain) = domain {
+                        if !domain.contains(point) {
+                            c.bad(&fpath, vec_str(point), &domain.describe());
+                        }
+                    }
+                }
+            }
+        }
+        let mut seen = HashSet::new();
+        for (i, analysis) in o.analyses.iter().enumerate() {
+            if !seen.insert(*analysis) {
+                c.bad(
+                    format!("output.analyses[{i}]"),
+                    format!("{analysis:?}"),
+                    "each analysis listed once",
+                );
+            }
+        }
+    }
+}
+
+fn axis_name(axis: usize) -> &'static str {
+    ["x", "y", "z"].get(axis).copied().unwrap_or("?")
+}
+
+fn axes_list(dim: usize) -> &'static str {
+    if dim == 3 { "X, Y, Z" } else { "X, Y" }
+}
+
+fn sides_list(dim: usize) -> &'static str {
+    if dim == 3 {
+        "Left, Right, Bottom, Top, Back, Front"
+    } else {
+        "Left, Right, Bottom, Top"
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn tiling_accepts_whole_multiples_only() {
+        assert!(tiles(1.0e-3, 1.0e-3 / 30.0));
+        assert!(tiles(4.0e-3, 2.0e-3));
+        assert!(!tiles(1.0e-3, 0.3e-3));
+        assert!(!tiles(1.0e-3, 3.0e-3));
+    }
+}
