@@ -1,5 +1,20 @@
 //! Neighbour search for particle methods (no physics here).
+//!
+//! A [`CellList`] bins particles into a uniform grid of cells at least one search radius
+//! wide, sorts them by cell with a parallel counting sort, and visits, for any particle,
+//! every other particle closer than the radius with its minimum-image displacement.
+//! Periodic axes need no ghost copies. 2D and 3D share one implementation over [`Vector`].
 
+mod cell_list;
+mod domain;
+mod error;
+mod grid;
+mod permute;
 mod vector;
 
+pub use cell_list::{CellList, GridOptions, MAX_PARTICLES};
+pub use domain::Domain;
+pub use error::CellError;
+pub use grid::{CellOrder, MAX_CELLS};
+pub use permute::apply_permutation;
 pub use vector::Vector;

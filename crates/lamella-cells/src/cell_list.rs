@@ -1,0 +1,410 @@
+//! The cell list: particles counting-sorted by cell, and fixed-radius neighbour visits.
+
+use rayon::prelude::*;
+
+use crate::domain::fold;
+use crate::grid::{CellOrder, Grid, morton_ranks};
+use crate::{CellError, Domain, Vector};
+
+/// Particles per block when binning in parallel.
+const BIN_BLOCK: usize = 4096;
+/// Fewer particles than this are binned on one thread.
+const PARALLEL_THRESHOLD: usize = 1 << 15;
+/// Upper bound on the per-thread cell histograms kept between rebuilds (memory guard).
+const MAX_HISTOGRAMS: usize = 4;
+/// Largest particle count a list accepts (indices and offsets are `u32`).
+pub const MAX_PARTICLES: usize = u32::MAX as usize - 1;
+
+/// Options of a [`CellList`] beyond the domain and the radius.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct GridOptions {
+    /// Extra cell width so that queries stay exact while particles move: if no particle
+    /// has moved more than `margin / 2` since the last rebuild, every pair now closer than
+    /// the radius is still visited. Zero (the default) means queries need the positions
+    /// given to the last rebuild.
+    pub margin: f64,
+    /// Memory order of the cells (row-major by default: measured faster, see the README).
+    pub order: CellOrder,
+}
+
+/// A uniform grid of cells at least `radius` wide with the particles sorted by cell.
+///
+/// After [`rebuild`](Self::rebuild), particle `k` of the sorted order is the particle
+/// `permutation()[k]` of the slice given. Queries speak of the sorted order: reorder every
+/// particle array with [`apply_permutation`](crate::apply_permutation) and pass the
+/// reordered positions; the particles of one cell are then a contiguous index range.
+#[derive(Debug, Clone)]
+pub struct CellList<V: Vector> {
+    domain: Domain<V>,
+    radius: f64,
+    radius_squared: f64,
+    options: GridOptions,
+    grid: Grid,
+    /// Period and half period of each periodic axis (zero on the others).
+    period: [f64; 3],
+    half_period: [f64; 3],
+    /// Morton order only: rank of each row-major cell, and row-major cell of each rank.
+    rank_of_cell: Vec<u32>,
+    cell_of_rank: Vec<u32>,
+    /// `cell_start[r]..cell_start[r + 1]` are the sorted particles of the cell of rank `r`.
+    cell_start: Vec<u32>,
+    /// Old index of the `k`-th sorted particle.
+    permutation: Vec<u32>,
+    /// Row-major cell of the `k`-th sorted particle (holds sort keys during a rebuild).
+    sorted_cell: Vec<u32>,
+    /// Per-block cell histograms, reused between rebuilds.
+    histograms: Vec<u32>,
+}
+
+impl<V: Vector> CellList<V> {
+    /// An empty list over `domain` for neighbours closer than `radius`.
+    pub fn new(domain: Domain<V>, radius: f64) -> Result<Self, CellError> {
+        Self::with_options(domain, radius, GridOptions::default())
+    }
+
+    /// An empty list with a movement margin or a cell order other than the default.
+    pub fn with_options(
+        domain: Domain<V>,
+        radius: f64,
+        options: GridOptions,
+    ) -> Result<Self, CellError> {
+        let domain = Domain::new(domain.lower, domain.upper, domain.periodic)?;
+        if !(radius.is_finite() && radius > 0.0) {
+            return Err(CellError::InvalidRadius { radius });
+        }
+        if !(options.margin.is_finite() && options.margin >= 0.0) {
+            return Err(CellError::InvalidMargin {
+                margin: options.margin,
+            });
+        }
+        let mut period = [0.0; 3];
+        let mut half_period = [0.0; 3];
+        for axis in (0..V::DIM).filter(|&a| domain.periodic[a]) {
+            let extent = domain.extent().get(axis);
+            if extent < 2.0 * radius {
+                return Err(CellError::PeriodicTooShort {
+                    axis,
+                    extent,
+                    radius,
+                });
+            }
+            period[axis] = extent;
+            half_period[axis] = 0.5 * extent;
+        }
+        let grid = Grid::new(&domain, radius + options.margin)?;
+        let (rank_of_cell, cell_of_rank) = match options.order {
+            CellOrder::RowMajor => (Vec::new(), Vec::new()),
+            CellOrder::Morton => morton_ranks(&grid),
+        };
+        let cell_start = vec![0; grid.total() + 1];
+        Ok(Self {
+            domain,
+            radius,
+            radius_squared: radius * radius,
+            options,
+            grid,
+            period,
+            half_period,
+            rank_of_cell,
+            cell_of_rank,
+            cell_start,
+            permutation: Vec::new(),
+            sorted_cell: Vec::new(),
+            histograms: Vec::new(),
+        })
+    }
+
+    /// The search radius.
+    pub fn radius(&self) -> f64 {
+        self.radius
+    }
+
+    /// The domain.
+    pub fn domain(&self) -> &Domain<V> {
+        &self.domain
+    }
+
+    /// The options the list was made with.
+    pub fn options(&self) -> GridOptions {
+        self.options
+    }
+
+    /// Number of particles binned by the last rebuild.
+    pub fn len(&self) -> usize {
+        self.permutation.len()
+    }
+
+    /// True when the last rebuild had no particles (or failed).
+    pub fn is_empty(&self) -> bool {
+        self.permutation.is_empty()
+    }
+
+    /// Cells per axis (1 on axes beyond `V::DIM`).
+    pub fn cells_per_axis(&self) -> [usize; 3] {
+        self.grid.dims
+    }
+
+    /// `permutation()[k]` = index, in the slice given to the last rebuild, of the particle
+    /// that goes `k`-th: sorted by cell, and by index within a cell.
+    pub fn permutation(&self) -> &[u32] {
+        &self.permutation
+    }
+
+    /// Heap bytes held by the structure (capacity × element size of every buffer).
+    pub fn heap_bytes(&self) -> usize {
+        [
+            &self.rank_of_cell,
+            &self.cell_of_rank,
+            &self.cell_start,
+            &self.permutation,
+            &self.sorted_cell,
+            &self.histograms,
+        ]
+        .iter()
+        .map(|buffer| buffer.capacity() * std::mem::size_of::<u32>())
+        .sum()
+    }
+
+    /// Bins `positions` by cell (in parallel; the result does not depend on the thread
+    /// count), reusing the allocations of earlier rebuilds.
+    ///
+    /// On error the list is left empty and the error names the first offending particle.
+    pub fn rebuild(&mut self, positions: &[V]) -> Result<(), CellError> {
+        let n = positions.len();
+        if n > MAX_PARTICLES {
+            self.clear();
+            return Err(CellError::TooManyParticles {
+                count: n,
+                limit: MAX_PARTICLES,
+            });
+        }
+        self.sorted_cell.resize(n, 0);
+        self.permutation.resize(n, 0);
+        if let Err(error) = self.compute_keys(positions) {
+            self.clear();
+            return Err(error);
+        }
+        self.counting_sort();
+        self.record_sorted_cells();
+        Ok(())
+    }
+
+    /// Forgets every particle, keeping the allocations.
+    fn clear(&mut self) {
+        self.permutation.clear();
+        self.sorted_cell.clear();
+        self.cell_start.fill(0);
+    }
+
+    /// Writes the sort key (cell rank) of every particle into `sorted_cell`, in input order.
+    fn compute_keys(&mut self, positions: &[V]) -> Result<(), CellError> {
+        let grid = &self.grid;
+        let rank = &self.rank_of_cell;
+        let key_block = |start: usize, keys: &mut [u32], block: &[V]| -> Option<CellError> {
+            for (offset, (key, &x)) in keys.iter_mut().zip(block).enumerate() {
+                match grid.cell_of(x, start + offset) {
+                    Ok(id) => *key = if rank.is_empty() { id as u32 } else { rank[id] },
+                    Err(error) => return Some(error),
+                }
+            }
+            None
+        };
+        let error = if positions.len() < PARALLEL_THRESHOLD {
+            key_block(0, &mut self.sorted_cell, positions)
+        } else {
+            self.sorted_cell
+                .par_chunks_mut(BIN_BLOCK)
+                .zip(positions.par_chunks(BIN_BLOCK))
+                .enumerate()
+                .find_map_first(|(b, (keys, block))| key_block(b * BIN_BLOCK, keys, block))
+        };
+        error.map_or(Ok(()), Err)
+    }
+
+    /// Stable counting sort of the particles by key: fills `cell_start` and `permutation`.
+    ///
+    /// The particles are split into `parts` contiguous parts, each with its own histogram;
+    /// a stable sort has one result, so the split (and the thread count) does not change it.
+    fn counting_sort(&mut self) {
+        let n = self.sorted_cell.len();
+        let cells = self.grid.total();
+        let parts = if n < PARALLEL_THRESHOLD {
+            1
+        } else {
+            rayon::current_num_threads().clamp(1, MAX_HISTOGRAMS)
+        };
+        let part_len = n.div_ceil(parts).max(1);
+        self.histograms.clear();
+        self.histograms.resize(parts * cells, 0);
+        let keys = &self.sorted_cell;
+        self.histograms
+            .par_chunks_mut(cells)
+            .zip(keys.par_chunks(part_len))
+            .for_each(|(histogram, part)| {
+                for &key in part {
+                    histogram[key as usize] += 1;
+                }
+            });
+        // Exclusive prefix sum over (cell, part): each part's cursor into the sorted order.
+        let mut running = 0u32;
+        for cell in 0..cells {
+            self.cell_start[cell] = running;
+            for part in 0..parts {
+                let slot = &mut self.histograms[part * cells + cell];
+                let count = *slot;
+                *slot = running;
+                running += count;
+            }
+        }
+        self.cell_start[cells] = running;
+        let permutation = SharedSlots(self.permutation.as_mut_ptr());
+        self.histograms
+            .par_chunks_mut(cells)
+            .zip(keys.par_chunks(part_len))
+            .enumerate()
+            .for_each(|(part, (cursor, part_keys))| {
+                let base = part * part_len;
+                for (offset, &key) in part_keys.iter().enumerate() {
+                    let slot = cursor[key as usize] as usize;
+                    cursor[key as usize] += 1;
+                    debug_assert!(slot < n);
+                    // SAFETY: the cursors of all parts start at disjoint offsets of the
+                    // prefix sum and each advances once per particle counted for it, so
+                    // every slot in 0..n is written exactly once, by one thread, and
+                    // `permutation` has length n.
+                    unsafe { permutation.write(slot, (base + offset) as u32) };
+                }
+            });
+    }
+
+    /// Overwrites the keys with the row-major cell of each sorted particle.
+    fn record_sorted_cells(&mut self) {
+        let cells = self.grid.total();
+        for rank in 0..cells {
+            let (a, b) = (
+                self.cell_start[rank] as usize,
+                self.cell_start[rank + 1] as usize,
+            );
+            if a < b {
+                let id = if self.cell_of_rank.is_empty() {
+                    rank as u32
+                } else {
+                    self.cell_of_rank[rank]
+                };
+                self.sorted_cell[a..b].fill(id);
+            }
+        }
+    }
+
+    /// Visits every particle `j != i` with `|r_ij| < radius`, where `r_ij = x_i − x_j` is the
+    /// minimum-image displacement, calling `f(j, r_ij, |r_ij|)` in a fixed order (by stencil
+    /// cell, then by index). Indices and `positions` are in the sorted order of the last
+    /// rebuild; positions may have moved by up to `margin / 2` since (see [`GridOptions`]).
+    ///
+    /// Panics if `positions.len()` differs from the count given to the last rebuild.
+    #[inline]
+    pub fn for_each_neighbour<F: FnMut(usize, V, f64)>(&self, positions: &[V], i: usize, f: F) {
+        self.visit(positions, i, 0, f);
+    }
+
+    /// Like [`for_each_neighbour`](Self::for_each_neighbour) but only neighbours `j > i`:
+    /// the half stencil, for work that handles each pair once.
+    #[inline]
+    pub fn for_each_neighbour_above<F: FnMut(usize, V, f64)>(
+        &self,
+        positions: &[V],
+        i: usize,
+        f: F,
+    ) {
+        self.visit(positions, i, i + 1, f);
+    }
+
+    /// Visits every pair `i < j` closer than the radius once, as `f(i, j, r_ij, |r_ij|)`,
+    /// in increasing `i` (sequential).
+    pub fn for_each_pair<F: FnMut(usize, usize, V, f64)>(&self, positions: &[V], mut f: F) {
+        for i in 0..positions.len() {
+            self.visit(positions, i, i + 1, |j, r, d| f(i, j, r, d));
+        }
+    }
+
+    /// Candidates are the particles of the stencil cells with index `>= first`.
+    #[inline]
+    fn visit<F: FnMut(usize, V, f64)>(&self, positions: &[V], i: usize, first: usize, mut f: F) {
+        assert_eq!(
+            positions.len(),
+            self.permutation.len(),
+            "neighbour query with {} positions, but the cell list was rebuilt with {}",
+            positions.len(),
+            self.permutation.len()
+        );
+        let xi = positions[i];
+        let c = self.grid.coords(self.sorted_cell[i] as usize);
+        let mut scan = |a: usize, b: usize| {
+            let a = a.max(first);
+            for (j, &xj) in positions.iter().enumerate().take(b).skip(a) {
+                let mut r = xi - xj;
+                for axis in 0..V::DIM {
+                    if self.grid.periodic[axis] {
+                        let (l, h) = (self.period[axis], self.half_period[axis]);
+                        r.set(axis, fold(r.get(axis), l, h));
+                    }
+                }
+                let d2 = r.length_squared();
+                if d2 < self.radius_squared && j != i {
+                    f(j, r, d2.sqrt());
+                }
+            }
+        };
+        let (zs, nz) = if V::DIM > 2 {
+            self.grid.axis_neighbours(2, c[2])
+        } else {
+            ([0, 0, 0], 1)
+        };
+        let (ys, ny) = self.grid.axis_neighbours(1, c[1]);
+        let (xs, nx) = self.grid.axis_neighbours(0, c[0]);
+        for &z in &zs[..nz] {
+            for &y in &ys[..ny] {
+                if self.cell_of_rank.is_empty() {
+                    // Row-major: consecutive x cells of a row are one index range.
+                    let row = self.grid.id([0, y, z]);
+                    let mut k = 0;
+                    while k < nx {
+                        let mut end = k;
+                        while end + 1 < nx && xs[end + 1] == xs[end] + 1 {
+                            end += 1;
+                        }
+                        let a = self.cell_start[row + xs[k]] as usize;
+                        let b = self.cell_start[row + xs[end] + 1] as usize;
+                        scan(a, b);
+                        k = end + 1;
+                    }
+                } else {
+                    for &x in &xs[..nx] {
+                        let rank = self.rank_of_cell[self.grid.id([x, y, z])] as usize;
+                        scan(
+                            self.cell_start[rank] as usize,
+                            self.cell_start[rank + 1] as usize,
+                        );
+                    }
+                }
+            }
+        }
+    }
+}
+
+/// A raw pointer to the permutation shared by the threads of a counting sort.
+#[derive(Clone, Copy)]
+struct SharedSlots(*mut u32);
+
+// SAFETY: threads write disjoint slots only (see `counting_sort`).
+unsafe impl Send for SharedSlots {}
+unsafe impl Sync for SharedSlots {}
+
+impl SharedSlots {
+    /// # Safety
+    /// `slot` is in bounds and no other thread touches it concurrently.
+    #[inline]
+    unsafe fn write(self, slot: usize, value: u32) {
+        unsafe { *self.0.add(slot) = value };
+    }
+}

@@ -1,0 +1,220 @@
+//! Geometry of the uniform cell grid: which cell a position falls in, and the order cells are
+//! laid out in memory.
+
+use crate::domain::wrap_coordinate;
+use crate::{CellError, Domain, Vector};
+
+/// The most cells one grid may have (keeps cell indices and offsets within `u32`).
+pub const MAX_CELLS: usize = 1 << 28;
+
+/// How cells are ordered in memory (particles are sorted by this order).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum CellOrder {
+    /// x fastest, then y, then z. A row of stencil cells is one contiguous index range.
+    #[default]
+    RowMajor,
+    /// Z-order (Morton) curve: bits of the cell coordinates interleaved.
+    Morton,
+}
+
+/// A uniform grid over a domain: `dims[a]` cells of width at least the requested size on axis `a`.
+#[derive(Debug, Clone)]
+pub(crate) struct Grid {
+    pub dims: [usize; 3],
+    pub periodic: [bool; 3],
+    lower: [f64; 3],
+    upper: [f64; 3],
+    inv_width: [f64; 3],
+}
+
+impl Grid {
+    /// The grid with the most cells on each axis such that every cell is at least
+    /// `min_width` wide (a relative safety of 1e-9 absorbs rounding in the cell index).
+    pub fn new<V: Vector>(domain: &Domain<V>, min_width: f64) -> Result<Self, CellError> {
+        let mut grid = Grid {
+            dims: [1; 3],
+            periodic: [false; 3],
+            lower: [0.0; 3],
+            upper: [1.0; 3],
+            inv_width: [1.0; 3],
+        };
+        let mut total = 1.0f64;
+        let safe_width = min_width * (1.0 + 1e-9);
+        for axis in 0..V::DIM {
+            let (lo, up) = (domain.lower.get(axis), domain.upper.get(axis));
+            let extent = up - lo;
+            let cells = (extent / safe_width).floor().max(1.0);
+            total *= cells;
+            if total > MAX_CELLS as f64 {
+                continue;
+            }
+            let cells = cells as usize;
+            grid.dims[axis] = cells;
+            grid.periodic[axis] = domain.periodic[axis];
+            grid.lower[axis] = lo;
+            grid.upper[axis] = up;
+            grid.inv_width[axis] = cells as f64 / extent;
+        }
+        if total > MAX_CELLS as f64 {
+            return Err(CellError::TooManyCells {
+                cells: total,
+                limit: MAX_CELLS,
+            });
+        }
+        Ok(grid)
+    }
+
+    /// Number of cells.
+    #[inline]
+    pub fn total(&self) -> usize {
+        self.dims[0] * self.dims[1] * self.dims[2]
+    }
+
+    /// Row-major id of the cell holding `x` (the `index`-th particle, named in errors).
+    /// Periodic coordinates are folded into the box first; non-periodic ones must lie in
+    /// the closed box `[lower, upper]`.
+    #[inline]
+    pub fn cell_of<V: Vector>(&self, x: V, index: usize) -> Result<usize, CellError> {
+        let mut id = 0;
+        for axis in (0..V::DIM).rev() {
+            let mut c = x.get(axis);
+            if !c.is_finite() {
+                return Err(CellError::NonFinite { index });
+            }
+            let (lo, up) = (self.lower[axis], self.upper[axis]);
+            if self.periodic[axis] {
+                c = wrap_coordinate(c, lo, up);
+            } else if c < lo || c > up {
+                return Err(CellError::OutsideDomain {
+                    index,
+                    position: (0..V::DIM).map(|a| x.get(a)).collect(),
+                });
+            }
+            let n = self.dims[axis];
+            // `c - lo` is in [0, extent], so the product is in [0, n]: clamp the top edge.
+            let k = (((c - lo) * self.inv_width[axis]) as usize).min(n - 1);
+            id = id * n + k;
+        }
+        Ok(id)
+    }
+
+    /// Cell coordinates of a row-major cell id.
+    #[inline]
+    pub fn coords(&self, id: usize) -> [usize; 3] {
+        let x = id % self.dims[0];
+        let rest = id / self.dims[0];
+        [x, rest % self.dims[1], rest / self.dims[1]]
+    }
+
+    /// Row-major id of cell coordinates.
+    #[inline]
+    pub fn id(&self, c: [usize; 3]) -> usize {
+        c[0] + self.dims[0] * (c[1] + self.dims[1] * c[2])
+    }
+
+    /// The distinct cells next to (and including) cell coordinate `c` on `axis`, ascending.
+    /// On a periodic axis the neighbours wrap; with fewer than 3 cells every cell is listed once.
+    #[inline]
+    pub fn axis_neighbours(&self, axis: usize, c: usize) -> ([usize; 3], usize) {
+        let n = self.dims[axis];
+        if n <= 3 && (self.periodic[axis] || n == 1) {
+            // Every cell of the axis is a neighbour (3 periodic cells, or a single cell).
+            return ([0, 1, 2], n);
+        }
+        if self.periodic[axis] {
+            if c == 0 {
+                ([0, 1, n - 1], 3)
+            } else if c == n - 1 {
+                ([0, n - 2, n - 1], 3)
+            } else {
+                ([c - 1, c, c + 1], 3)
+            }
+        } else if c == 0 {
+            ([0, 1, 0], 2)
+        } else if c == n - 1 {
+            ([c - 1, c, 0], 2)
+        } else {
+            ([c - 1, c, c + 1], 3)
+        }
+    }
+}
+
+/// Rank of every cell along the Morton curve (`rank[id]`) and its inverse (`cell[rank]`).
+pub(crate) fn morton_ranks(grid: &Grid) -> (Vec<u32>, Vec<u32>) {
+    let total = grid.total();
+    let mut by_code: Vec<(u64, u32)> = (0..total)
+        .map(|id| (morton_code(grid.coords(id)), id as u32))
+        .collect();
+    by_code.sort_unstable();
+    let mut rank = vec![0u32; total];
+    let cell: Vec<u32> = by_code.iter().map(|&(_, id)| id).collect();
+    for (r, &id) in cell.iter().enumerate() {
+        rank[id as usize] = r as u32;
+    }
+    (rank, cell)
+}
+
+/// Morton code: bit `b` of coordinate `a` goes to bit `3b + a` (up to 21 bits per axis).
+fn morton_code(c: [usize; 3]) -> u64 {
+    let mut code = 0u64;
+    for bit in 0..21 {
+        for (axis, &value) in c.iter().enumerate() {
+            code |= (((value >> bit) & 1) as u64) << (3 * bit + axis);
+        }
+    }
+    code
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use glam::DVec2;
+
+    fn grid(periodic: [bool; 3]) -> Grid {
+        let domain = Domain::new(DVec2::ZERO, DVec2::new(1.0, 0.5), periodic).unwrap();
+        Grid::new(&domain, 0.1).unwrap()
+    }
+
+    #[test]
+    fn cells_are_at_least_the_requested_width() {
+        let g = grid([false; 3]);
+        assert_eq!((g.dims[0], g.dims[1]), (9, 4));
+        let exact = Domain::new(DVec2::ZERO, DVec2::new(1.0, 1.0), [false; 3]).unwrap();
+        // 1.0 / 0.25 is exactly 4, but the safety factor keeps cells strictly wider.
+        assert_eq!(Grid::new(&exact, 0.25).unwrap().dims[0], 3);
+    }
+
+    #[test]
+    fn boundary_positions_land_in_the_edge_cells() {
+        let g = grid([false; 3]);
+        assert_eq!(g.cell_of(DVec2::new(1.0, 0.5), 0).unwrap(), g.total() - 1);
+        assert_eq!(g.cell_of(DVec2::new(0.0, 0.0), 0).unwrap(), 0);
+        assert!(matches!(
+            g.cell_of(DVec2::new(1.0 + 1e-12, 0.2), 7),
+            Err(CellError::OutsideDomain { index: 7, .. })
+        ));
+        let p = grid([true, false, false]);
+        assert_eq!(p.cell_of(DVec2::new(-1e-18, 0.0), 0).unwrap(), 0);
+        assert_eq!(p.cell_of(DVec2::new(1.05, 0.0), 0).unwrap(), 0);
+    }
+
+    #[test]
+    fn axis_neighbours_are_distinct() {
+        let g = grid([true, false, false]);
+        assert_eq!(g.axis_neighbours(0, 0), ([0, 1, 8], 3));
+        assert_eq!(g.axis_neighbours(0, 8), ([0, 7, 8], 3));
+        assert_eq!(g.axis_neighbours(1, 0).1, 2);
+        assert_eq!(g.axis_neighbours(1, 3), ([2, 3, 0], 2));
+    }
+
+    #[test]
+    fn morton_ranks_are_a_permutation() {
+        let g = grid([false; 3]);
+        let (rank, cell) = morton_ranks(&g);
+        for (id, &r) in rank.iter().enumerate() {
+            assert_eq!(cell[r as usize] as usize, id);
+        }
+        assert_eq!(morton_code([1, 1, 0]), 0b11);
+        assert_eq!(morton_code([2, 0, 0]), 0b1000);
+    }
+}

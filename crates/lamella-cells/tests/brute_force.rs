@@ -1,0 +1,245 @@
+//! Property tests: the cell list finds exactly the neighbours an O(N²) brute-force search finds,
+//! with the same minimum-image displacements, on random clouds with periodic and non-periodic
+//! axes and the awkward cases (boundaries, one crowded cell, empty lists, one-cell-wide axes).
+
+use glam::{DVec2, DVec3};
+use lamella_cells::{CellList, CellOrder, Domain, GridOptions, Vector, apply_permutation};
+use proptest::prelude::*;
+
+/// Where one coordinate of a particle sits, relative to the grid.
+#[derive(Debug, Clone)]
+enum Place {
+    /// Anywhere in the box (fraction of the extent).
+    Inside(f64),
+    /// Exactly on the boundary between cells `k - 1` and `k` (`k` taken modulo the cell count).
+    CellBoundary(usize),
+    /// Exactly on the lower face.
+    Lower,
+    /// Exactly on the upper face.
+    Upper,
+    /// Near the first cell corner (crowding many particles in one cell).
+    Crowded(f64),
+    /// Outside the box (used on periodic axes only): fraction in [-2, 3].
+    Unwrapped(f64),
+}
+
+fn place() -> impl Strategy<Value = Place> {
+    prop_oneof![
+        4 => (0.0..1.0f64).prop_map(Place::Inside),
+        1 => (0usize..8).prop_map(Place::CellBoundary),
+        1 => Just(Place::Lower),
+        1 => Just(Place::Upper),
+        1 => (0.0..1e-3f64).prop_map(Place::Crowded),
+        1 => (-2.0..3.0f64).prop_map(Place::Unwrapped),
+    ]
+}
+
+#[derive(Debug, Clone)]
+struct Cloud {
+    /// Extent of each axis in units of the radius (0.5 gives a one-cell-wide axis).
+    extents: [f64; 3],
+    periodic: [bool; 3],
+    lower: [f64; 3],
+    radius: f64,
+    places: Vec<[Place; 3]>,
+    margin: f64,
+    order: CellOrder,
+}
+
+fn extent_for(periodic: bool) -> BoxedStrategy<f64> {
+    if periodic {
+        // At least twice the radius (a hair more, so that rounding of lower + extent cannot
+        // make it shorter); this gives one cell, 2..3 two cells.
+        prop_oneof![Just(2.0 + 1e-12), 2.001..3.0f64, 3.0..9.0f64].boxed()
+    } else {
+        prop_oneof![0.3..1.0f64, 1.0..9.0f64].boxed()
+    }
+}
+
+fn cloud(max_particles: usize) -> impl Strategy<Value = Cloud> {
+    (
+        prop::array::uniform3(any::<bool>()),
+        prop::array::uniform3(-5.0..5.0f64),
+        0.05..2.0f64,
+        prop_oneof![Just(0.0), 0.0..0.5f64],
+        prop_oneof![Just(CellOrder::RowMajor), Just(CellOrder::Morton)],
+    )
+        .prop_flat_map(move |(periodic, lower, radius, margin, order)| {
+            (
+                (
+                    extent_for(periodic[0]),
+                    extent_for(periodic[1]),
+                    extent_for(periodic[2]),
+                ),
+                prop::collection::vec(prop::array::uniform3(place()), 0..max_particles),
+            )
+                .prop_map(move |((ex, ey, ez), places)| Cloud {
+                    extents: [ex, ey, ez],
+                    periodic,
+                    lower,
+                    radius,
+                    places,
+                    margin: margin * radius,
+                    order,
+                })
+        })
+}
+
+/// Builds the domain and positions of a cloud in `V`'s dimension.
+fn realise<V: Vector>(c: &Cloud) -> (CellList<V>, Vec<V>) {
+    let lower = V::from_fn(|a| c.lower[a]);
+    let upper = V::from_fn(|a| c.lower[a] + c.extents[a] * (c.radius + c.margin));
+    let domain = Domain::new(lower, upper, c.periodic).unwrap();
+    let options = GridOptions {
+        margin: c.margin,
+        order: c.order,
+    };
+    let list = CellList::with_options(domain, c.radius, options).unwrap();
+    let cells = list.cells_per_axis();
+    let positions = c
+        .places
+        .iter()
+        .map(|p| {
+            V::from_fn(|a| {
+                let (lo, up) = (lower.get(a), upper.get(a));
+                let extent = up - lo;
+                match p[a] {
+                    Place::Inside(f) => lo + f * extent,
+                    Place::CellBoundary(k) => {
+                        let k = k % cells[a];
+                        lo + extent * k as f64 / cells[a] as f64
+                    }
+                    Place::Lower => lo,
+                    Place::Upper => up,
+                    Place::Crowded(f) => lo + f * extent,
+                    Place::Unwrapped(f) if c.periodic[a] => lo + f * extent,
+                    Place::Unwrapped(f) => lo + f.clamp(0.0, 1.0) * extent,
+                }
+            })
+        })
+        .collect();
+    (list, positions)
+}
+
+/// Every (j, r_ij) with j != i and |r_ij| < radius, by brute force over all pairs, sorted by j.
+fn brute_force<V: Vector>(domain: &Domain<V>, radius: f64, x: &[V], i: usize) -> Vec<(usize, V)> {
+    (0..x.len())
+        .filter(|&j| j != i)
+        .map(|j| (j, domain.minimum_image(x[i] - x[j])))
+        .filter(|(_, r)| r.length_squared() < radius * radius)
+        .collect()
+}
+
+/// Checks the cell list against brute force, in original indices, for every particle.
+fn check<V: Vector>(c: &Cloud) -> Result<(), TestCaseError> {
+    let (mut list, positions) = realise::<V>(c);
+    list.rebuild(&positions).unwrap();
+    let perm = list.permutation().to_vec();
+    let mut seen = perm.clone();
+    seen.sort_unstable();
+    prop_assert_eq!(seen, (0..positions.len() as u32).collect::<Vec<_>>());
+    let mut sorted = positions.clone();
+    apply_permutation(&perm, &mut sorted, &mut Vec::new());
+    let mut pair_count = 0;
+    for k in 0..sorted.len() {
+        let mut found = Vec::new();
+        list.for_each_neighbour(&sorted, k, |j, r, d| {
+            assert!((d - r.length()).abs() <= 1e-12 * d.max(1.0));
+            found.push((perm[j] as usize, r));
+        });
+        found.sort_by_key(|&(j, _)| j);
+        let expected = brute_force(list.domain(), c.radius, &positions, perm[k] as usize);
+        prop_assert_eq!(&found, &expected, "particle {} (sorted {})", perm[k], k);
+        let mut above = 0;
+        list.for_each_neighbour_above(&sorted, k, |j, _, _| {
+            assert!(j > k);
+            above += 1;
+        });
+        pair_count += above;
+        prop_assert_eq!(above, found.iter().filter(|&&(j, _)| {
+            let sorted_j = perm.iter().position(|&p| p as usize == j).unwrap();
+            sorted_j > k
+        }).count());
+    }
+    let mut pairs = 0;
+    list.for_each_pair(&sorted, |i, j, _, _| {
+        assert!(i < j);
+        pairs += 1;
+    });
+    prop_assert_eq!(pairs, pair_count);
+    Ok(())
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig { cases: 96, ..ProptestConfig::default() })]
+
+    #[test]
+    fn matches_brute_force_in_2d(c in cloud(120)) {
+        check::<DVec2>(&c)?;
+    }
+
+    #[test]
+    fn matches_brute_force_in_3d(c in cloud(120)) {
+        check::<DVec3>(&c)?;
+    }
+}
+
+#[test]
+fn no_particles_and_one_particle() {
+    let domain = Domain::new(DVec2::ZERO, DVec2::ONE, [true, false, false]).unwrap();
+    let mut list = CellList::new(domain, 0.1).unwrap();
+    list.rebuild(&[]).unwrap();
+    assert!(list.is_empty() && list.permutation().is_empty());
+    let one = [DVec2::new(0.5, 0.5)];
+    list.rebuild(&one).unwrap();
+    assert_eq!(list.permutation(), &[0]);
+    list.for_each_neighbour(&one, 0, |_, _, _| panic!("a lone particle has no neighbour"));
+}
+
+#[test]
+fn periodic_neighbour_across_the_seam_is_found_once_with_the_short_displacement() {
+    // Two cells on the periodic axis: both stencil offsets -1 and +1 name the same cell.
+    let domain = Domain::new(DVec2::ZERO, DVec2::new(2.5, 1.0), [true, false, false]).unwrap();
+    let mut list = CellList::new(domain, 1.0).unwrap();
+    assert_eq!(list.cells_per_axis()[0], 2);
+    let x = [DVec2::new(0.1, 0.5), DVec2::new(2.4, 0.5)];
+    list.rebuild(&x).unwrap();
+    let mut found = Vec::new();
+    list.for_each_neighbour(&x, 0, |j, r, d| found.push((j, r, d)));
+    assert_eq!(found.len(), 1);
+    let (j, r, d) = found[0];
+    assert_eq!(j, 1);
+    assert!((r.x - 0.2).abs() < 1e-12 && r.y == 0.0 && (d - 0.2).abs() < 1e-12);
+}
+
+#[test]
+fn moved_particles_are_still_found_within_the_margin() {
+    let domain = Domain::new(DVec2::ZERO, DVec2::splat(10.0), [false; 3]).unwrap();
+    let options = GridOptions {
+        margin: 0.2,
+        order: CellOrder::RowMajor,
+    };
+    let mut list = CellList::with_options(domain, 1.0, options).unwrap();
+    // Cells are at least 1.2 wide. The pair starts 1.15 apart (not neighbours), then each
+    // particle moves 0.0999 (< margin / 2) towards the other: now 0.9502 apart.
+    let start = vec![DVec2::new(2.2, 5.0), DVec2::new(3.35, 5.0)];
+    let mut y = start.clone();
+    list.rebuild(&y).unwrap();
+    apply_permutation(&list.permutation().to_vec(), &mut y, &mut Vec::new());
+    let mut count = 0;
+    list.for_each_neighbour(&y, 0, |_, _, _| count += 1);
+    assert_eq!(count, 0);
+    y[0].x += 0.0999;
+    y[1].x -= 0.0999;
+    let mut found = Vec::new();
+    list.for_each_neighbour(&y, 0, |j, _, d| found.push((j, d)));
+    assert_eq!(found.len(), 1);
+    assert!((found[0].1 - (1.15 - 0.1998)).abs() < 1e-12);
+    // Without the margin the cells are 10/9 wide and the pair was binned two cells apart,
+    // so the moved pair is missed: the margin is what makes the query above exact.
+    let mut tight = CellList::new(domain, 1.0).unwrap();
+    tight.rebuild(&start).unwrap();
+    let mut tight_count = 0;
+    tight.for_each_neighbour(&y, 0, |_, _, _| tight_count += 1);
+    assert_eq!(tight_count, 0);
+}
