@@ -1,54 +1,12 @@
-//! Quantities derived from a case: smoothing length, sound speed, time step, dimensionless
-//! numbers, layer ratios and memory. Meaningful on a validated case.
+//! Quantities derived from a case: smoothing length, sound speed, dimensionless numbers,
+//! layer ratios and memory. Meaningful on a validated case. (The time step itself is
+//! `lamella_sph::stable_time_step`, fed with these.)
 
-use crate::schema::{Axis, Case, Region, TimeStepFactors};
+use crate::schema::{Axis, Case, Region};
 
 /// Largest relative density variation the automatic sound speed allows, δ in Morris, Fox &
 /// Zhu 1997 §2.4 (c0 ≥ U/√δ gives c0 ≥ 10 U: common practice).
 pub const DENSITY_VARIATION: f64 = 0.01;
-
-/// Which limit set the time step.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Limit {
-    /// Acoustic (CFL) limit C h/(c0 + U).
-    Acoustic,
-    /// Viscous diffusion limit C h²/ν.
-    Viscous,
-    /// Body-force limit C √(h/|a|).
-    Force,
-}
-
-/// The largest stable time step of weakly-compressible SPH:
-/// dt = min(C_ac h/(c0 + U), C_visc h²/ν_max, C_f √(h/|a|))
-/// (Morris, Fox & Zhu 1997, eqs. 33–34; Monaghan 1992, Annu. Rev. Astron. Astrophys. 30).
-///
-/// Zero viscosity or acceleration removes that limit. Returns the step and the binding limit.
-pub fn stable_time_step(
-    h: f64,
-    sound_speed: f64,
-    max_speed: f64,
-    max_kinematic_viscosity: f64,
-    max_acceleration: f64,
-    factors: &TimeStepFactors,
-) -> (f64, Limit) {
-    let mut best = (
-        factors.acoustic * h / (sound_speed + max_speed),
-        Limit::Acoustic,
-    );
-    if max_kinematic_viscosity > 0.0 {
-        let dt = factors.viscous * h * h / max_kinematic_viscosity;
-        if dt < best.0 {
-            best = (dt, Limit::Viscous);
-        }
-    }
-    if max_acceleration > 0.0 {
-        let dt = factors.force * (h / max_acceleration).sqrt();
-        if dt < best.0 {
-            best = (dt, Limit::Force);
-        }
-    }
-    best
-}
 
 /// A Layer region after sorting: which phase fills which band of heights.
 #[derive(Clone, Debug, PartialEq)]
@@ -124,6 +82,11 @@ impl Case {
             .collect()
     }
 
+    /// Largest kinematic viscosity over the phases (m²/s); it sets the viscous time-step limit.
+    pub fn max_kinematic_viscosity(&self) -> f64 {
+        self.kinematic_viscosities().into_iter().fold(0.0, f64::max)
+    }
+
     /// Magnitude of the body force per unit mass (m/s²), zero when none is given.
     pub fn body_force_magnitude(&self) -> f64 {
         self.body_force
@@ -141,7 +104,7 @@ impl Case {
         }
         let u = self.scales.expected_max_speed;
         let length = self.reference_length();
-        let nu = self.kinematic_viscosities().into_iter().fold(0.0, f64::max);
+        let nu = self.max_kinematic_viscosity();
         let delta = DENSITY_VARIATION;
         let c2 = (u * u / delta)
             .max(nu * u / (length * delta))
@@ -169,25 +132,6 @@ impl Case {
         let max = mu.iter().copied().fold(0.0, f64::max);
         let min = mu.iter().copied().fold(f64::INFINITY, f64::min);
         max / min
-    }
-
-    /// The time step the run will start with and the limit that sets it, from the expected
-    /// peak speed, the largest kinematic viscosity and the body force ([`stable_time_step`]).
-    pub fn time_step_estimate(&self) -> (f64, Limit) {
-        let nu_max = self.kinematic_viscosities().into_iter().fold(0.0, f64::max);
-        stable_time_step(
-            self.smoothing_length(),
-            self.sound_speed(),
-            self.scales.expected_max_speed,
-            nu_max,
-            self.body_force_magnitude(),
-            &self.time_step,
-        )
-    }
-
-    /// Number of steps to the end time at the estimated time step.
-    pub fn step_estimate(&self) -> u64 {
-        (self.time.end / self.time_step_estimate().0).ceil() as u64
     }
 
     /// Every Layer region with a known phase, sorted by bottom height.
@@ -275,30 +219,5 @@ impl Case {
     /// Estimated memory of a run with `particles` particles (bytes).
     pub fn memory_estimate(&self, particles: usize) -> usize {
         particles * self.state_bytes_per_particle()
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn time_step_takes_the_binding_limit() {
-        let f = TimeStepFactors::default();
-        // Acoustic: 0.25 · 1e-4 / (1 + 0.1) ≈ 2.27e-5 s; viscous: 0.125 · 1e-8 / 1e-6 = 1.25e-3 s.
-        let (dt, limit) = stable_time_step(1e-4, 1.0, 0.1, 1e-6, 0.0, &f);
-        assert_eq!(limit, Limit::Acoustic);
-        assert!((dt - 0.25e-4 / 1.1).abs() < 1e-15);
-        // Very viscous: 0.125 · 1e-8 / 1e-2 = 1.25e-7 s.
-        let (dt, limit) = stable_time_step(1e-4, 1.0, 0.1, 1e-2, 0.0, &f);
-        assert_eq!(limit, Limit::Viscous);
-        assert!((dt - 1.25e-7).abs() < 1e-18);
-        // Strong force: 0.25 · √(1e-4 / 1e6) = 2.5e-6 s.
-        let (dt, limit) = stable_time_step(1e-4, 1000.0, 0.0, 0.0, 1e6, &f);
-        assert_eq!(limit, Limit::Acoustic);
-        assert!(dt < 2.5e-6);
-        let (dt, limit) = stable_time_step(1e-4, 1.0, 0.0, 0.0, 1e6, &f);
-        assert_eq!(limit, Limit::Force);
-        assert!((dt - 2.5e-6).abs() < 1e-18);
     }
 }

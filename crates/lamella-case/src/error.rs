@@ -124,6 +124,12 @@ pub(crate) fn num(x: f64) -> String {
     }
 }
 
+/// Formats a computed suggestion with nine significant digits (enough to tile a domain).
+pub(crate) fn approx(x: f64) -> String {
+    let rounded: f64 = format!("{x:.8e}").parse().unwrap_or(x);
+    num(rounded)
+}
+
 /// Formats a vector for messages, as it is written in RON.
 pub(crate) fn vec_str(v: &[f64]) -> String {
     let parts: Vec<String> = v.iter().map(|&x| num(x)).collect();
@@ -160,5 +166,6 @@ mod tests {
         assert_eq!(num(2.5e-5), "2.5e-5");
         assert_eq!(num(1000.0), "1000");
         assert_eq!(vec_str(&[0.0, 1.5]), "[0, 1.5]");
+        assert_eq!(approx(1.0e-3 / 33.0), "3.03030303e-5");
     }
 }

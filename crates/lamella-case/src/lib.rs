@@ -12,7 +12,7 @@ pub mod schema;
 pub mod templates;
 mod validate;
 
-pub use derived::{LayerBand, LayerPair, Limit, stable_time_step};
+pub use derived::{LayerBand, LayerPair};
 pub use error::{CaseError, Problem, Warning};
 pub use generate::{Generated, generate};
 pub use load::{check_output_folder, load, parse_str, parse_unvalidated, to_ron};

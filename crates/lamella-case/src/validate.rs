@@ -3,7 +3,7 @@
 
 use std::collections::HashSet;
 
-use crate::error::{Problem, Warning, num, vec_str};
+use crate::error::{Problem, Warning, approx, num, vec_str};
 use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, Side};
 
 /// Accepted smoothing ratios h/dx (inclusive). Common practice is 1.2 … 1.5.
@@ -265,7 +265,7 @@ impl Case {
                          particles, e.g. {} m ({n} particles)",
                         axis_name(axis),
                         num(length),
-                        num(length / n)
+                        approx(length / n)
                     ),
                 );
                 ok = false;
@@ -466,7 +466,7 @@ impl Case {
                 &format!(
                     "a wavelength that tiles the periodic length along x ({} m), e.g. {} m",
                     num(length),
-                    num(length / n)
+                    approx(length / n)
                 ),
             );
         }

@@ -1,0 +1,66 @@
+//! Derived quantities of the bundled cases, checked against values worked by hand.
+
+use std::path::PathBuf;
+
+use lamella_case::{Case, load};
+
+fn case(name: &str) -> Case {
+    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("../../cases")
+        .join(name);
+    load(&path).unwrap_or_else(|err| panic!("{err}"))
+}
+
+fn close(a: f64, b: f64) -> bool {
+    (a - b).abs() <= 1e-9 * b.abs()
+}
+
+#[test]
+fn two_layer_channel_ratios_and_scales() {
+    let c = case("two-layer-channel.ron");
+    assert!(close(c.smoothing_length(), 1.3 * 4.0e-5));
+    assert!(close(c.support_radius(), 2.0 * 1.3 * 4.0e-5));
+    let pairs = c.layer_pairs();
+    assert_eq!(pairs.len(), 1);
+    let pair = &pairs[0];
+    assert_eq!((pair.lower, pair.upper), (0, 1));
+    assert!(close(pair.viscosity_ratio, 5.0), "{pair:?}");
+    assert!(close(pair.width_ratio, 2.0), "{pair:?}");
+    assert!(close(pair.interface, 0.8e-3));
+    // c0² = max(U²/δ, ν_max U/(L δ), F L/δ) (Morris, Fox & Zhu 1997 §2.4), δ = 0.01:
+    // U²/δ = 1.6e-3, ν U/(L δ) = 5e-6·4e-3/(1.2e-3·0.01) = 1.667e-3, F L/δ = 0.05·1.2e-3/0.01 = 6e-3.
+    assert!(
+        close(c.sound_speed(), 6.0e-3f64.sqrt()),
+        "{}",
+        c.sound_speed()
+    );
+    // Re = U L / ν_min = 4e-3 · 1.2e-3 / 1e-6 = 4.8.
+    assert!(close(c.reynolds_number(), 4.8));
+    assert!(close(c.viscosity_contrast(), 5.0));
+    assert!(close(c.max_kinematic_viscosity(), 5.0e-6));
+}
+
+#[test]
+fn sound_speed_floor_is_ten_times_the_speed_without_force() {
+    // Cavity: no body force, ν U/(L δ) = 1e-6·0.1/(1e-3·0.01) = 0.01 < U²/δ = 1, so c0 = 10 U.
+    let c = case("cavity-re100.ron");
+    assert!(close(c.sound_speed(), 1.0));
+    assert!(close(c.reynolds_number(), 100.0));
+    assert!(c.layer_pairs().is_empty());
+}
+
+#[test]
+fn given_sound_speed_wins() {
+    let mut c = case("poiseuille.ron");
+    c.scales.sound_speed = Some(3.0);
+    assert_eq!(c.sound_speed(), 3.0);
+}
+
+#[test]
+fn memory_estimate_scales_with_particles() {
+    let c = case("poiseuille.ron");
+    let per = c.state_bytes_per_particle();
+    // Stored state alone is 3·16 + 4·8 + 11 = 91 bytes in 2D; work arrays and neighbours add more.
+    assert!(per > 91 && per < 1000, "{per}");
+    assert_eq!(c.memory_estimate(1000), 1000 * per);
+}

@@ -1,0 +1,235 @@
+//! Every validation error is produced by a small file in `tests/invalid/`, with the exact
+//! field path (or line and column for syntax) in the message.
+
+use std::path::PathBuf;
+
+use lamella_case::{Problem, load};
+
+fn invalid(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("tests/invalid")
+        .join(format!("{name}.ron"))
+}
+
+/// Loads an invalid file and returns its problems, checking the display form of each.
+fn problems_of(name: &str) -> Vec<Problem> {
+    let path = invalid(name);
+    let err = load(&path).expect_err(&format!("{name}.ron should be invalid"));
+    let text = err.to_string();
+    assert_eq!(text.lines().count(), err.problems.len(), "{text}");
+    for line in text.lines() {
+        assert!(
+            line.starts_with(&path.display().to_string()),
+            "every line names the file: {line}"
+        );
+    }
+    err.problems
+}
+
+/// Asserts that the file's problems include one at exactly `path` whose message mentions
+/// `expected_words`.
+fn assert_problem(name: &str, path: &str, expected_words: &str) {
+    let problems = problems_of(name);
+    let found = problems.iter().find(|p| p.path() == Some(path));
+    let Some(problem) = found else {
+        panic!("{name}.ron: no problem at {path}; got {problems:#?}");
+    };
+    let message = problem.to_string();
+    assert!(
+        message.starts_with(&format!("{path}: bad value ")) && message.contains("; expected "),
+        "{message}"
+    );
+    assert!(
+        message.contains(expected_words),
+        "{name}.ron: {message:?} should mention {expected_words:?}"
+    );
+}
+
+#[test]
+fn the_base_of_the_invalid_files_is_valid() {
+    let base = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/base.ron");
+    load(&base).unwrap();
+}
+
+#[test]
+fn zero_or_negative_viscosity() {
+    assert_problem(
+        "viscosity-zero",
+        "phases[0].viscosity_law.viscosity",
+        "bad value 0; expected a positive dynamic viscosity",
+    );
+    assert_problem(
+        "viscosity-negative",
+        "phases[1].viscosity_law.viscosity",
+        "bad value -0.001;",
+    );
+}
+
+#[test]
+fn zero_or_negative_density() {
+    assert_problem(
+        "density-zero",
+        "phases[0].density",
+        "a positive reference density",
+    );
+    assert_problem("density-negative", "phases[0].density", "bad value -1000;");
+}
+
+#[test]
+fn spacing_not_positive_larger_than_the_domain_or_not_tiling() {
+    assert_problem(
+        "spacing-not-positive",
+        "particles.spacing",
+        "a positive particle spacing",
+    );
+    assert_problem(
+        "spacing-larger-than-domain",
+        "particles.spacing",
+        "no larger than the smallest domain extent 0.001 m",
+    );
+    assert_problem(
+        "spacing-not-tiling",
+        "particles.spacing",
+        "e.g. 3.03030303e-5 m (33 particles)",
+    );
+}
+
+#[test]
+fn region_outside_the_domain() {
+    assert_problem(
+        "layer-outside-domain",
+        "regions[1].top",
+        "inside the domain, 0 … 0.001",
+    );
+    assert_problem(
+        "box-outside-domain",
+        "regions[1].upper",
+        "inside the domain [0, 0]",
+    );
+    assert_problem(
+        "circle-outside-domain",
+        "regions[1].radius",
+        "keeping the circle inside",
+    );
+}
+
+#[test]
+fn unknown_phase() {
+    assert_problem(
+        "unknown-phase",
+        "regions[0].phase",
+        r#"bad value "syrup"; expected one of the phase names: "thick", "thin""#,
+    );
+}
+
+#[test]
+fn periodic_axis_with_walls() {
+    assert_problem(
+        "periodic-axis-with-walls",
+        "walls[2].side",
+        "X is listed in domain.periodic",
+    );
+}
+
+#[test]
+fn smoothing_ratio_outside_the_stable_range() {
+    assert_problem(
+        "smoothing-ratio-too-large",
+        "particles.smoothing_ratio",
+        "within the stable range 1 … 2",
+    );
+    assert_problem(
+        "smoothing-ratio-too-small",
+        "particles.smoothing_ratio",
+        "bad value 0.8;",
+    );
+}
+
+#[test]
+fn wall_layers_must_cover_the_kernel_support() {
+    assert_problem(
+        "wall-layers-short",
+        "walls[0].layers",
+        "at least 3 layers, so that layers · dx covers the WendlandC2 kernel support of 2.6 dx",
+    );
+}
+
+#[test]
+fn perturbation_wavelength_must_tile_the_periodic_length() {
+    assert_problem(
+        "wavelength-not-tiling",
+        "interface_perturbation.wavelength",
+        "tiles the periodic length along x (0.001 m), e.g. 3.33333333e-4 m",
+    );
+}
+
+#[test]
+fn output_folder_that_cannot_be_written() {
+    assert_problem(
+        "output-folder-unwritable",
+        "output.folder",
+        "a folder that can be created and written (/dev/null exists and is not a folder",
+    );
+}
+
+#[test]
+fn non_periodic_side_without_a_wall() {
+    assert_problem(
+        "missing-wall",
+        "walls",
+        "a wall (side: Top) or Y in domain.periodic",
+    );
+}
+
+#[test]
+fn every_problem_is_reported_not_only_the_first() {
+    let problems = problems_of("several-problems");
+    let paths: Vec<&str> = problems.iter().filter_map(|p| p.path()).collect();
+    for expected in [
+        "particles.smoothing_ratio",
+        "phases[0].density",
+        "phases[0].viscosity_law.viscosity",
+        "regions[0].phase",
+    ] {
+        assert!(
+            paths.contains(&expected),
+            "{expected} missing from {paths:?}"
+        );
+    }
+}
+
+#[test]
+fn syntax_errors_give_line_and_column() {
+    let path = invalid("syntax-error");
+    let err = load(&path).unwrap_err();
+    let text = err.to_string();
+    assert!(
+        text.starts_with(&format!("{}:4:5: ", path.display())),
+        "{text}"
+    );
+}
+
+#[test]
+fn unknown_fields_are_errors_with_their_place() {
+    let path = invalid("unknown-field");
+    let err = load(&path).unwrap_err();
+    let text = err.to_string();
+    assert!(
+        text.starts_with(&format!("{}:4:34: ", path.display())),
+        "{text}"
+    );
+    assert!(text.contains("smothing_ratio"), "{text}");
+    assert!(
+        text.contains("smoothing_ratio"),
+        "the valid names are listed: {text}"
+    );
+}
+
+#[test]
+fn a_missing_file_is_a_clear_error() {
+    let err = load(&invalid("does-not-exist")).unwrap_err();
+    assert!(
+        err.to_string().contains("cannot read the case file"),
+        "{err}"
+    );
+}
