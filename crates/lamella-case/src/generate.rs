@@ -51,10 +51,8 @@ impl<V> Generated<V> {
     pub fn fluid_count_per_phase(&self, phases: usize) -> Vec<usize> {
         let mut counts = vec![0; phases];
         for (&phase, &wall) in self.phase.iter().zip(&self.is_wall) {
-            if !wall {
-                if let Some(count) = counts.get_mut(phase as usize) {
-                    *count += 1;
-                }
+            if !wall && let Some(count) = counts.get_mut(phase as usize) {
+                *count += 1;
             }
         }
         counts
@@ -124,9 +122,9 @@ pub fn generate<V: Vector>(case: &Case) -> Generated<V> {
         counts: [1; 3],
         periodic: [false; 3],
     };
-    for axis in 0..dim {
+    for (axis, &count) in counts.iter().enumerate() {
         lattice.lower[axis] = case.domain.lower[axis];
-        lattice.counts[axis] = counts[axis];
+        lattice.counts[axis] = count;
     }
     for axis in &case.domain.periodic {
         if axis.index() < dim {

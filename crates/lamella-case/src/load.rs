@@ -19,17 +19,17 @@ pub fn load(path: &Path) -> Result<Case, CaseError> {
         }],
     })?;
     let case = parse_str(&text, &origin)?;
-    if let Some(folder) = &case.output.folder {
-        if let Err(problem) = check_output_folder(Path::new(folder)) {
-            return Err(CaseError {
-                origin,
-                problems: vec![Problem::value(
-                    "output.folder",
-                    format!("{folder:?}"),
-                    format!("a folder that can be created and written ({problem})"),
-                )],
-            });
-        }
+    if let Some(folder) = &case.output.folder
+        && let Err(problem) = check_output_folder(Path::new(folder))
+    {
+        return Err(CaseError {
+            origin,
+            problems: vec![Problem::value(
+                "output.folder",
+                format!("{folder:?}"),
+                format!("a folder that can be created and written ({problem})"),
+            )],
+        });
     }
     Ok(case)
 }

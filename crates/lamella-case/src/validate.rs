@@ -36,15 +36,15 @@ impl Checker {
 
     /// A vector with one finite entry per dimension.
     fn vector(&mut self, path: &str, v: &[f64], dim: Option<usize>, what: &str) -> bool {
-        if let Some(d) = dim {
-            if v.len() != d {
-                self.bad(
-                    path,
-                    vec_str(v),
-                    &format!("{d} entries ({what}, one per dimension, dimension is {d})"),
-                );
-                return false;
-            }
+        if let Some(d) = dim
+            && v.len() != d
+        {
+            self.bad(
+                path,
+                vec_str(v),
+                &format!("{d} entries ({what}, one per dimension, dimension is {d})"),
+            );
+            return false;
         }
         if v.iter().any(|x| !x.is_finite()) {
             self.bad(path, vec_str(v), &format!("finite numbers ({what})"));
@@ -129,17 +129,17 @@ impl Case {
                 ),
             });
         }
-        if let Some(p) = &self.interface_perturbation {
-            if p.amplitude < 0.5 * self.particles.spacing {
-                warnings.push(Warning {
-                    path: "interface_perturbation.amplitude".into(),
-                    message: format!(
-                        "{} m is under half the spacing ({} m): few or no particles change phase",
-                        num(p.amplitude),
-                        num(0.5 * self.particles.spacing)
-                    ),
-                });
-            }
+        if let Some(p) = &self.interface_perturbation
+            && p.amplitude < 0.5 * self.particles.spacing
+        {
+            warnings.push(Warning {
+                path: "interface_perturbation.amplitude".into(),
+                message: format!(
+                    "{} m is under half the spacing ({} m): few or no particles change phase",
+                    num(p.amplitude),
+                    num(0.5 * self.particles.spacing)
+                ),
+            });
         }
         if let Some(c0) = self.scales.sound_speed {
             let floor = 10.0 * self.scales.expected_max_speed;
@@ -190,14 +190,14 @@ impl Case {
         }
         let mut seen = HashSet::new();
         for (i, axis) in d.periodic.iter().enumerate() {
-            if let Some(dim) = dim {
-                if axis.index() >= dim {
-                    c.bad(
-                        format!("domain.periodic[{i}]"),
-                        format!("{axis:?}"),
-                        &format!("an axis of a {dim}D case ({})", axes_list(dim)),
-                    );
-                }
+            if let Some(dim) = dim
+                && axis.index() >= dim
+            {
+                c.bad(
+                    format!("domain.periodic[{i}]"),
+                    format!("{axis:?}"),
+                    &format!("an axis of a {dim}D case ({})", axes_list(dim)),
+                );
             }
             if !seen.insert(*axis) {
                 c.bad(
@@ -589,14 +589,14 @@ impl Case {
         for (i, wall) in self.walls.iter().enumerate() {
             let path = format!("walls[{i}]");
             let axis = wall.side.axis();
-            if let Some(d) = dim {
-                if axis.index() >= d {
-                    c.bad(
-                        format!("{path}.side"),
-                        format!("{:?}", wall.side),
-                        &format!("a side of a {d}D box ({})", sides_list(d)),
-                    );
-                }
+            if let Some(d) = dim
+                && axis.index() >= d
+            {
+                c.bad(
+                    format!("{path}.side"),
+                    format!("{:?}", wall.side),
+                    &format!("a side of a {d}D box ({})", sides_list(d)),
+                );
             }
             if !sides.insert(wall.side) {
                 c.bad(
@@ -736,14 +736,14 @@ impl Case {
 
     fn check_output(&self, c: &mut Checker, dim: Option<usize>, domain: Option<&Box_>) {
         let o = &self.output;
-        if let Some(folder) = &o.folder {
-            if folder.trim().is_empty() {
-                c.bad(
-                    "output.folder",
-                    format!("{folder:?}"),
-                    "a folder path, or None",
-                );
-            }
+        if let Some(folder) = &o.folder
+            && folder.trim().is_empty()
+        {
+            c.bad(
+                "output.folder",
+                format!("{folder:?}"),
+                "a folder path, or None",
+            );
         }
         c.positive(
             "output.checkpoint_minutes",
@@ -777,12 +777,11 @@ impl Case {
             };
             for (field, point) in points {
                 let fpath = format!("{path}.{field}");
-                if c.vector(&fpath, point, dim, "position in m") {
-                    if let Some(domain) = domain {
-                        if !domain.contains(point) {
-                            c.bad(&fpath, vec_str(point), &domain.describe());
-                        }
-                    }
+                if c.vector(&fpath, point, dim, "position in m")
+                    && let Some(domain) = domain
+                    && !domain.contains(point)
+                {
+                    c.bad(&fpath, vec_str(point), &domain.describe());
                 }
             }
         }
