@@ -338,23 +338,64 @@ impl<V: Vector> CellList<V> {
             self.permutation.len()
         );
         let xi = positions[i];
-        let c = self.grid.coords(self.sorted_cell[i] as usize);
-        let mut scan = |a: usize, b: usize| {
-            let a = a.max(first);
-            for (j, &xj) in positions.iter().enumerate().take(b).skip(a) {
-                let mut r = xi - xj;
+        let id = self.sorted_cell[i] as usize;
+        if self.grid.periodic[..V::DIM].iter().any(|&p| p) {
+            let image = |mut r: V| {
                 for axis in 0..V::DIM {
                     if self.grid.periodic[axis] {
                         let (l, h) = (self.period[axis], self.half_period[axis]);
                         r.set(axis, fold(r.get(axis), l, h));
                     }
                 }
-                let d2 = r.length_squared();
-                if d2 < self.radius_squared && j != i {
-                    f(j, r, d2.sqrt());
+                r
+            };
+            self.gather(positions, xi, i, first, id, image, &mut f);
+        } else {
+            self.gather(positions, xi, i, first, id, |r| r, &mut f);
+        }
+    }
+
+    /// Tests the candidates of every stencil range of cell `id` (from index `first` on).
+    #[inline(always)]
+    #[allow(clippy::too_many_arguments)]
+    fn gather<F: FnMut(usize, V, f64)>(
+        &self,
+        positions: &[V],
+        xi: V,
+        i: usize,
+        first: usize,
+        id: usize,
+        image: impl Fn(V) -> V + Copy,
+        f: &mut F,
+    ) {
+        let radius_squared = self.radius_squared;
+        self.for_each_stencil_range(id, |a, b| {
+            scan(positions, xi, i, a.max(first), b, radius_squared, image, f)
+        });
+    }
+
+    /// Calls `range(a, b)` for the sorted-index ranges of the stencil cells around cell
+    /// coordinates `c`, in a fixed order; no cell twice.
+    #[inline(always)]
+    fn for_each_stencil_range(&self, id: usize, mut range: impl FnMut(usize, usize)) {
+        let c = self.grid.coords(id);
+        let dims = self.grid.dims;
+        let interior = (0..V::DIM).all(|a| c[a] >= 1 && c[a] + 2 <= dims[a]);
+        if interior && self.cell_of_rank.is_empty() {
+            // Row-major interior cell: each stencil row is cells id-1..=id+1 of that row.
+            let (row, plane) = (dims[0], dims[0] * dims[1]);
+            let planes: &[isize] = if V::DIM > 2 { &[-1, 0, 1] } else { &[0] };
+            for &dz in planes {
+                for dy in [-1isize, 0, 1] {
+                    let centre = (id as isize + dz * plane as isize + dy * row as isize) as usize;
+                    range(
+                        self.cell_start[centre - 1] as usize,
+                        self.cell_start[centre + 2] as usize,
+                    );
                 }
             }
-        };
+            return;
+        }
         let (zs, nz) = if V::DIM > 2 {
             self.grid.axis_neighbours(2, c[2])
         } else {
@@ -375,13 +416,13 @@ impl<V: Vector> CellList<V> {
                         }
                         let a = self.cell_start[row + xs[k]] as usize;
                         let b = self.cell_start[row + xs[end] + 1] as usize;
-                        scan(a, b);
+                        range(a, b);
                         k = end + 1;
                     }
                 } else {
                     for &x in &xs[..nx] {
                         let rank = self.rank_of_cell[self.grid.id([x, y, z])] as usize;
-                        scan(
+                        range(
                             self.cell_start[rank] as usize,
                             self.cell_start[rank + 1] as usize,
                         );
@@ -389,6 +430,46 @@ impl<V: Vector> CellList<V> {
                 }
             }
         }
+    }
+}
+
+/// Candidates tested per block before the hits are handed to the visitor.
+const SCAN_BLOCK: usize = 64;
+
+/// Visits the candidates `a..b` closer than `sqrt(radius_squared)` to `xi` (skipping `i`):
+/// candidates are tested a block at a time without branching and the offsets of the hits
+/// collected, so that the visitor (and the square root) runs only for neighbours.
+#[inline(always)]
+#[allow(clippy::too_many_arguments)]
+fn scan<V: Vector, F: FnMut(usize, V, f64)>(
+    positions: &[V],
+    xi: V,
+    i: usize,
+    a: usize,
+    b: usize,
+    radius_squared: f64,
+    image: impl Fn(V) -> V,
+    f: &mut F,
+) {
+    let mut hit_offsets = [0u8; SCAN_BLOCK];
+    let mut start = a;
+    while start < b {
+        let end = (start + SCAN_BLOCK).min(b);
+        let block = &positions[start..end];
+        let mut hits = 0;
+        for (offset, &xj) in block.iter().enumerate() {
+            let d2 = image(xi - xj).length_squared();
+            hit_offsets[hits] = offset as u8;
+            hits += usize::from(d2 < radius_squared);
+        }
+        for &offset in &hit_offsets[..hits] {
+            let j = start + offset as usize;
+            if j != i {
+                let r = image(xi - block[offset as usize]);
+                f(j, r, r.length_squared().sqrt());
+            }
+        }
+        start = end;
     }
 }
 

@@ -114,7 +114,10 @@ mod tests {
     fn minimum_image_and_wrap_on_periodic_axes_only() {
         let d = Domain::new(DVec2::ZERO, DVec2::new(2.0, 4.0), [true, false, false]).unwrap();
         assert_eq!(d.minimum_image(DVec2::new(1.5, 3.0)), DVec2::new(-0.5, 3.0));
-        assert_eq!(d.minimum_image(DVec2::new(-7.5, -3.0)), DVec2::new(0.5, -3.0));
+        assert_eq!(
+            d.minimum_image(DVec2::new(-7.5, -3.0)),
+            DVec2::new(0.5, -3.0)
+        );
         assert_eq!(d.wrap(DVec2::new(-0.5, 9.0)), DVec2::new(1.5, 9.0));
         assert_eq!(d.wrap(DVec2::new(2.0, 0.0)), DVec2::new(0.0, 0.0));
         assert_eq!(d.wrap(DVec2::new(-1e-18, 0.0)).x, 0.0);

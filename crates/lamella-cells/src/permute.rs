@@ -6,7 +6,11 @@ use rayon::prelude::*;
 /// buffer (both keep their allocations for the next call). Parallel.
 ///
 /// Panics if `perm` and `data` differ in length or `perm` holds an index out of range.
-pub fn apply_permutation<T: Copy + Send + Sync>(perm: &[u32], data: &mut Vec<T>, scratch: &mut Vec<T>) {
+pub fn apply_permutation<T: Copy + Send + Sync>(
+    perm: &[u32],
+    data: &mut Vec<T>,
+    scratch: &mut Vec<T>,
+) {
     assert_eq!(
         perm.len(),
         data.len(),

@@ -156,10 +156,16 @@ fn check<V: Vector>(c: &Cloud) -> Result<(), TestCaseError> {
             above += 1;
         });
         pair_count += above;
-        prop_assert_eq!(above, found.iter().filter(|&&(j, _)| {
-            let sorted_j = perm.iter().position(|&p| p as usize == j).unwrap();
-            sorted_j > k
-        }).count());
+        prop_assert_eq!(
+            above,
+            found
+                .iter()
+                .filter(|&&(j, _)| {
+                    let sorted_j = perm.iter().position(|&p| p as usize == j).unwrap();
+                    sorted_j > k
+                })
+                .count()
+        );
     }
     let mut pairs = 0;
     list.for_each_pair(&sorted, |i, j, _, _| {
@@ -193,7 +199,9 @@ fn no_particles_and_one_particle() {
     let one = [DVec2::new(0.5, 0.5)];
     list.rebuild(&one).unwrap();
     assert_eq!(list.permutation(), &[0]);
-    list.for_each_neighbour(&one, 0, |_, _, _| panic!("a lone particle has no neighbour"));
+    list.for_each_neighbour(&one, 0, |_, _, _| {
+        panic!("a lone particle has no neighbour")
+    });
 }
 
 #[test]
