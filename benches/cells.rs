@@ -1,0 +1,153 @@
+//! Neighbour search speed: the `lamella-cells` cell list against the `kiddo` k-d tree.
+//!
+//! 2D jittered lattices of 1e4, 1e5 and 1e6 particles at spacing dx = 1 with h = 1.3 dx and
+//! search radius (kernel support) 2h, about 21 neighbours each. One iteration = build the
+//! structure + visit every neighbour pair of every particle, accumulating the pair count and
+//! the sum of distances (the same work for both). Positions are in cell order, as the solver
+//! keeps them after its first rebuild. Single thread and all cores (rayon pools).
+//!
+//! Run: `cargo bench --bench cells`.
+
+use std::hint::black_box;
+use std::time::Duration;
+
+use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
+use glam::DVec2;
+use kiddo::{ImmutableKdTree, SquaredEuclidean};
+use lamella_cells::{CellList, CellOrder, Domain, GridOptions, apply_permutation};
+use rayon::prelude::*;
+
+const SPACING: f64 = 1.0;
+const SMOOTHING_LENGTH: f64 = 1.3 * SPACING;
+const RADIUS: f64 = 2.0 * SMOOTHING_LENGTH;
+
+/// A square jittered lattice of about `n` particles (xorshift jitter of ±0.25 dx).
+fn lattice(n: usize) -> (Vec<DVec2>, DVec2) {
+    let side = (n as f64).sqrt().round() as usize;
+    let mut state = 0x9e37_79b9_7f4a_7c15u64;
+    let mut jitter = move || {
+        state ^= state << 13;
+        state ^= state >> 7;
+        state ^= state << 17;
+        ((state >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 0.5 * SPACING
+    };
+    let points = (0..side * side)
+        .map(|k| {
+            let (i, j) = ((k % side) as f64, (k / side) as f64);
+            DVec2::new((i + 0.5) * SPACING + jitter(), (j + 0.5) * SPACING + jitter())
+        })
+        .collect();
+    (points, DVec2::splat(side as f64 * SPACING))
+}
+
+/// Build + all-neighbour visit with the cell list; returns (pairs, sum of distances).
+fn cells_pass(list: &mut CellList<DVec2>, positions: &[DVec2]) -> (u64, f64) {
+    list.rebuild(positions).unwrap();
+    let list = &*list;
+    (0..positions.len())
+        .into_par_iter()
+        .map(|i| {
+            let (mut count, mut sum) = (0u64, 0.0);
+            list.for_each_neighbour(positions, i, |_, _, d| {
+                count += 1;
+                sum += d;
+            });
+            (count, sum)
+        })
+        .reduce(|| (0, 0.0), |a, b| (a.0 + b.0, a.1 + b.1))
+}
+
+/// Build + all-neighbour visit with kiddo (fixed-radius, unsorted, exclusive boundary).
+fn kiddo_pass(points: &[[f64; 2]], parallel_build: bool) -> (u64, f64) {
+    let tree = if parallel_build {
+        ImmutableKdTree::<f64, 2>::new_from_slice_parallel(points).unwrap()
+    } else {
+        ImmutableKdTree::<f64, 2>::new_from_slice(points).unwrap()
+    };
+    points
+        .par_iter()
+        .enumerate()
+        .map(|(i, p)| {
+            let (mut count, mut sum) = (0u64, 0.0);
+            tree.query(p)
+                .within::<SquaredEuclidean<f64>>(RADIUS * RADIUS)
+                .unsorted()
+                .exclusive_boundaries()
+                .visit(|item| {
+                    if item.item as usize != i {
+                        count += 1;
+                        sum += item.distance.sqrt();
+                    }
+                });
+            (count, sum)
+        })
+        .reduce(|| (0, 0.0), |a, b| (a.0 + b.0, a.1 + b.1))
+}
+
+fn neighbour_search(c: &mut Criterion) {
+    let all_cores = rayon::current_num_threads();
+    let pools: Vec<(String, rayon::ThreadPool)> = [1, all_cores]
+        .iter()
+        .map(|&threads| {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .unwrap();
+            (format!("{threads}t"), pool)
+        })
+        .collect();
+    for n in [10_000usize, 100_000, 1_000_000] {
+        let (raw, upper) = lattice(n);
+        let domain = Domain::new(DVec2::ZERO, upper, [false; 3]).unwrap();
+        let lists: Vec<(CellOrder, CellList<DVec2>, Vec<DVec2>)> =
+            [CellOrder::RowMajor, CellOrder::Morton]
+                .into_iter()
+                .map(|order| {
+                    let options = GridOptions { margin: 0.0, order };
+                    let mut list = CellList::with_options(domain, RADIUS, options).unwrap();
+                    list.rebuild(&raw).unwrap();
+                    let mut positions = raw.clone();
+                    apply_permutation(list.permutation(), &mut positions, &mut Vec::new());
+                    (order, list, positions)
+                })
+                .collect();
+        let points: Vec<[f64; 2]> = lists[0].2.iter().map(|p| p.to_array()).collect();
+        let (mut cells_result, kiddo_result) = (
+            cells_pass(&mut lists[0].1.clone(), &lists[0].2),
+            kiddo_pass(&points, false),
+        );
+        assert_eq!(cells_result.0, kiddo_result.0, "same pairs found");
+        let count = raw.len();
+        let pairs = cells_result.0;
+        println!(
+            "n = {count}: {pairs} neighbour pairs visited, {:.2} per particle; cell list {} B/particle",
+            pairs as f64 / count as f64,
+            lists[0].1.heap_bytes() as f64 / count as f64
+        );
+        let mut group = c.benchmark_group(format!("neighbours_2d_n{count}"));
+        group
+            .sample_size(10)
+            .warm_up_time(Duration::from_millis(500))
+            .measurement_time(Duration::from_secs(if n >= 1_000_000 { 8 } else { 2 }))
+            .throughput(Throughput::Elements(pairs));
+        for (threads, pool) in &pools {
+            for (order, list, positions) in &lists {
+                if *order == CellOrder::Morton && threads != "1t" {
+                    continue;
+                }
+                let mut list = list.clone();
+                group.bench_function(BenchmarkId::new(format!("cells_{order:?}"), threads), |b| {
+                    b.iter(|| pool.install(|| cells_result = cells_pass(&mut list, black_box(positions))))
+                });
+            }
+            group.bench_function(BenchmarkId::new("kiddo", threads), |b| {
+                b.iter(|| pool.install(|| black_box(kiddo_pass(black_box(&points), threads != "1t"))))
+            });
+        }
+        black_box(cells_result);
+        group.finish();
+    }
+}
+
+criterion_group!(benches, neighbour_search);
+criterion_main!(benches);
