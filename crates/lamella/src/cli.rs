@@ -43,6 +43,8 @@ pub enum Command {
     New(commands::new::Args),
     /// Run a case and write its results to a run folder.
     Run(commands::run::Args),
+    /// Continue an interrupted run from the newest valid checkpoint in its run folder.
+    Resume(commands::resume::Args),
 }
 
 /// Parses the command line, runs the subcommand and turns the outcome into an exit code.

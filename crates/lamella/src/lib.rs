@@ -3,5 +3,6 @@
 pub mod cli;
 mod commands;
 pub mod failure;
+pub mod output;
 
 pub use failure::Failure;

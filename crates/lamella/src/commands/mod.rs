@@ -2,6 +2,7 @@
 
 pub mod check;
 pub mod new;
+pub mod resume;
 pub mod run;
 
 use crate::Failure;
@@ -13,5 +14,6 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
         Command::Check(args) => check::run(args, globals),
         Command::New(args) => new::run(args, globals),
         Command::Run(args) => run::run(args, globals),
+        Command::Resume(args) => resume::run(args, globals),
     }
 }

@@ -1,0 +1,113 @@
+//! Errors of the output layer, each naming the file and what went wrong.
+
+use std::io;
+use std::path::{Path, PathBuf};
+
+use crate::Failure;
+
+/// Why reading or writing run output failed.
+#[derive(Debug, thiserror::Error)]
+pub enum OutputError {
+    /// A file or folder could not be written (full disk, no permission, ...).
+    #[error("cannot write {}: {source}{}", path.display(), write_hint(source))]
+    Write {
+        /// The file or folder being written.
+        path: PathBuf,
+        /// The operating system's reason.
+        source: io::Error,
+    },
+    /// A file could not be read.
+    #[error("cannot read {}: {source}", path.display())]
+    Read {
+        /// The file being read.
+        path: PathBuf,
+        /// The operating system's reason.
+        source: io::Error,
+    },
+    /// A file exists but its content is not what Lamella wrote (truncated, altered, other format).
+    #[error("{} is not a valid {what}: {reason}", path.display())]
+    Invalid {
+        /// The offending file.
+        path: PathBuf,
+        /// What the file should have been ("checkpoint", "snapshot", ...).
+        what: &'static str,
+        /// What exactly is wrong.
+        reason: String,
+    },
+    /// The run folder cannot be used as asked (exists and is not empty, is missing, ...).
+    #[error("{0}")]
+    Folder(String),
+}
+
+impl OutputError {
+    /// A write error on `path`.
+    pub fn write(path: &Path, source: io::Error) -> Self {
+        OutputError::Write {
+            path: path.to_path_buf(),
+            source,
+        }
+    }
+
+    /// A read error on `path`.
+    pub fn read(path: &Path, source: io::Error) -> Self {
+        OutputError::Read {
+            path: path.to_path_buf(),
+            source,
+        }
+    }
+
+    /// An invalid-content error on `path`.
+    pub fn invalid(path: &Path, what: &'static str, reason: impl Into<String>) -> Self {
+        OutputError::Invalid {
+            path: path.to_path_buf(),
+            what,
+            reason: reason.into(),
+        }
+    }
+}
+
+fn write_hint(source: &io::Error) -> &'static str {
+    match source.kind() {
+        io::ErrorKind::StorageFull | io::ErrorKind::QuotaExceeded => {
+            " (the disk is full: free some space or choose another --out folder; \
+             files written before, including the previous checkpoint, are untouched)"
+        }
+        io::ErrorKind::PermissionDenied | io::ErrorKind::ReadOnlyFilesystem => {
+            " (the folder is not writable: fix its permissions or choose another --out folder)"
+        }
+        _ => "",
+    }
+}
+
+impl From<OutputError> for Failure {
+    /// Unreadable or invalid files and unusable folders are bad input (exit code 2); a failed
+    /// write is a failed run (exit code 1).
+    fn from(err: OutputError) -> Self {
+        match err {
+            OutputError::Write { .. } => Failure::RunFailed(err.to_string()),
+            OutputError::Read { .. } | OutputError::Invalid { .. } | OutputError::Folder(_) => {
+                Failure::BadInput(err.to_string())
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_full_disk_is_explained_and_maps_to_run_failed() {
+        let err = OutputError::write(Path::new("out/x.bin"), io::ErrorKind::StorageFull.into());
+        let text = err.to_string();
+        assert!(text.contains("out/x.bin") && text.contains("disk is full"), "{text}");
+        assert_eq!(Failure::from(err).exit_code(), 1);
+    }
+
+    #[test]
+    fn invalid_files_are_bad_input() {
+        let err = OutputError::invalid(Path::new("c.bin"), "checkpoint", "checksum mismatch");
+        assert_eq!(err.to_string(), "c.bin is not a valid checkpoint: checksum mismatch");
+        assert_eq!(Failure::from(err).exit_code(), 2);
+    }
+}

@@ -1,0 +1,19 @@
+//! Everything a run writes and reads back: the run folder, VTK snapshots and their `.pvd`
+//! collection, the `series.csv` time series, probes and checkpoints.
+
+pub mod atomic;
+pub mod checkpoint;
+pub mod collection;
+mod error;
+pub mod folder;
+mod nearby;
+pub mod probes;
+pub mod recorder;
+pub mod series;
+pub mod snapshot;
+
+pub use checkpoint::{Checkpoint, CheckpointStore};
+pub use error::OutputError;
+pub use folder::RunFolder;
+pub use recorder::Recorder;
+pub use snapshot::{Snapshot, SnapshotMeta, read_snapshot, write_snapshot};
