@@ -34,7 +34,10 @@ fn lattice(n: usize) -> (Vec<DVec2>, DVec2) {
     let points = (0..side * side)
         .map(|k| {
             let (i, j) = ((k % side) as f64, (k / side) as f64);
-            DVec2::new((i + 0.5) * SPACING + jitter(), (j + 0.5) * SPACING + jitter())
+            DVec2::new(
+                (i + 0.5) * SPACING + jitter(),
+                (j + 0.5) * SPACING + jitter(),
+            )
         })
         .collect();
     (points, DVec2::splat(side as f64 * SPACING))
@@ -137,11 +140,15 @@ fn neighbour_search(c: &mut Criterion) {
                 }
                 let mut list = list.clone();
                 group.bench_function(BenchmarkId::new(format!("cells_{order:?}"), threads), |b| {
-                    b.iter(|| pool.install(|| cells_result = cells_pass(&mut list, black_box(positions))))
+                    b.iter(|| {
+                        pool.install(|| cells_result = cells_pass(&mut list, black_box(positions)))
+                    })
                 });
             }
             group.bench_function(BenchmarkId::new("kiddo", threads), |b| {
-                b.iter(|| pool.install(|| black_box(kiddo_pass(black_box(&points), threads != "1t"))))
+                b.iter(|| {
+                    pool.install(|| black_box(kiddo_pass(black_box(&points), threads != "1t")))
+                })
             });
         }
         black_box(cells_result);

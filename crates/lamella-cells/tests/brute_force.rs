@@ -233,7 +233,7 @@ fn moved_particles_are_still_found_within_the_margin() {
     let start = vec![DVec2::new(2.2, 5.0), DVec2::new(3.35, 5.0)];
     let mut y = start.clone();
     list.rebuild(&y).unwrap();
-    apply_permutation(&list.permutation().to_vec(), &mut y, &mut Vec::new());
+    apply_permutation(list.permutation(), &mut y, &mut Vec::new());
     let mut count = 0;
     list.for_each_neighbour(&y, 0, |_, _, _| count += 1);
     assert_eq!(count, 0);
