@@ -1,21 +1,251 @@
-//! `lamella check`: placeholder so the crate builds; the real command follows shortly.
+//! `lamella check CASE`: validate a case file and print what the run will involve.
 
-use std::path::PathBuf;
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+use glam::{DVec2, DVec3};
+use lamella_case::{Case, Generated, generate};
+use lamella_sph::{TimeStepFactors, stable_time_step};
 
 use crate::Failure;
 use crate::cli::Globals;
 
+/// Largest particle count `check` generates to count exactly; above it, counts are estimated.
+const COUNT_BY_GENERATION_LIMIT: f64 = 2.0e7;
+
 /// Options of `lamella check`.
 #[derive(Debug, clap::Args)]
+#[command(after_help = "Exit codes: 0 the case is valid, 2 it is not (every problem is listed \
+    with the file and the field path or line and column).")]
 pub struct Args {
-    /// The case file (RON) or path this command works on.
-    pub path: PathBuf,
+    /// The case file (RON) to validate.
+    #[arg(value_name = "CASE")]
+    pub case: PathBuf,
 }
 
-/// Not yet available: fails with a clear message (exit code 1).
-pub fn run(args: Args, _globals: Globals) -> Result<(), Failure> {
-    Err(Failure::RunFailed(format!(
-        "`lamella check` is not built yet (asked for {})",
-        args.path.display()
-    )))
+/// Validates the case and prints its summary (nothing with `--quiet`).
+pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
+    let case = load_case(&args.case)?;
+    if !globals.quiet {
+        print!("{}", summary(&args.case, &case));
+    }
+    Ok(())
+}
+
+/// Loads and validates a case file; every problem becomes one line of a bad-input failure.
+pub(crate) fn load_case(path: &Path) -> Result<Case, Failure> {
+    lamella_case::load(path).map_err(|err| {
+        let count = err.problems.len();
+        let noun = if count == 1 { "problem" } else { "problems" };
+        Failure::BadInput(format!("{count} {noun} in the case file:\n{err}"))
+    })
+}
+
+/// Particle counts of a case.
+pub(crate) struct Counts {
+    /// Fluid particles per phase.
+    pub per_phase: Vec<usize>,
+    /// Wall particles.
+    pub walls: usize,
+    /// Lattice sites no region covers.
+    pub uncovered: usize,
+    /// False when the counts are estimated from the lattice size (very large cases).
+    pub exact: bool,
+}
+
+impl Counts {
+    /// All particles, fluid and wall.
+    pub fn total(&self) -> usize {
+        self.per_phase.iter().sum::<usize>() + self.walls
+    }
+}
+
+/// Generates the particles of a validated case in its dimension.
+pub(crate) fn generate_counted(case: &Case) -> (Counts, usize) {
+    fn counted<V: lamella_cells::Vector>(case: &Case, g: &Generated<V>) -> Counts {
+        Counts {
+            per_phase: g.fluid_count_per_phase(case.phases.len()),
+            walls: g.wall_count(),
+            uncovered: g.uncovered_sites,
+            exact: true,
+        }
+    }
+    if case.dimension == 3 {
+        let g = generate::<DVec3>(case);
+        (counted(case, &g), g.len())
+    } else {
+        let g = generate::<DVec2>(case);
+        (counted(case, &g), g.len())
+    }
+}
+
+fn counts(case: &Case) -> Counts {
+    let sites: f64 = case.lattice_counts().iter().map(|&n| n as f64).product();
+    if sites <= COUNT_BY_GENERATION_LIMIT {
+        return generate_counted(case).0;
+    }
+    // Too many to generate for a check: all fluid in phase 0's count, walls from the box faces.
+    let dx = case.particles.spacing;
+    let walls: f64 = case
+        .walls
+        .iter()
+        .map(|w| {
+            let axis = w.side.axis().index();
+            f64::from(w.layers) * sites * dx / case.extent(axis)
+        })
+        .sum();
+    let mut per_phase = vec![0; case.phases.len()];
+    per_phase[0] = sites as usize;
+    Counts {
+        per_phase,
+        walls: walls as usize,
+        uncovered: 0,
+        exact: false,
+    }
+}
+
+/// The report `lamella check` prints for a valid case.
+fn summary(path: &Path, case: &Case) -> String {
+    let mut s = String::new();
+    let title = if case.title.is_empty() {
+        String::new()
+    } else {
+        format!(" — {}", case.title)
+    };
+    let _ = writeln!(s, "{}: valid{title}", path.display());
+
+    let dim = case.dimension as usize;
+    let extents: Vec<String> = (0..dim).map(|a| sig(case.extent(a))).collect();
+    let periodic: Vec<String> = case.domain.periodic.iter().map(|a| format!("{a:?}")).collect();
+    let _ = writeln!(
+        s,
+        "  domain        {dim}D, {} m, periodic: {}",
+        extents.join(" × "),
+        if periodic.is_empty() {
+            "none".to_string()
+        } else {
+            periodic.join(", ")
+        }
+    );
+    let h = case.smoothing_length();
+    let _ = writeln!(
+        s,
+        "  resolution    dx = {} m, h = {} m (h/dx = {}), kernel {:?}, support {} m",
+        sig(case.particles.spacing),
+        sig(h),
+        case.particles.smoothing_ratio,
+        case.particles.kernel,
+        sig(case.support_radius())
+    );
+
+    let counts = counts(case);
+    let about = if counts.exact { "" } else { "about " };
+    let _ = writeln!(s, "  particles     {about}{} in total", counts.total());
+    for (phase, n) in case.phases.iter().zip(&counts.per_phase) {
+        let _ = writeln!(s, "    {:<12}{about}{n} fluid", phase.name);
+    }
+    let _ = writeln!(s, "    {:<12}{about}{} wall", "walls", counts.walls);
+
+    let c0 = case.sound_speed();
+    let how = if case.scales.sound_speed.is_some() {
+        "as given".to_string()
+    } else {
+        format!(
+            "from the expected peak speed {} m/s, Morris, Fox & Zhu 1997",
+            sig(case.scales.expected_max_speed)
+        )
+    };
+    let _ = writeln!(s, "  sound speed   c0 = {} m/s ({how})", sig(c0));
+    let factors = TimeStepFactors {
+        acoustic: case.time_step.acoustic,
+        viscous: case.time_step.viscous,
+        force: case.time_step.force,
+    };
+    let (dt, limit) = stable_time_step(
+        h,
+        c0,
+        case.scales.expected_max_speed,
+        case.max_kinematic_viscosity(),
+        case.body_force_magnitude(),
+        &factors,
+    );
+    let steps = (case.time.end / dt).ceil();
+    let _ = writeln!(
+        s,
+        "  time step     ≈ {} s ({limit} limit); {steps} steps to t = {} s",
+        sig(dt),
+        sig(case.time.end)
+    );
+    let _ = writeln!(
+        s,
+        "  Reynolds      {} (U L/ν with U = {} m/s, L = {} m, least viscous phase)",
+        sig(case.reynolds_number()),
+        sig(case.scales.expected_max_speed),
+        sig(case.reference_length())
+    );
+    if case.phases.len() > 1 {
+        let _ = writeln!(
+            s,
+            "  viscosities   largest/smallest = {}, pair average {:?}",
+            sig(case.viscosity_contrast()),
+            case.pair_viscosity
+        );
+    }
+    for pair in case.layer_pairs() {
+        let _ = writeln!(
+            s,
+            "  layers        {} under {} at y = {} m: viscosity ratio m = {}, width ratio n = {}",
+            case.phases[pair.lower].name,
+            case.phases[pair.upper].name,
+            sig(pair.interface),
+            sig(pair.viscosity_ratio),
+            sig(pair.width_ratio)
+        );
+    }
+    let bytes = case.memory_estimate(counts.total());
+    let _ = writeln!(
+        s,
+        "  memory        ≈ {:.1} MB ({} bytes per particle)",
+        bytes as f64 / 1.0e6,
+        case.state_bytes_per_particle()
+    );
+    for warning in case.warnings() {
+        let _ = writeln!(s, "  warning: {warning}");
+    }
+    if counts.uncovered > 0 {
+        let _ = writeln!(
+            s,
+            "  warning: regions: {} lattice sites are covered by no region and stay empty; add a \
+             Fill region first to cover the whole domain",
+            counts.uncovered
+        );
+    }
+    s
+}
+
+/// Four significant digits, plain for moderate magnitudes and scientific otherwise.
+fn sig(x: f64) -> String {
+    if !x.is_finite() || x == 0.0 {
+        return format!("{x}");
+    }
+    let rounded: f64 = format!("{x:.3e}").parse().unwrap_or(x);
+    if (1e-3..1e5).contains(&rounded.abs()) {
+        format!("{rounded}")
+    } else {
+        format!("{rounded:e}")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::sig;
+
+    #[test]
+    fn four_significant_digits() {
+        assert_eq!(sig(0.077459666), "0.07746");
+        assert_eq!(sig(6.76e-5), "6.76e-5");
+        assert_eq!(sig(100.0), "100");
+        assert_eq!(sig(4.8), "4.8");
+        assert_eq!(sig(2.5e6), "2.5e6");
+    }
 }
