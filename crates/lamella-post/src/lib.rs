@@ -2,7 +2,14 @@
 
 pub mod convergence;
 pub mod fit;
+pub mod ftle;
+pub mod grid;
 pub mod growth;
+pub mod mixing;
+pub mod neighbours;
 pub mod norms;
+pub mod plot;
 pub mod profile;
 pub mod reference;
+pub mod table;
+pub mod vtk;
