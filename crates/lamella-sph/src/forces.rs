@@ -24,7 +24,11 @@ impl PairViscosity {
         match self {
             PairViscosity::Harmonic => {
                 let sum = mu_a + mu_b;
-                if sum > 0.0 { 2.0 * mu_a * mu_b / sum } else { 0.0 }
+                if sum > 0.0 {
+                    2.0 * mu_a * mu_b / sum
+                } else {
+                    0.0
+                }
             }
             PairViscosity::Arithmetic => 0.5 * (mu_a + mu_b),
         }
@@ -219,7 +223,10 @@ mod tests {
             .map(|(r, &m)| (r.acceleration * m).length())
             .sum();
         assert!(scale > 0.0);
-        assert!(momentum_rate.length() < 1e-12 * scale, "{momentum_rate} vs {scale}");
+        assert!(
+            momentum_rate.length() < 1e-12 * scale,
+            "{momentum_rate} vs {scale}"
+        );
         // Interface normals point from phase 0 (below) up towards phase 1 near y = 0.5.
         let below = 4 * 10 + 3;
         assert!(rates[below].interface_normal.y > 0.0);

@@ -211,7 +211,10 @@ mod tests {
             for dim in [2, 3] {
                 let kernel = Kernel::new(kind, 0.37, dim);
                 let total = integral(&kernel, dim);
-                assert!((total - 1.0).abs() < 1e-6, "{kind:?} {dim}D integrates to {total}");
+                assert!(
+                    (total - 1.0).abs() < 1e-6,
+                    "{kind:?} {dim}D integrates to {total}"
+                );
             }
         }
     }

@@ -69,7 +69,11 @@ impl<V: Vector> Particles<V> {
         gather(&mut spare.phase, &self.phase, permutation);
         gather(&mut spare.kind, &self.kind, permutation);
         gather(&mut spare.id, &self.id, permutation);
-        gather(&mut spare.initial_position, &self.initial_position, permutation);
+        gather(
+            &mut spare.initial_position,
+            &self.initial_position,
+            permutation,
+        );
         std::mem::swap(self, spare);
     }
 

@@ -7,7 +7,7 @@
 //! the state are scratch space. [`Simulation::from_parts`] rebuilds a simulation from exactly
 //! those parts, so a run saved with [`Simulation::particles`], [`Simulation::time`] and
 //! [`Simulation::step_count`] and restored with `from_parts` continues bit for bit as the
-//! uninterrupted run would (given the same configuration and the same `max_dt` sequence).
+//! uninterrupted run would (given the same configuration and the same sequence of `until` times).
 //!
 //! # Scheme
 //! Each step: sort the particles by cell (the neighbour search order), evaluate the wall states
@@ -68,9 +68,9 @@ pub struct SolverConfig<V: Vector> {
 pub struct StepReport {
     /// Time step taken (s).
     pub dt: f64,
-    /// The limit that set dt (or the caller's `max_dt`, reported as the limit it cut short).
+    /// The limit that set the stable step.
     pub limit: Limit,
-    /// True when the caller's `max_dt` was smaller than the stable step.
+    /// True when the step was cut short to end on the caller's `until`.
     pub clipped: bool,
     /// Simulated time after the step (s).
     pub time: f64,
@@ -225,11 +225,12 @@ impl<V: Vector> Simulation<V> {
         }
     }
 
-    /// Advances by one step of at most `max_dt` seconds.
+    /// Advances by one stable step, cut short so as not to pass the simulated time `until` (s);
+    /// a step that reaches `until` ends exactly on it.
     ///
     /// On a fault (non-finite value, density beyond the bound, a fluid particle through a wall)
     /// the step is discarded: the state stays the last good one and the fault names the particle.
-    pub fn step(&mut self, max_dt: f64) -> Result<StepReport, Fault<V>> {
+    pub fn step(&mut self, until: f64) -> Result<StepReport, Fault<V>> {
         if let Err(error) = self.sort_by_cell() {
             return Err(self.search_fault(error));
         }
@@ -258,7 +259,8 @@ impl<V: Vector> Simulation<V> {
         for i in 0..n {
             if p.kind[i] == Kind::Fluid {
                 max_speed = max_speed.max(p.velocity[i].length());
-                max_acceleration = max_acceleration.max(self.scratch.rates[i].acceleration.length());
+                max_acceleration =
+                    max_acceleration.max(self.scratch.rates[i].acceleration.length());
                 max_nu = max_nu.max(p.viscosity[i] / p.density[i]);
             }
         }
@@ -271,8 +273,9 @@ impl<V: Vector> Simulation<V> {
             max_acceleration,
             &self.config.time_step,
         );
-        let clipped = max_dt < stable_dt;
-        let dt = if clipped { max_dt } else { stable_dt };
+        let remaining = until - self.time;
+        let clipped = remaining <= stable_dt;
+        let dt = if clipped { remaining } else { stable_dt };
         let diffusivity = match self.config.regularisation {
             Regularisation::None => 0.0,
             Regularisation::Shifting { coefficient } => coefficient * h * max_speed * dt,
@@ -320,7 +323,7 @@ impl<V: Vector> Simulation<V> {
                 p.pressure[i] = self.config.state_law.pressure(p.density[i], rho0);
             }
         }
-        self.time += dt;
+        self.time = if clipped { until } else { self.time + dt };
         self.step += 1;
         Ok(StepReport {
             dt,
@@ -384,7 +387,12 @@ impl<V: Vector> Simulation<V> {
         let index = index.min(self.particles.len().saturating_sub(1));
         Fault {
             id: self.particles.id.get(index).copied().unwrap_or(0),
-            position: self.particles.position.get(index).copied().unwrap_or(V::ZERO),
+            position: self
+                .particles
+                .position
+                .get(index)
+                .copied()
+                .unwrap_or(V::ZERO),
             time: self.time,
             step: self.step,
             cause: FaultCause::NeighbourSearch(error.to_string()),

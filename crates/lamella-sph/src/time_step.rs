@@ -54,7 +54,10 @@ pub fn stable_time_step(
     max_acceleration: f64,
     factors: &TimeStepFactors,
 ) -> (f64, Limit) {
-    let mut best = (factors.acoustic * h / (sound_speed + max_speed), Limit::Acoustic);
+    let mut best = (
+        factors.acoustic * h / (sound_speed + max_speed),
+        Limit::Acoustic,
+    );
     if max_kinematic_viscosity > 0.0 {
         let viscous = factors.viscous * h * h / max_kinematic_viscosity;
         if viscous < best.0 {

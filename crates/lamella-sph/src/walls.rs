@@ -139,12 +139,23 @@ mod tests {
             period: DVec2::new(0.8, 0.0),
         };
         let mut out = vec![InteractionState::default(); p.len()];
-        interaction_states(&kernel, &law, DVec2::new(0.0, -g), &[1000.0], &p, &nb, &mut out);
+        interaction_states(
+            &kernel,
+            &law,
+            DVec2::new(0.0, -g),
+            &[1000.0],
+            &p,
+            &nb,
+            &mut out,
+        );
         // First wall row below the fluid (y = −0.05): expect about ρ0 g (0.8 + 0.05).
         let first_wall = 2 * 8;
         let expected = 1000.0 * g * 0.85;
         let got = out[first_wall].pressure;
-        assert!((got - expected).abs() < 0.02 * expected, "{got} vs {expected}");
+        assert!(
+            (got - expected).abs() < 0.02 * expected,
+            "{got} vs {expected}"
+        );
     }
 
     #[test]

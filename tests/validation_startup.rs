@@ -1,0 +1,119 @@
+//! Start-up flows between parallel plates against the series solutions of Morris, Fox & Zhu 1997
+//! ("Modeling low Reynolds number incompressible flows using SPH", J. Comput. Phys. 136,
+//! §4.1–4.2): plane Poiseuille flow driven by a body force, and Couette flow driven by a sliding
+//! upper wall, both from rest, 30 particles across the gap (the bundled cases). Bound: relative
+//! L2 error of the velocity profile ≤ 3 % at the steady state; the transient profiles are
+//! printed (and checked against a looser 10 % bound, as the start-up has steep early gradients).
+
+use std::sync::atomic::AtomicBool;
+use std::time::Instant;
+
+use glam::DVec2;
+use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella_post::profile::compare_with_reference;
+use lamella_post::reference::startup::PlateGap;
+use lamella_sph::{Kind, Simulation};
+
+fn advance_to(sim: &mut Simulation<DVec2>, t: f64) {
+    let stop = AtomicBool::new(false);
+    if let Err(failure) = run_to_end(sim, t, &mut NoObserver, &stop, ProgressMode::Silent) {
+        panic!("{failure}");
+    }
+}
+
+/// Relative L2 error of the bin-averaged fluid velocity u_x(y) (one bin per particle row).
+fn profile_error(
+    sim: &Simulation<DVec2>,
+    gap: f64,
+    rows: usize,
+    exact: impl Fn(f64) -> f64,
+) -> f64 {
+    let p = sim.particles();
+    let (y, u): (Vec<f64>, Vec<f64>) = (0..p.len())
+        .filter(|&i| p.kind[i] == Kind::Fluid)
+        .map(|i| (p.position[i].y, p.velocity[i].x))
+        .unzip();
+    compare_with_reference(&y, &u, 0.0, gap, rows, exact)
+        .expect("profile")
+        .relative_l2
+}
+
+fn load(name: &str) -> lamella_case::Case {
+    lamella_case::load(&lamella_suite::cases_dir().join(name)).expect("bundled case loads")
+}
+
+#[test]
+fn startup_poiseuille_follows_the_morris_series() {
+    let case = load("poiseuille.ron");
+    let started = Instant::now();
+    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
+    let plates = PlateGap {
+        gap: case.extent(1),
+        nu,
+    };
+    let force = case.body_force.as_ref().expect("body force")[0];
+    let rows = case.lattice_counts()[1];
+    assert_eq!(rows, 30, "30 particles across the channel");
+    let mut last = f64::NAN;
+    for t in [0.05, 0.1, 0.2, 0.4, case.time.end] {
+        advance_to(&mut sim, t);
+        last = profile_error(&sim, plates.gap, rows, |y| {
+            plates.poiseuille_startup(force, y, t)
+        });
+        println!(
+            "Poiseuille t = {t:.2} s: relative L2 error {:.2} %",
+            100.0 * last
+        );
+        assert!(last < 0.10, "transient profile off by {last}");
+    }
+    println!(
+        "Poiseuille: {} steps in {:.1?}",
+        sim.step_count(),
+        started.elapsed()
+    );
+    assert!(
+        last <= 0.03,
+        "steady Poiseuille profile: relative L2 error {last} > 3 %"
+    );
+}
+
+#[test]
+fn startup_couette_follows_the_morris_series() {
+    let case = load("couette.ron");
+    let started = Instant::now();
+    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
+    let plates = PlateGap {
+        gap: case.extent(1),
+        nu,
+    };
+    let lid = case
+        .walls
+        .iter()
+        .find_map(|w| w.velocity.as_ref())
+        .expect("a moving wall")[0];
+    let rows = case.lattice_counts()[1];
+    assert_eq!(rows, 30, "30 particles across the channel");
+    let mut last = f64::NAN;
+    for t in [0.05, 0.1, 0.2, 0.4, case.time.end] {
+        advance_to(&mut sim, t);
+        last = profile_error(&sim, plates.gap, rows, |y| {
+            plates.couette_startup(lid, y, t)
+        });
+        println!(
+            "Couette t = {t:.2} s: relative L2 error {:.2} %",
+            100.0 * last
+        );
+        assert!(last < 0.10, "transient profile off by {last}");
+    }
+    println!(
+        "Couette: {} steps in {:.1?}",
+        sim.step_count(),
+        started.elapsed()
+    );
+    assert!(
+        last <= 0.03,
+        "steady Couette profile: relative L2 error {last} > 3 %"
+    );
+}
