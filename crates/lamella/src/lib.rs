@@ -4,5 +4,7 @@ pub mod cli;
 mod commands;
 pub mod failure;
 pub mod output;
+pub mod runner;
+pub mod setup;
 
 pub use failure::Failure;
