@@ -85,7 +85,10 @@ fn a_damaged_snapshot_is_reported_with_its_path() {
     let text = std::fs::read_to_string(&path).unwrap();
     std::fs::write(&path, &text[..text.len() / 2]).unwrap();
     let err = read_snapshot(&path).unwrap_err().to_string();
-    assert!(err.contains("s.vtp") && err.contains("not a valid snapshot"), "{err}");
+    assert!(
+        err.contains("s.vtp") && err.contains("not a valid snapshot"),
+        "{err}"
+    );
 }
 
 #[test]

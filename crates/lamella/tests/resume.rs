@@ -108,7 +108,10 @@ fn checkpoints(out: &Path) -> Vec<PathBuf> {
 /// Every result file of a run folder that must match byte for byte: the series, the probes,
 /// the collection, every snapshot, and the final checkpoint's content.
 fn results(out: &Path) -> Vec<(String, Vec<u8>)> {
-    let mut files = vec![("series.csv".to_string(), fs::read(out.join("series.csv")).unwrap())];
+    let mut files = vec![(
+        "series.csv".to_string(),
+        fs::read(out.join("series.csv")).unwrap(),
+    )];
     for dir in ["probes", "snapshots"] {
         let mut names: Vec<PathBuf> = fs::read_dir(out.join(dir))
             .unwrap()
@@ -121,7 +124,10 @@ fn results(out: &Path) -> Vec<(String, Vec<u8>)> {
             files.push((name, fs::read(&path).unwrap()));
         }
     }
-    files.push(("final checkpoint".into(), fs::read(newest_checkpoint(out)).unwrap()));
+    files.push((
+        "final checkpoint".into(),
+        fs::read(newest_checkpoint(out)).unwrap(),
+    ));
     files
 }
 
@@ -131,7 +137,10 @@ fn assert_same_results(straight: &Path, resumed: &Path) {
     let names = |r: &[(String, Vec<u8>)]| r.iter().map(|(n, _)| n.clone()).collect::<Vec<_>>();
     assert_eq!(names(&a), names(&b), "different result files");
     for ((name, x), (_, y)) in a.iter().zip(&b) {
-        assert!(x == y, "{name} differs between the straight and the resumed run");
+        assert!(
+            x == y,
+            "{name} differs between the straight and the resumed run"
+        );
     }
     assert!(a.len() > 6, "too few result files: {:?}", names(&a));
 }
@@ -143,8 +152,14 @@ fn run_to_half(case_path: &Path, text: &str, out: &Path) {
     let mut sim = lamella::setup::simulation::<DVec2>(&case).unwrap();
     let mut recorder = Recorder::<DVec2>::start(out, false, &case, text, "layers").unwrap();
     let half = 4.0 * SNAPSHOT_INTERVAL;
-    run_to_end(&mut sim, half, &mut recorder, &AtomicBool::new(false), ProgressMode::Silent)
-        .unwrap();
+    run_to_end(
+        &mut sim,
+        half,
+        &mut recorder,
+        &AtomicBool::new(false),
+        ProgressMode::Silent,
+    )
+    .unwrap();
     assert!(sim.time() == half);
     assert_eq!(checkpoints(out).len(), 1);
 }
@@ -182,10 +197,11 @@ fn sigint_checkpoints_exits_130_and_the_resume_matches() {
         .unwrap();
     // Wait for the run to be under way (a few rows in the series), then interrupt it.
     let started = Instant::now();
-    while fs::read_to_string(stopped.join("series.csv"))
-        .map_or(true, |s| s.lines().count() < 2)
-    {
-        assert!(started.elapsed() < Duration::from_secs(60), "the run did not start");
+    while fs::read_to_string(stopped.join("series.csv")).map_or(true, |s| s.lines().count() < 2) {
+        assert!(
+            started.elapsed() < Duration::from_secs(60),
+            "the run did not start"
+        );
         std::thread::sleep(Duration::from_millis(5));
     }
     let sent = Command::new("kill")
@@ -230,7 +246,10 @@ fn sigkill_in_the_middle_of_a_checkpoint_write_leaves_a_resumable_run() {
     let partial = killed.join("checkpoints/.checkpoint_000005.bin.partial");
     let started = Instant::now();
     while fs::metadata(&partial).map_or(true, |m| m.len() == 0) {
-        assert!(started.elapsed() < Duration::from_secs(60), "no checkpoint write began");
+        assert!(
+            started.elapsed() < Duration::from_secs(60),
+            "no checkpoint write began"
+        );
         std::thread::sleep(Duration::from_millis(5));
     }
     child.kill().unwrap(); // SIGKILL

@@ -20,8 +20,10 @@ use crate::setup;
 
 /// Options of `lamella resume`.
 #[derive(Debug, clap::Args)]
-#[command(after_help = "Exit codes: 0 finished, 1 the run failed, 2 bad input (not a run \
-    folder, no valid checkpoint, case.ron changed), 130 interrupted again (state saved).")]
+#[command(
+    after_help = "Exit codes: 0 finished, 1 the run failed, 2 bad input (not a run \
+    folder, no valid checkpoint, case.ron changed), 130 interrupted again (state saved)."
+)]
 pub struct Args {
     /// The run folder written by `lamella run --out DIR`.
     #[arg(value_name = "DIR")]
@@ -51,8 +53,9 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
 /// (exit code 130, no checkpoint), for a run that does not reach its next step.
 pub(crate) fn interrupt_flag() -> Result<Arc<AtomicBool>, Failure> {
     let stop = Arc::new(AtomicBool::new(false));
-    let failed =
-        |err: std::io::Error| Failure::RunFailed(format!("cannot install the interrupt handler: {err}"));
+    let failed = |err: std::io::Error| {
+        Failure::RunFailed(format!("cannot install the interrupt handler: {err}"))
+    };
     for signal in [signal_hook::consts::SIGINT, signal_hook::consts::SIGTERM] {
         // Order matters: the shutdown check runs before the flag is raised by this signal.
         signal_hook::flag::register_conditional_shutdown(signal, 130, Arc::clone(&stop))

@@ -222,8 +222,12 @@ fn put_array(out: &mut Vec<u8>, array: &ArrayData) {
         ArrayData::F64 { values, .. } => values
             .iter()
             .for_each(|x| out.extend_from_slice(&x.to_bits().to_le_bytes())),
-        ArrayData::U64(v) => v.iter().for_each(|x| out.extend_from_slice(&x.to_le_bytes())),
-        ArrayData::U16(v) => v.iter().for_each(|x| out.extend_from_slice(&x.to_le_bytes())),
+        ArrayData::U64(v) => v
+            .iter()
+            .for_each(|x| out.extend_from_slice(&x.to_le_bytes())),
+        ArrayData::U16(v) => v
+            .iter()
+            .for_each(|x| out.extend_from_slice(&x.to_le_bytes())),
         ArrayData::U8(v) => out.extend_from_slice(v),
     }
 }
@@ -232,7 +236,9 @@ fn put_array(out: &mut Vec<u8>, array: &ArrayData) {
 /// The error says what is wrong (without the file name; see [`read_checkpoint`]).
 pub fn decode<V: Vector>(bytes: &[u8]) -> Result<Checkpoint<V>, String> {
     if bytes.len() < MAGIC.len() || bytes[..MAGIC.len()] != MAGIC {
-        return Err("it does not start with the checkpoint magic (not a Lamella checkpoint)".into());
+        return Err(
+            "it does not start with the checkpoint magic (not a Lamella checkpoint)".into(),
+        );
     }
     if bytes.len() < MAGIC.len() + 8 + 4 {
         return Err(format!("it is truncated ({} bytes)", bytes.len()));
@@ -497,7 +503,9 @@ impl CheckpointStore {
         };
         let mut found = Vec::new();
         for entry in entries {
-            let path = entry.map_err(|err| OutputError::read(&self.folder, err))?.path();
+            let path = entry
+                .map_err(|err| OutputError::read(&self.folder, err))?
+                .path();
             let number = path
                 .file_name()
                 .and_then(|n| n.to_str())
@@ -565,7 +573,8 @@ impl CheckpointStore {
             }
         }
         Err(OutputError::Folder(format!(
-            "no valid checkpoint in {}:\n  {}",
+            "no valid checkpoint in {}:\n  {}\nthe run cannot be resumed; start it again with \
+             `lamella run CASE --out DIR --force`",
             self.folder.display(),
             skipped.join("\n  ")
         )))
@@ -599,7 +608,13 @@ mod tests {
                 ("next_snapshot_time".into(), Value::F64(0.5)),
                 ("snapshots_written".into(), Value::U64(3)),
             ],
-            arrays: vec![("shift".into(), ArrayData::F64 { components: 2, values: vec![1.0; 4] })],
+            arrays: vec![(
+                "shift".into(),
+                ArrayData::F64 {
+                    components: 2,
+                    values: vec![1.0; 4],
+                },
+            )],
         }
     }
 
@@ -619,7 +634,10 @@ mod tests {
     fn every_truncation_is_detected() {
         let bytes = encode(&small());
         for len in 0..bytes.len() {
-            assert!(decode::<DVec2>(&bytes[..len]).is_err(), "length {len} accepted");
+            assert!(
+                decode::<DVec2>(&bytes[..len]).is_err(),
+                "length {len} accepted"
+            );
         }
     }
 
@@ -631,7 +649,10 @@ mod tests {
         for bit in 0..bytes.len() * 8 {
             let mut damaged = bytes.clone();
             damaged[bit / 8] ^= 1 << (bit % 8);
-            assert!(decode::<DVec2>(&damaged).is_err(), "flip of bit {bit} accepted");
+            assert!(
+                decode::<DVec2>(&damaged).is_err(),
+                "flip of bit {bit} accepted"
+            );
         }
     }
 

@@ -100,14 +100,20 @@ mod tests {
     fn a_full_disk_is_explained_and_maps_to_run_failed() {
         let err = OutputError::write(Path::new("out/x.bin"), io::ErrorKind::StorageFull.into());
         let text = err.to_string();
-        assert!(text.contains("out/x.bin") && text.contains("disk is full"), "{text}");
+        assert!(
+            text.contains("out/x.bin") && text.contains("disk is full"),
+            "{text}"
+        );
         assert_eq!(Failure::from(err).exit_code(), 1);
     }
 
     #[test]
     fn invalid_files_are_bad_input() {
         let err = OutputError::invalid(Path::new("c.bin"), "checkpoint", "checksum mismatch");
-        assert_eq!(err.to_string(), "c.bin is not a valid checkpoint: checksum mismatch");
+        assert_eq!(
+            err.to_string(),
+            "c.bin is not a valid checkpoint: checksum mismatch"
+        );
         assert_eq!(Failure::from(err).exit_code(), 2);
     }
 }

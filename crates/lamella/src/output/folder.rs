@@ -169,7 +169,10 @@ mod tests {
         folder.save_case("(case)").unwrap();
         fs::write(root.join("notes.txt"), "mine").unwrap();
         let err = RunFolder::create(&root, false).unwrap_err().to_string();
-        assert!(err.contains("--force") && err.contains("lamella resume"), "{err}");
+        assert!(
+            err.contains("--force") && err.contains("lamella resume"),
+            "{err}"
+        );
         RunFolder::create(&root, true).unwrap();
         assert!(!folder.case().exists());
         assert_eq!(fs::read_to_string(root.join("notes.txt")).unwrap(), "mine");

@@ -24,7 +24,12 @@ impl Buckets {
 
     /// Calls `visit(j, r)` for every particle `j` with distance r = |x_j − `at`| < radius,
     /// in a fixed order.
-    pub fn for_each_within<V: Vector>(&self, positions: &[V], at: V, mut visit: impl FnMut(usize, f64)) {
+    pub fn for_each_within<V: Vector>(
+        &self,
+        positions: &[V],
+        at: V,
+        mut visit: impl FnMut(usize, f64),
+    ) {
         let centre = cell_of(at, self.radius);
         let span = |axis: usize| if axis < V::DIM { -1..=1 } else { 0..=0 };
         for dx in span(0) {
@@ -61,7 +66,11 @@ mod tests {
         let points: Vec<DVec3> = (0..300)
             .map(|i| {
                 let t = i as f64;
-                DVec3::new((t * 0.37).sin() * 2.0, (t * 0.71).cos() * 2.0, (t * 0.13).sin())
+                DVec3::new(
+                    (t * 0.37).sin() * 2.0,
+                    (t * 0.71).cos() * 2.0,
+                    (t * 0.13).sin(),
+                )
             })
             .collect();
         let buckets = Buckets::new(&points, 0.4);

@@ -143,7 +143,11 @@ impl<V: Vector> ProbeFiles<V> {
 
     /// Reopens the probe files, each cut back to the byte length in `lengths` (same order
     /// as `probes`) recorded at the checkpoint a run resumes from.
-    pub fn reopen(folder: &Path, probes: Vec<Probe<V>>, lengths: &[u64]) -> Result<Self, OutputError> {
+    pub fn reopen(
+        folder: &Path,
+        probes: Vec<Probe<V>>,
+        lengths: &[u64],
+    ) -> Result<Self, OutputError> {
         if lengths.len() != probes.len() {
             return Err(OutputError::Folder(format!(
                 "the checkpoint records {} probe files but the case has {} probes",
@@ -161,7 +165,13 @@ impl<V: Vector> ProbeFiles<V> {
     }
 
     /// Samples every probe in `particles` at `time`/`step` and appends the rows.
-    pub fn sample(&mut self, particles: &Particles<V>, kernel: &Kernel, time: f64, step: u64) -> Result<(), OutputError> {
+    pub fn sample(
+        &mut self,
+        particles: &Particles<V>,
+        kernel: &Kernel,
+        time: f64,
+        step: u64,
+    ) -> Result<(), OutputError> {
         if self.probes.is_empty() {
             return Ok(());
         }
@@ -258,12 +268,20 @@ mod tests {
         let s = interpolate(&particles, &buckets, &kernel, node).unwrap();
         assert!((s.pressure - 3.0).abs() < 1e-12);
         assert!((s.density - 1000.0).abs() < 1e-9);
-        assert!((s.velocity.x - (0.5 + 2.0 * node.y)).abs() < 1e-12, "{:?}", s.velocity);
+        assert!(
+            (s.velocity.x - (0.5 + 2.0 * node.y)).abs() < 1e-12,
+            "{:?}",
+            s.velocity
+        );
         // Between nodes Shepard's sum is a weighted mean: within one support of the exact value.
         let between = DVec2::new(0.0937, 0.1013);
         let s = interpolate(&particles, &buckets, &kernel, between).unwrap();
         let reach = 2.0 * kernel.support_radius();
-        assert!((s.velocity.x - (0.5 + 2.0 * between.y)).abs() < reach, "{:?}", s.velocity);
+        assert!(
+            (s.velocity.x - (0.5 + 2.0 * between.y)).abs() < reach,
+            "{:?}",
+            s.velocity
+        );
         // At the corner the support is truncated; constants stay exact thanks to Shepard.
         let corner = interpolate(&particles, &buckets, &kernel, DVec2::ZERO).unwrap();
         assert!((corner.pressure - 3.0).abs() < 1e-12);

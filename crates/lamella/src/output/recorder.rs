@@ -178,7 +178,10 @@ impl<V: Vector> Recorder<V> {
                 Value::U64(self.collection.entries().len() as u64),
             ),
             (SERIES_BYTES.to_string(), Value::U64(series_bytes)),
-            (PROBE_COUNT.to_string(), Value::U64(probe_bytes.len() as u64)),
+            (
+                PROBE_COUNT.to_string(),
+                Value::U64(probe_bytes.len() as u64),
+            ),
         ];
         for (k, &bytes) in probe_bytes.iter().enumerate() {
             values.push((probe_bytes_name(k), Value::U64(bytes)));
@@ -224,7 +227,12 @@ impl<V: Vector> Recorder<V> {
         ))
     }
 
-    fn sample(&mut self, sim: &Simulation<V>, dt: f64, dt_limit: String) -> Result<(), OutputError> {
+    fn sample(
+        &mut self,
+        sim: &Simulation<V>,
+        dt: f64,
+        dt_limit: String,
+    ) -> Result<(), OutputError> {
         let config = sim.config();
         let statistics = FlowStatistics::of(
             sim.particles(),
@@ -239,8 +247,12 @@ impl<V: Vector> Recorder<V> {
             dt_limit,
             statistics,
         })?;
-        self.probes
-            .sample(sim.particles(), &config.kernel, sim.time(), sim.step_count())
+        self.probes.sample(
+            sim.particles(),
+            &config.kernel,
+            sim.time(),
+            sim.step_count(),
+        )
     }
 
     fn due(index: u64, interval: f64, time: f64) -> bool {
@@ -304,7 +316,8 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         if Self::due(self.next_sample, self.sample_interval, report.time) {
             self.sample(sim, report.dt, report.limit.to_string())
                 .map_err(failed)?;
-            self.next_sample = Self::next_index(self.next_sample, self.sample_interval, report.time);
+            self.next_sample =
+                Self::next_index(self.next_sample, self.sample_interval, report.time);
         }
         if Self::due(self.next_snapshot, self.snapshot_interval, report.time) {
             self.snapshot(sim).map_err(failed)?;
@@ -324,13 +337,19 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         }
         self.checkpoint(sim).map_err(failed)?;
         self.log
-            .line(&format!("finished at t = {:e} s, step {}", sim.time(), sim.step_count()))
+            .line(&format!(
+                "finished at t = {:e} s, step {}",
+                sim.time(),
+                sim.step_count()
+            ))
             .map_err(failed)
     }
 
     fn on_failure(&mut self, sim: &Simulation<V>, fault: &Fault<V>) -> Result<(), Failure> {
         // The last good state, for inspection; the newest checkpoint stays the one to resume.
-        self.log.line(&format!("the run went bad: {fault}")).map_err(failed)?;
+        self.log
+            .line(&format!("the run went bad: {fault}"))
+            .map_err(failed)?;
         self.series.flush().map_err(failed)?;
         self.probes.flush().map_err(failed)?;
         self.snapshot(sim).map_err(failed)
@@ -338,7 +357,9 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
 
     fn on_interrupt(&mut self, sim: &Simulation<V>) -> Result<(), Failure> {
         let path = self.checkpoint(sim).map_err(failed)?;
-        self.log.line("interrupted; resume with `lamella resume`").map_err(failed)?;
+        self.log
+            .line("interrupted; resume with `lamella resume`")
+            .map_err(failed)?;
         eprintln!(
             "interrupted: state saved in {}; continue with `lamella resume {}`",
             path.display(),

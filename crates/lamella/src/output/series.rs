@@ -113,7 +113,11 @@ pub struct SeriesFile {
 
 impl SeriesFile {
     /// Creates `path` with the header for `phase_names` in `dimension` 2 or 3.
-    pub fn create(path: &Path, phase_names: &[String], dimension: usize) -> Result<Self, OutputError> {
+    pub fn create(
+        path: &Path,
+        phase_names: &[String],
+        dimension: usize,
+    ) -> Result<Self, OutputError> {
         let file = File::create(path).map_err(|err| OutputError::write(path, err))?;
         let mut series = SeriesFile {
             path: path.to_path_buf(),
@@ -160,7 +164,10 @@ impl SeriesFile {
         }
         line.push_str(&format!(
             ",{:e},{:e},{},{:e}\n",
-            s.max_speed, s.max_density_deviation, s.interface_particles, s.interface_rms_displacement
+            s.max_speed,
+            s.max_density_deviation,
+            s.interface_particles,
+            s.interface_rms_displacement
         ));
         self.writer
             .write_all(line.as_bytes())
@@ -197,8 +204,13 @@ pub(crate) fn reopen_at(path: &Path, length: u64) -> Result<File, OutputError> {
 }
 
 /// Flushes and syncs a table; returns its length in bytes.
-pub(crate) fn flush_and_sync(writer: &mut BufWriter<File>, path: &Path) -> Result<u64, OutputError> {
-    writer.flush().map_err(|err| OutputError::write(path, err))?;
+pub(crate) fn flush_and_sync(
+    writer: &mut BufWriter<File>,
+    path: &Path,
+) -> Result<u64, OutputError> {
+    writer
+        .flush()
+        .map_err(|err| OutputError::write(path, err))?;
     let file = writer.get_ref();
     file.sync_data()
         .map_err(|err| OutputError::write(path, err))?;
@@ -212,7 +224,10 @@ fn header(phase_names: &[String], dimension: usize) -> String {
     let energy_unit = if dimension == 2 { "J_per_m" } else { "J" };
     let mut header = String::from("time_s,step,dt_s,dt_limit");
     for name in phase_names {
-        header.push_str(&format!(",kinetic_energy_{}_{energy_unit}", column_word(name)));
+        header.push_str(&format!(
+            ",kinetic_energy_{}_{energy_unit}",
+            column_word(name)
+        ));
     }
     header.push_str(
         ",max_speed_m_per_s,max_density_deviation,interface_particles,interface_rms_displacement_m\n",
@@ -238,7 +253,8 @@ mod tests {
         for (i, x) in [0.0, 1.0, 2.0, 3.0].into_iter().enumerate() {
             let phase = u16::from(x >= 2.0);
             p.position.push(DVec2::new(x, 0.0));
-            p.initial_position.push(DVec2::new(x, if i == 1 { 0.5 } else { 0.0 }));
+            p.initial_position
+                .push(DVec2::new(x, if i == 1 { 0.5 } else { 0.0 }));
             p.velocity.push(DVec2::new(1.0 + x, 0.0));
             p.density.push(1000.0 + 10.0 * x);
             p.pressure.push(0.0);
@@ -298,8 +314,14 @@ mod tests {
         let text = std::fs::read_to_string(&path).unwrap();
         let lines: Vec<&str> = text.lines().collect();
         assert_eq!(lines.len(), 3);
-        assert!(lines[0].starts_with("time_s,step,dt_s,dt_limit,kinetic_energy_light_oil_J_per_m,"));
-        assert!(lines[2].starts_with("2e-1,2,1e-4,viscous,5e0,2.5e1,"), "{}", lines[2]);
+        assert!(
+            lines[0].starts_with("time_s,step,dt_s,dt_limit,kinetic_energy_light_oil_J_per_m,")
+        );
+        assert!(
+            lines[2].starts_with("2e-1,2,1e-4,viscous,5e0,2.5e1,"),
+            "{}",
+            lines[2]
+        );
         assert!(SeriesFile::reopen(&path, 1 << 20, 2).is_err());
     }
 }

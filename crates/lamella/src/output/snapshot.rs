@@ -152,7 +152,10 @@ fn snapshot_document<V: Vector>(
         scalar_array("viscosity", IOBuffer::F64(viscosity.clone())),
         scalar_array("phase", IOBuffer::U16(phase.clone())),
         scalar_array("id", IOBuffer::U64(id.clone())),
-        scalar_array("kind", IOBuffer::U8(kind.iter().map(|&k| k as u8).collect())),
+        scalar_array(
+            "kind",
+            IOBuffer::U8(kind.iter().map(|&k| k as u8).collect()),
+        ),
         vector_array("initial_position", initial_position),
     ];
     if let Some(rates) = shear_rate {
