@@ -18,7 +18,9 @@ fn every_bundled_case_parses_and_validates() {
     let cases = bundled_cases();
     for name in EXPECTED {
         assert!(
-            cases.iter().any(|p| p.file_name().is_some_and(|f| f == name)),
+            cases
+                .iter()
+                .any(|p| p.file_name().is_some_and(|f| f == name)),
             "cases/{name} is missing"
         );
     }
@@ -47,7 +49,10 @@ fn the_cases_readme_lists_every_case_and_documents_every_field() {
     let readme = std::fs::read_to_string(cases_dir().join("README.md")).unwrap();
     for path in bundled_cases() {
         let name = path.file_name().unwrap().to_string_lossy().to_string();
-        assert!(readme.contains(&name), "cases/README.md does not mention {name}");
+        assert!(
+            readme.contains(&name),
+            "cases/README.md does not mention {name}"
+        );
     }
     // Every field name the bundled cases use appears in the README, in backticks.
     for path in bundled_cases() {
@@ -78,7 +83,8 @@ fn field_names(text: &str) -> Vec<String> {
             } else if ch.is_ascii_alphanumeric() || ch == '_' {
                 word.push(ch);
             } else {
-                if ch == ':' && !word.is_empty() && !word.starts_with(|c: char| c.is_ascii_digit()) {
+                if ch == ':' && !word.is_empty() && !word.starts_with(|c: char| c.is_ascii_digit())
+                {
                     names.push(word.clone());
                 }
                 word.clear();

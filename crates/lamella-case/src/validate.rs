@@ -615,7 +615,9 @@ impl Case {
                     ),
                 );
             }
-            if spacing_ok && f64::from(wall.layers) < needed_layers {
+            let ratio = self.particles.smoothing_ratio;
+            let ratio_ok = (SMOOTHING_RATIO_RANGE.0..=SMOOTHING_RATIO_RANGE.1).contains(&ratio);
+            if spacing_ok && ratio_ok && f64::from(wall.layers) < needed_layers {
                 c.bad(
                     format!("{path}.layers"),
                     wall.layers.to_string(),

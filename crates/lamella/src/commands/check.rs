@@ -15,8 +15,10 @@ const COUNT_BY_GENERATION_LIMIT: f64 = 2.0e7;
 
 /// Options of `lamella check`.
 #[derive(Debug, clap::Args)]
-#[command(after_help = "Exit codes: 0 the case is valid, 2 it is not (every problem is listed \
-    with the file and the field path or line and column).")]
+#[command(
+    after_help = "Exit codes: 0 the case is valid, 2 it is not (every problem is listed \
+    with the file and the field path or line and column)."
+)]
 pub struct Args {
     /// The case file (RON) to validate.
     #[arg(value_name = "CASE")]
@@ -116,7 +118,12 @@ fn summary(path: &Path, case: &Case) -> String {
 
     let dim = case.dimension as usize;
     let extents: Vec<String> = (0..dim).map(|a| sig(case.extent(a))).collect();
-    let periodic: Vec<String> = case.domain.periodic.iter().map(|a| format!("{a:?}")).collect();
+    let periodic: Vec<String> = case
+        .domain
+        .periodic
+        .iter()
+        .map(|a| format!("{a:?}"))
+        .collect();
     let _ = writeln!(
         s,
         "  domain        {dim}D, {} m, periodic: {}",

@@ -12,8 +12,10 @@ use crate::cli::Globals;
 
 /// Options of `lamella new`.
 #[derive(Debug, clap::Args)]
-#[command(after_help = "Exit codes: 0 written, 2 bad input (unknown template, file exists \
-    without --force, folder not writable).")]
+#[command(
+    after_help = "Exit codes: 0 written, 2 bad input (unknown template, file exists \
+    without --force, folder not writable)."
+)]
 pub struct Args {
     /// Which starter case to write.
     #[arg(value_name = "TEMPLATE", value_parser = template_names())]
