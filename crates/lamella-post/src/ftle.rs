@@ -164,7 +164,11 @@ mod tests {
     fn wendland_factor(h: f64) -> impl Fn(f64) -> f64 {
         move |r: f64| {
             let q = r / h;
-            if q < 2.0 { -5.0 * (1.0 - 0.5 * q).powi(3) / (h * h) } else { 0.0 }
+            if q < 2.0 {
+                -5.0 * (1.0 - 0.5 * q).powi(3) / (h * h)
+            } else {
+                0.0
+            }
         }
     }
 
@@ -202,7 +206,10 @@ mod tests {
             .collect();
         let angle: f64 = 0.7;
         let (c, s) = (angle.cos(), angle.sin());
-        let rotated: Vec<DVec3> = initial.iter().map(|p| DVec3::new(c * p.x - s * p.y, s * p.x + c * p.y, p.z)).collect();
+        let rotated: Vec<DVec3> = initial
+            .iter()
+            .map(|p| DVec3::new(c * p.x - s * p.y, s * p.x + c * p.y, p.z))
+            .collect();
         let h = 1.3 * dx;
         let nb = brute_force(&initial, &initial, 2.0 * h, true);
         let volume = vec![dx.powi(3); initial.len()];
@@ -211,7 +218,10 @@ mod tests {
             assert!(l.abs() < 1e-9, "FTLE {l}");
         }
         // Stretch along z by e^{0.3·2}: FTLE 0.3.
-        let stretched: Vec<DVec3> = initial.iter().map(|p| DVec3::new(p.x, p.y, p.z * (0.6f64).exp())).collect();
+        let stretched: Vec<DVec3> = initial
+            .iter()
+            .map(|p| DVec3::new(p.x, p.y, p.z * (0.6f64).exp()))
+            .collect();
         let f = deformation_gradients(&nb, &stretched, &volume, |a, b| a - b, wendland_factor(h));
         for l in ftle(&f, 3, 2.0) {
             assert!((l - 0.3).abs() < 1e-9);
@@ -222,7 +232,13 @@ mod tests {
     fn isolated_particle_gets_nan() {
         let initial = vec![DVec2::ZERO, DVec2::new(10.0, 0.0)];
         let nb = brute_force(&initial, &initial, 1.0, true);
-        let f = deformation_gradients(&nb, &initial, &[1.0, 1.0], |a, b| a - b, wendland_factor(0.4));
+        let f = deformation_gradients(
+            &nb,
+            &initial,
+            &[1.0, 1.0],
+            |a, b| a - b,
+            wendland_factor(0.4),
+        );
         assert!(ftle(&f, 2, 1.0).iter().all(|v| v.is_nan()));
     }
 }

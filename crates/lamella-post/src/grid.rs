@@ -24,7 +24,11 @@ impl<V: Vector> Grid<V> {
         }
         let mut c = [1; 3];
         c[..V::DIM].copy_from_slice(cells);
-        Some(Grid { lower, upper, cells: c })
+        Some(Grid {
+            lower,
+            upper,
+            cells: c,
+        })
     }
 
     /// Cell width on each axis (m).
@@ -47,7 +51,11 @@ impl<V: Vector> Grid<V> {
         let d = self.spacing();
         (0..self.len())
             .map(|k| {
-                let idx = [k % self.cells[0], (k / self.cells[0]) % self.cells[1], k / (self.cells[0] * self.cells[1])];
+                let idx = [
+                    k % self.cells[0],
+                    (k / self.cells[0]) % self.cells[1],
+                    k / (self.cells[0] * self.cells[1]),
+                ];
                 V::from_fn(|a| self.lower.get(a) + (idx[a] as f64 + 0.5) * d.get(a))
             })
             .collect()

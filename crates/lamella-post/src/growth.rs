@@ -91,12 +91,12 @@ pub fn detect_onset(time: &[f64], amplitude: &[f64], threshold: f64) -> Result<u
     if let Some(i) = amplitude.iter().position(|&a| a > threshold) {
         return Ok(i);
     }
-    let (at, largest) = time
-        .iter()
-        .zip(amplitude)
-        .fold((f64::NAN, f64::NEG_INFINITY), |best, (&t, &a)| {
-            if a > best.1 { (t, a) } else { best }
-        });
+    let (at, largest) =
+        time.iter()
+            .zip(amplitude)
+            .fold((f64::NAN, f64::NEG_INFINITY), |best, (&t, &a)| {
+                if a > best.1 { (t, a) } else { best }
+            });
     Err(GrowthError::NoOnset {
         threshold,
         largest: largest.max(0.0),

@@ -77,7 +77,11 @@ pub fn global_composition(volume: &[f64], phase: &[usize], phases: usize) -> Vec
 
 /// Shannon entropy −Σ x_k ln x_k of one composition (0 ln 0 = 0).
 pub fn shannon_entropy(fractions: &[f64]) -> f64 {
-    -fractions.iter().filter(|&&x| x > 0.0).map(|&x| x * x.ln()).sum::<f64>()
+    -fractions
+        .iter()
+        .filter(|&&x| x > 0.0)
+        .map(|&x| x * x.ln())
+        .sum::<f64>()
 }
 
 /// Normalised mixing entropy of each local composition (rows of `local`, `global.len()` phases
@@ -105,14 +109,22 @@ fn weighted_moments(value: &[f64], weight: &[f64]) -> Result<(f64, f64, usize), 
     if value.len() != weight.len() {
         return Err(MixingError::LengthMismatch(value.len(), weight.len()));
     }
-    let used = || value.iter().zip(weight).filter(|(v, w)| **w > 0.0 && v.is_finite());
+    let used = || {
+        value
+            .iter()
+            .zip(weight)
+            .filter(|(v, w)| **w > 0.0 && v.is_finite())
+    };
     let total: f64 = used().map(|(_, w)| w).sum();
     let count = used().count();
     if count == 0 || total <= 0.0 {
         return Err(MixingError::NoSamples);
     }
     let mean = used().map(|(v, w)| v * w).sum::<f64>() / total;
-    let var = used().map(|(v, w)| w * (v - mean) * (v - mean)).sum::<f64>() / total;
+    let var = used()
+        .map(|(v, w)| w * (v - mean) * (v - mean))
+        .sum::<f64>()
+        / total;
     Ok((mean, var, count))
 }
 
@@ -171,7 +183,12 @@ mod tests {
     fn boxed(phases: &[usize], per_box: usize) -> (Vec<f64>, Vec<f64>) {
         phases
             .chunks(per_box)
-            .map(|c| (c.iter().filter(|&&p| p == 0).count() as f64 / c.len() as f64, c.len() as f64))
+            .map(|c| {
+                (
+                    c.iter().filter(|&&p| p == 0).count() as f64 / c.len() as f64,
+                    c.len() as f64,
+                )
+            })
             .unzip()
     }
 
@@ -192,10 +209,15 @@ mod tests {
         let mut rng = Uniform(0x2545f4914f6cdd1d);
         let mut previous = f64::INFINITY;
         for &per_box in &[10usize, 100, 1000] {
-            let phases: Vec<usize> = (0..400 * per_box).map(|_| if rng.next() < 0.3 { 0 } else { 1 }).collect();
+            let phases: Vec<usize> = (0..400 * per_box)
+                .map(|_| if rng.next() < 0.3 { 0 } else { 1 })
+                .collect();
             let (frac, count) = boxed(&phases, per_box);
             let i = intensity_of_segregation(&frac, &count).unwrap();
-            assert!((i * per_box as f64 - 1.0).abs() < 0.25, "I = {i} with {per_box} per box");
+            assert!(
+                (i * per_box as f64 - 1.0).abs() < 0.25,
+                "I = {i} with {per_box} per box"
+            );
             assert!(i < previous);
             previous = i;
             let m = lacey_index(&frac, &count).unwrap();
@@ -206,8 +228,14 @@ mod tests {
 
     #[test]
     fn single_phase_is_refused() {
-        assert_eq!(intensity_of_segregation(&[1.0, 1.0], &[1.0, 1.0]), Err(MixingError::SinglePhase(1.0)));
-        assert_eq!(intensity_of_segregation(&[0.5], &[0.0]), Err(MixingError::NoSamples));
+        assert_eq!(
+            intensity_of_segregation(&[1.0, 1.0], &[1.0, 1.0]),
+            Err(MixingError::SinglePhase(1.0))
+        );
+        assert_eq!(
+            intensity_of_segregation(&[0.5], &[0.0]),
+            Err(MixingError::NoSamples)
+        );
     }
 
     #[test]
@@ -226,16 +254,26 @@ mod tests {
         // on it they are one half by symmetry, and every row sums to one (Shepard normalisation).
         let n = 20;
         let dx = 0.05;
-        let pos: Vec<DVec2> =
-            (0..n * n).map(|k| DVec2::new(((k % n) as f64 + 0.5) * dx, ((k / n) as f64 + 0.5) * dx)).collect();
+        let pos: Vec<DVec2> = (0..n * n)
+            .map(|k| DVec2::new(((k % n) as f64 + 0.5) * dx, ((k / n) as f64 + 0.5) * dx))
+            .collect();
         let phase: Vec<usize> = pos.iter().map(|p| usize::from(p.y > 0.5)).collect();
         let volume = vec![dx * dx; pos.len()];
         let h = 1.3 * dx;
         let kernel = |r: f64| {
             let q = r / h;
-            if q < 2.0 { (1.0 - 0.5 * q).powi(4) * (2.0 * q + 1.0) } else { 0.0 }
+            if q < 2.0 {
+                (1.0 - 0.5 * q).powi(4) * (2.0 * q + 1.0)
+            } else {
+                0.0
+            }
         };
-        let nodes = [DVec2::new(0.5, 0.5), DVec2::new(0.5, 0.1), DVec2::new(0.5, 0.9), DVec2::new(5.0, 5.0)];
+        let nodes = [
+            DVec2::new(0.5, 0.5),
+            DVec2::new(0.5, 0.1),
+            DVec2::new(0.5, 0.9),
+            DVec2::new(5.0, 5.0),
+        ];
         let nb = brute_force(&nodes, &pos, 2.0 * h, false);
         let (f, sums) = phase_fractions(&nb, &volume, &phase, 2, kernel, None);
         assert!((f[0] - 0.5).abs() < 1e-12);

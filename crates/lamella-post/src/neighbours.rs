@@ -15,7 +15,10 @@ pub struct Neighbours<V: Vector> {
 impl<V: Vector> Neighbours<V> {
     /// Builds the lists centre by centre: `visit(i, push)` calls `push(j, r_ij)` for each
     /// neighbour j of centre i.
-    pub fn from_visits(centres: usize, mut visit: impl FnMut(usize, &mut dyn FnMut(usize, V))) -> Self {
+    pub fn from_visits(
+        centres: usize,
+        mut visit: impl FnMut(usize, &mut dyn FnMut(usize, V)),
+    ) -> Self {
         let mut offsets = Vec::with_capacity(centres + 1);
         let mut index = Vec::new();
         let mut separation = Vec::new();
@@ -27,7 +30,11 @@ impl<V: Vector> Neighbours<V> {
             });
             offsets.push(index.len());
         }
-        Neighbours { offsets, index, separation }
+        Neighbours {
+            offsets,
+            index,
+            separation,
+        }
     }
 
     /// Neighbours among `positions` of each of `positions`, closer than `radius`, searched with a
@@ -47,7 +54,12 @@ impl<V: Vector> Neighbours<V> {
     }
 
     /// Neighbours among `points` of each of `centres` (e.g. grid nodes), closer than `radius`.
-    pub fn of_centres(centres: &[V], points: &[V], domain: Domain<V>, radius: f64) -> Result<Self, CellError> {
+    pub fn of_centres(
+        centres: &[V],
+        points: &[V],
+        domain: Domain<V>,
+        radius: f64,
+    ) -> Result<Self, CellError> {
         let mut all: Vec<V> = points.to_vec();
         all.extend_from_slice(centres);
         let combined = Self::among(&all, domain, radius)?;
@@ -74,13 +86,21 @@ impl<V: Vector> Neighbours<V> {
     /// The neighbours of centre `i` with their separations r = x_i − x_j.
     pub fn of(&self, i: usize) -> impl Iterator<Item = (usize, V)> + '_ {
         let range = self.offsets[i]..self.offsets[i + 1];
-        self.index[range.clone()].iter().copied().zip(self.separation[range].iter().copied())
+        self.index[range.clone()]
+            .iter()
+            .copied()
+            .zip(self.separation[range].iter().copied())
     }
 }
 
 /// Brute-force lists for small tests (all pairs, no periodicity).
 #[cfg(test)]
-pub(crate) fn brute_force<V: Vector>(centres: &[V], points: &[V], radius: f64, skip_same: bool) -> Neighbours<V> {
+pub(crate) fn brute_force<V: Vector>(
+    centres: &[V],
+    points: &[V],
+    radius: f64,
+    skip_same: bool,
+) -> Neighbours<V> {
     Neighbours::from_visits(centres.len(), |i, push| {
         for (j, &p) in points.iter().enumerate() {
             let r = centres[i] - p;
@@ -97,7 +117,14 @@ mod tests {
     use glam::DVec2;
 
     fn lattice(n: usize, dx: f64) -> Vec<DVec2> {
-        (0..n * n).map(|k| DVec2::new((k % n) as f64 * dx + 0.5 * dx, (k / n) as f64 * dx + 0.5 * dx)).collect()
+        (0..n * n)
+            .map(|k| {
+                DVec2::new(
+                    (k % n) as f64 * dx + 0.5 * dx,
+                    (k / n) as f64 * dx + 0.5 * dx,
+                )
+            })
+            .collect()
     }
 
     #[test]

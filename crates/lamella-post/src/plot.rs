@@ -83,15 +83,25 @@ fn register_font() {
 fn axis_range(values: impl Iterator<Item = f64>, log: bool) -> Option<Range<f64>> {
     let (lo, hi) = values
         .filter(|v| v.is_finite() && (!log || *v > 0.0))
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(v), b.max(v)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| {
+            (a.min(v), b.max(v))
+        });
     if !(lo <= hi) {
         return None;
     }
     if log {
-        let (lo, hi) = if lo == hi { (lo / 2.0, hi * 2.0) } else { (lo, hi) };
+        let (lo, hi) = if lo == hi {
+            (lo / 2.0, hi * 2.0)
+        } else {
+            (lo, hi)
+        };
         Some(lo / 1.2..hi * 1.2)
     } else {
-        let pad = if hi > lo { 0.05 * (hi - lo) } else { lo.abs().max(1e-30) * 0.1 };
+        let pad = if hi > lo {
+            0.05 * (hi - lo)
+        } else {
+            lo.abs().max(1e-30) * 0.1
+        };
         Some(lo - pad..hi + pad)
     }
 }
@@ -121,8 +131,14 @@ impl Chart {
             (false, true) => self.draw(&mut pixels, (width, height), xr, yr.log_scale()),
             (true, true) => self.draw(&mut pixels, (width, height), xr.log_scale(), yr.log_scale()),
         };
-        drawn.map_err(|reason| PlotError::Render { title: self.title.clone(), reason })?;
-        encode_png(&pixels, width, height).map_err(|reason| PlotError::Render { title: self.title.clone(), reason })
+        drawn.map_err(|reason| PlotError::Render {
+            title: self.title.clone(),
+            reason,
+        })?;
+        encode_png(&pixels, width, height).map_err(|reason| PlotError::Render {
+            title: self.title.clone(),
+            reason,
+        })
     }
 
     fn draw<X, Y>(&self, pixels: &mut [u8], size: (u32, u32), xr: X, yr: Y) -> Result<(), String>
@@ -153,23 +169,32 @@ impl Chart {
             .map_err(|e| e.to_string())?;
         for (k, s) in self.series.iter().enumerate() {
             let colour = COLOURS[k % COLOURS.len()];
-            let points: Vec<(f64, f64)> = s
-                .x
-                .iter()
-                .zip(&s.y)
-                .filter(|(x, y)| {
-                    x.is_finite() && y.is_finite() && (!self.log_x || **x > 0.0) && (!self.log_y || **y > 0.0)
-                })
-                .map(|(x, y)| (*x, *y))
-                .collect();
+            let points: Vec<(f64, f64)> =
+                s.x.iter()
+                    .zip(&s.y)
+                    .filter(|(x, y)| {
+                        x.is_finite()
+                            && y.is_finite()
+                            && (!self.log_x || **x > 0.0)
+                            && (!self.log_y || **y > 0.0)
+                    })
+                    .map(|(x, y)| (*x, *y))
+                    .collect();
             let anno = match s.style {
                 Style::Line => chart.draw_series(LineSeries::new(points, colour.stroke_width(2))),
-                Style::Dashed => chart.draw_series(DashedLineSeries::new(points, 6, 4, colour.stroke_width(2))),
-                Style::Points => chart.draw_series(points.into_iter().map(|p| Circle::new(p, 3, colour.filled()))),
+                Style::Dashed => {
+                    chart.draw_series(DashedLineSeries::new(points, 6, 4, colour.stroke_width(2)))
+                }
+                Style::Points => chart.draw_series(
+                    points
+                        .into_iter()
+                        .map(|p| Circle::new(p, 3, colour.filled())),
+                ),
             }
             .map_err(|e| e.to_string())?;
-            anno.label(s.label.clone())
-                .legend(move |(x, y)| PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2)));
+            anno.label(s.label.clone()).legend(move |(x, y)| {
+                PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
+            });
         }
         chart
             .configure_series_labels()
@@ -207,8 +232,18 @@ mod tests {
             log_x: false,
             log_y,
             series: vec![
-                Series { label: "data".into(), x: x.clone(), y: x.iter().map(|t| 1e-6 * (2.0 * t).exp()).collect(), style: Style::Points },
-                Series { label: "fit".into(), x: x.clone(), y: x.iter().map(|t| 1.1e-6 * (2.0 * t).exp()).collect(), style: Style::Dashed },
+                Series {
+                    label: "data".into(),
+                    x: x.clone(),
+                    y: x.iter().map(|t| 1e-6 * (2.0 * t).exp()).collect(),
+                    style: Style::Points,
+                },
+                Series {
+                    label: "fit".into(),
+                    x: x.clone(),
+                    y: x.iter().map(|t| 1.1e-6 * (2.0 * t).exp()).collect(),
+                    style: Style::Dashed,
+                },
             ],
         }
     }
@@ -231,7 +266,9 @@ mod tests {
     #[test]
     fn empty_chart_is_refused() {
         let mut c = chart(true);
-        c.series.iter_mut().for_each(|s| s.y.iter_mut().for_each(|v| *v = -1.0));
+        c.series
+            .iter_mut()
+            .for_each(|s| s.y.iter_mut().for_each(|v| *v = -1.0));
         assert_eq!(c.to_png(100, 100), Err(PlotError::NoData("growth".into())));
     }
 }
