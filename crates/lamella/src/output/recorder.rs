@@ -303,9 +303,9 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
 
     fn next_stop(&self, _sim: &Simulation<V>) -> Option<f64> {
         let snapshot = (self.snapshot_interval > 0.0)
-            .then(|| self.next_snapshot as f64 * self.snapshot_interval);
+            .then_some(self.next_snapshot as f64 * self.snapshot_interval);
         let sample =
-            (self.sample_interval > 0.0).then(|| self.next_sample as f64 * self.sample_interval);
+            (self.sample_interval > 0.0).then_some(self.next_sample as f64 * self.sample_interval);
         match (snapshot, sample) {
             (Some(a), Some(b)) => Some(a.min(b)),
             (a, b) => a.or(b),
