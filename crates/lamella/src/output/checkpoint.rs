@@ -669,4 +669,31 @@ mod tests {
         assert!(decode::<DVec2>(&newer).unwrap_err().contains("version 2"));
         assert!(decode::<glam::DVec3>(&bytes).unwrap_err().contains("2D"));
     }
+
+    #[test]
+    fn the_store_keeps_two_and_a_failed_write_leaves_the_previous_whole() {
+        let dir = tempfile::tempdir().unwrap();
+        let store = CheckpointStore::new(dir.path().join("checkpoints"));
+        let mut checkpoint = small();
+        for step in 1..=3 {
+            checkpoint.step = step;
+            store.write(&checkpoint).unwrap();
+        }
+        let numbers: Vec<u64> = store.list().unwrap().iter().map(|(n, _)| *n).collect();
+        assert_eq!(numbers, [2, 3]);
+        let before = fs::read(dir.path().join("checkpoints/checkpoint_000003.bin")).unwrap();
+        // An unwritable temporary name (a folder squatting on it) stands for a full disk.
+        let squatter = dir
+            .path()
+            .join("checkpoints/.checkpoint_000004.bin.partial");
+        fs::create_dir(&squatter).unwrap();
+        checkpoint.step = 4;
+        let err = store.write(&checkpoint).unwrap_err().to_string();
+        assert!(err.contains("checkpoint_000004.bin"), "{err}");
+        let after = fs::read(dir.path().join("checkpoints/checkpoint_000003.bin")).unwrap();
+        assert_eq!(before, after);
+        let restored = store.newest_valid::<DVec2>().unwrap();
+        assert_eq!(restored.checkpoint.step, 3);
+        assert!(restored.skipped.is_empty());
+    }
 }
