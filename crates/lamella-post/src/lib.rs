@@ -11,5 +11,6 @@ pub mod norms;
 pub mod plot;
 pub mod profile;
 pub mod reference;
+pub mod stability;
 pub mod table;
 pub mod vtk;

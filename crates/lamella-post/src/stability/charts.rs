@@ -1,0 +1,95 @@
+//! Charts of stability results, drawn with the shared [`crate::plot`] helper.
+
+use super::search::{CurvePoint, MapPoint};
+use crate::plot::{Chart, Series, Style};
+
+/// Growth rate α c_i against wavenumber α (scaled units), with the zero line.
+pub fn growth_curve_chart(curve: &[CurvePoint]) -> Chart {
+    let x: Vec<f64> = curve.iter().map(|p| p.wavenumber).collect();
+    let y: Vec<f64> = curve.iter().map(|p| p.growth_rate).collect();
+    let zero = vec![0.0; 2];
+    let ends = match (x.first(), x.last()) {
+        (Some(a), Some(b)) => vec![*a, *b],
+        _ => vec![],
+    };
+    Chart {
+        title: "Linear stability: growth rate of the leading mode".into(),
+        x_label: "wavenumber k h (-)".into(),
+        y_label: "growth rate k c_i (U_max/h)".into(),
+        log_x: false,
+        log_y: false,
+        series: vec![
+            Series {
+                label: "leading mode".into(),
+                x,
+                y,
+                style: Style::Line,
+            },
+            Series {
+                label: "neutral".into(),
+                x: ends,
+                y: zero,
+                style: Style::Dashed,
+            },
+        ],
+    }
+}
+
+/// Stability map over (m, n): unstable and stable points on log axes, with the long-wave
+/// neutral curves m = 1 and m = n² of Yih 1967 for orientation.
+pub fn map_chart(map: &[MapPoint], reynolds: f64, wavenumber: f64) -> Chart {
+    let pick = |unstable: bool| {
+        let points: Vec<&MapPoint> = map
+            .iter()
+            .filter(|p| (p.growth_rate > 0.0) == unstable)
+            .collect();
+        (
+            points.iter().map(|p| p.n).collect::<Vec<f64>>(),
+            points.iter().map(|p| p.m).collect::<Vec<f64>>(),
+        )
+    };
+    let (nu, mu) = pick(true);
+    let (ns, ms) = pick(false);
+    let n_lo = map.iter().map(|p| p.n).fold(f64::INFINITY, f64::min);
+    let n_hi = map.iter().map(|p| p.n).fold(0.0, f64::max);
+    let m_lo = map.iter().map(|p| p.m).fold(f64::INFINITY, f64::min);
+    let m_hi = map.iter().map(|p| p.m).fold(0.0, f64::max);
+    let steps = 50;
+    let n_curve: Vec<f64> = (0..=steps)
+        .map(|k| n_lo * (n_hi / n_lo).powf(k as f64 / steps as f64))
+        .filter(|n| n * n >= m_lo && n * n <= m_hi)
+        .collect();
+    Chart {
+        title: format!("Stability map at Re = {reynolds}, k h = {wavenumber}"),
+        x_label: "width ratio n = d_lower/d_upper (-)".into(),
+        y_label: "viscosity ratio m = mu_lower/mu_upper (-)".into(),
+        log_x: true,
+        log_y: true,
+        series: vec![
+            Series {
+                label: "unstable".into(),
+                x: nu,
+                y: mu,
+                style: Style::Points,
+            },
+            Series {
+                label: "stable".into(),
+                x: ns,
+                y: ms,
+                style: Style::Points,
+            },
+            Series {
+                label: "long-wave neutral m = n^2".into(),
+                y: n_curve.iter().map(|n| n * n).collect(),
+                x: n_curve,
+                style: Style::Dashed,
+            },
+            Series {
+                label: "long-wave neutral m = 1".into(),
+                x: vec![n_lo, n_hi],
+                y: vec![1.0, 1.0],
+                style: Style::Dashed,
+            },
+        ],
+    }
+}

@@ -1,0 +1,364 @@
+//! Assembly of the coupled Orr–Sommerfeld problem and its generalised eigenvalues.
+//!
+//! In each layer j (relative viscosity μ_j, stream function ψ = φ(y) e^{iα(x − ct)},
+//! u = ∂ψ/∂y, v = −∂ψ/∂x) the Orr–Sommerfeld equation (Orszag 1971, J. Fluid Mech. 50, eq. 2)
+//!
+//!   (U − c)(φ'' − α²φ) − U''φ = μ_j/(iαRe) (φ'''' − 2α²φ'' + α⁴φ),
+//!
+//! with no-slip walls φ = φ' = 0 at y = ±1. At each interface y_i (displacement
+//! η e^{iα(x − ct)}) the linearised conditions of Yih 1967 (J. Fluid Mech. 27, §2), written
+//! for equal densities with jumps [f] = f(upper) − f(lower):
+//!
+//! 1. normal velocity      [φ] = 0,
+//! 2. tangential velocity  [φ'] + η [U'] = 0,
+//! 3. tangential stress    [μ(φ'' + α²φ)] = 0  (μU'' = −G is the same in both layers),
+//! 4. normal stress        [μ(φ''' − 3α²φ')] + iα³ Re S η = 0, with S = γ/(ρ U_max² h);
+//!    the inertial part of the pressure jump, [(U − c)φ' − U'φ], cancels by 1, 2 and 5,
+//! 5. kinematic            φ(y_i) + U(y_i) η = c η.
+//!
+//! Unknowns: φ at the Chebyshev–Gauss–Lobatto nodes of every layer, then one η per
+//! interface. The equation is collocated at the interior nodes except the two next to each
+//! layer end; those four rows per layer carry the wall and interface conditions 1–4 and
+//! one extra row per interface carries condition 5. This gives A x = c B x with B singular
+//! (zero rows for the conditions without c). The condition rows are eliminated first (no
+//! infinite eigenvalues remain), then the eigenvalues of the shift-inverted operator
+//! (A − σB)⁻¹B are computed with `faer`'s dense eigen solver. (`faer`'s QZ on the pencil
+//! was tried and returned wrong eigenvalues above about 40 points per layer.)
+
+use faer::linalg::solvers::Solve;
+use faer::{Mat, c64};
+
+use super::StabilityError;
+use super::channel::LayeredChannel;
+use super::chebyshev;
+
+/// Collocation points per layer used when none are asked for.
+pub const DEFAULT_POINTS_PER_LAYER: usize = 64;
+
+/// Eigenvalues with |c| above this are discarded as the infinite eigenvalues of the
+/// singular B (boundary rows) and their round-off images: physical wave speeds of the
+/// leading modes lie within the range of U, 0..1 (Joseph's semicircle bound for one layer,
+/// Drazin & Reid 1981, *Hydrodynamic Stability*, §22), and the heavily damped modes beyond
+/// |c| = 1000 never lead.
+pub const SPURIOUS_SPEED: f64 = 1.0e3;
+
+/// Shift σ of the shift-invert transform: inside the band of wave speeds of the leading
+/// modes (0 < c_r < 1), a little above the real axis where growing modes lie.
+const SHIFT: c64 = c64 { re: 0.5, im: 0.2 };
+
+/// One linear stability problem in scaled units.
+#[derive(Clone, Debug, PartialEq)]
+pub struct StabilityProblem {
+    /// The layers and their viscosities.
+    pub channel: LayeredChannel,
+    /// Reynolds number ρ U_max h / μ_lower (h the half-width, μ_lower the lowest layer's).
+    pub reynolds: f64,
+    /// Wavenumber α = k h.
+    pub wavenumber: f64,
+    /// Interfacial tension S = γ/(ρ U_max² h); zero for none.
+    pub tension: f64,
+    /// Chebyshev–Gauss–Lobatto points in each layer (at least 8).
+    pub points_per_layer: usize,
+}
+
+impl StabilityProblem {
+    /// A problem with no interfacial tension and the default resolution.
+    pub fn new(channel: LayeredChannel, reynolds: f64, wavenumber: f64) -> Self {
+        Self {
+            channel,
+            reynolds,
+            wavenumber,
+            tension: 0.0,
+            points_per_layer: DEFAULT_POINTS_PER_LAYER,
+        }
+    }
+
+    /// The same problem at another Reynolds number.
+    pub fn with_reynolds(&self, reynolds: f64) -> Self {
+        Self {
+            reynolds,
+            ..self.clone()
+        }
+    }
+
+    /// The same problem at another wavenumber.
+    pub fn with_wavenumber(&self, wavenumber: f64) -> Self {
+        Self {
+            wavenumber,
+            ..self.clone()
+        }
+    }
+
+    /// The same problem at another resolution.
+    pub fn with_points(&self, points_per_layer: usize) -> Self {
+        Self {
+            points_per_layer,
+            ..self.clone()
+        }
+    }
+
+    fn validate(&self) -> Result<(), StabilityError> {
+        let check = |name: &str, value: f64, allow_zero: bool| {
+            if value.is_finite() && (value > 0.0 || (allow_zero && value == 0.0)) {
+                Ok(())
+            } else {
+                Err(StabilityError::InvalidParameter(format!(
+                    "{name} must be a {} finite number, got {value}",
+                    if allow_zero {
+                        "non-negative"
+                    } else {
+                        "positive"
+                    }
+                )))
+            }
+        };
+        check("Reynolds number", self.reynolds, false)?;
+        check("wavenumber", self.wavenumber, false)?;
+        check("interfacial tension", self.tension, true)?;
+        if self.points_per_layer < 8 {
+            return Err(StabilityError::InvalidParameter(format!(
+                "at least 8 collocation points per layer are needed, got {}",
+                self.points_per_layer
+            )));
+        }
+        Ok(())
+    }
+
+    /// Solves the generalised eigenvalue problem and keeps the finite wave speeds.
+    pub fn solve(&self) -> Result<Spectrum, StabilityError> {
+        self.validate()?;
+        let (a, b) = self.assemble();
+        let (a, b) = self.eliminate_conditions(&a, &b)?;
+        // Shift-invert: the eigenvalues ν of (A − σB)⁻¹B are ν = 1/(c − σ), so the modes near
+        // the shift (the least damped ones, |c| ~ 1) become the largest ν and the huge, badly
+        // conditioned viscous eigenvalues collapse towards ν = 0 (Golub & Van Loan 2013,
+        // *Matrix Computations*, 4th ed., §7.6 and §8.2).
+        let shifted = &a - &b * faer::Scale(SHIFT);
+        let operator = shifted.partial_piv_lu().solve(&b);
+        let values = operator
+            .eigenvalues()
+            .map_err(|_| StabilityError::NoConvergence)?;
+        let mut speeds: Vec<c64> = values
+            .into_iter()
+            .filter(|nu| nu.norm() > 0.0)
+            .map(|nu| SHIFT + nu.inv())
+            .filter(|c| c.re.is_finite() && c.im.is_finite() && c.norm() <= SPURIOUS_SPEED)
+            .collect();
+        speeds.sort_by(|p, q| q.im.total_cmp(&p.im).then(p.re.total_cmp(&q.re)));
+        Ok(Spectrum {
+            wavenumber: self.wavenumber,
+            speeds,
+        })
+    }
+
+    /// Rows and columns of the wall and interface conditions 1–4: the two end nodes at
+    /// each end of every layer (these rows have no c, so B is zero there).
+    fn condition_indices(&self) -> Vec<usize> {
+        let points = self.points_per_layer;
+        (0..self.channel.layer_count())
+            .flat_map(|j| [0, 1, points - 2, points - 1].map(|k| j * points + k))
+            .collect()
+    }
+
+    /// Eliminates the condition unknowns x_b (end nodes) with the condition rows,
+    /// C_b x_b + C_i x_i = 0, leaving the regular pencil on the remaining unknowns x_i:
+    /// (A_ii − A_ib C_b⁻¹ C_i) x_i = c (B_ii − B_ib C_b⁻¹ C_i) x_i. This removes the infinite
+    /// eigenvalues of the singular B before QZ ("boundary bordering" elimination; Boyd 2001,
+    /// *Chebyshev and Fourier Spectral Methods*, 2nd ed., §6.4).
+    fn eliminate_conditions(
+        &self,
+        a: &Mat<c64>,
+        b: &Mat<c64>,
+    ) -> Result<(Mat<c64>, Mat<c64>), StabilityError> {
+        let bnd = self.condition_indices();
+        let size = a.nrows();
+        let rest: Vec<usize> = (0..size).filter(|k| !bnd.contains(k)).collect();
+        let pick = |m: &Mat<c64>, rows: &[usize], cols: &[usize]| {
+            Mat::<c64>::from_fn(rows.len(), cols.len(), |i, j| m[(rows[i], cols[j])])
+        };
+        let c_b = pick(a, &bnd, &bnd);
+        let c_i = pick(a, &bnd, &rest);
+        let lu = c_b.partial_piv_lu();
+        let elim = lu.solve(&c_i);
+        if (0..elim.nrows()).any(|i| {
+            (0..elim.ncols()).any(|j| !elim[(i, j)].re.is_finite() || !elim[(i, j)].im.is_finite())
+        }) {
+            return Err(StabilityError::InvalidParameter(
+                "the wall and interface conditions are singular at this resolution".into(),
+            ));
+        }
+        let reduce = |m: &Mat<c64>| pick(m, &rest, &rest) - pick(m, &rest, &bnd) * &elim;
+        let (mut a, mut b) = (reduce(a), reduce(b));
+        // Equilibrate: scale each row to unit largest |A| entry (the pencil's eigenvalues do
+        // not change; the LU of the shift-invert step loses less to round-off).
+        for i in 0..a.nrows() {
+            let largest = (0..a.ncols()).map(|j| a[(i, j)].norm()).fold(0.0, f64::max);
+            if largest > 0.0 {
+                let s = 1.0 / largest;
+                for j in 0..a.ncols() {
+                    a[(i, j)] *= s;
+                    b[(i, j)] *= s;
+                }
+            }
+        }
+        Ok((a, b))
+    }
+
+    /// Builds the matrices A and B of A x = c B x.
+    fn assemble(&self) -> (Mat<c64>, Mat<c64>) {
+        let channel = &self.channel;
+        let flow = channel.base_flow();
+        let layers = channel.layer_count();
+        let degree = self.points_per_layer - 1;
+        let points = degree + 1;
+        let interfaces = layers - 1;
+        let size = layers * points + interfaces;
+        let alpha = self.wavenumber;
+        let alpha2 = alpha * alpha;
+        let i_alpha_re = c64::new(0.0, alpha * self.reynolds);
+        let xi = chebyshev::nodes(degree);
+        let mut a = Mat::<c64>::zeros(size, size);
+        let mut b = Mat::<c64>::zeros(size, size);
+        let eta_col = |interface: usize| layers * points + interface;
+
+        // Per-layer derivative matrices (nodes from the layer top, k = 0, to its bottom, k = N).
+        let mut derivatives = Vec::with_capacity(layers);
+        for j in 0..layers {
+            let (lower, upper) = channel.layer(j);
+            derivatives.push(chebyshev::derivative_matrices(
+                degree,
+                2.0 / (upper - lower),
+            ));
+        }
+        for j in 0..layers {
+            let (lower, upper) = channel.layer(j);
+            let mu = channel.viscosity(j);
+            let [_, d2, _, d4] = &derivatives[j];
+            let offset = j * points;
+            let curvature = flow.curvature_in(j);
+            for k in 2..points - 2 {
+                let y = lower + (upper - lower) * (xi[k] + 1.0) / 2.0;
+                let u = flow.velocity_in(j, y);
+                let row = offset + k;
+                for col in 0..points {
+                    let identity = if col == k { 1.0 } else { 0.0 };
+                    let lap = d2[k * points + col] - alpha2 * identity;
+                    let bilap = d4[k * points + col] - 2.0 * alpha2 * d2[k * points + col]
+                        + alpha2 * alpha2 * identity;
+                    // Multiplied through by iαRe: iαRe[U(φ''−α²φ) − U''φ] − μ(φ''''−2α²φ''+α⁴φ).
+                    a[(row, offset + col)] =
+                        i_alpha_re * (u * lap - curvature * identity) - c64::new(mu * bilap, 0.0);
+                    b[(row, offset + col)] = i_alpha_re * lap;
+                }
+            }
+        }
+        // Walls: bottom of layer 0 (nodes N, N−1 carry φ and φ'), top of the last layer (0, 1).
+        let set_value = |a: &mut Mat<c64>, row: usize, offset: usize, node: usize, weight: f64| {
+            a[(row, offset + node)] += c64::new(weight, 0.0);
+        };
+        let set_derivative =
+            |a: &mut Mat<c64>, row: usize, offset: usize, d: &[f64], node: usize, weight: f64| {
+                for col in 0..points {
+                    a[(row, offset + col)] += c64::new(weight * d[node * points + col], 0.0);
+                }
+            };
+        set_value(&mut a, degree, 0, degree, 1.0);
+        set_derivative(&mut a, degree - 1, 0, &derivatives[0][0], degree, 1.0);
+        let top = (layers - 1) * points;
+        set_value(&mut a, top, top, 0, 1.0);
+        set_derivative(&mut a, top + 1, top, &derivatives[layers - 1][0], 0, 1.0);
+
+        // Interfaces: lower layer j (its top node 0), upper layer j+1 (its bottom node N).
+        for (i, &yi) in channel.interfaces().iter().enumerate() {
+            let (lo, up) = (i, i + 1);
+            let (lo_off, up_off) = (lo * points, up * points);
+            let (mu_lo, mu_up) = (channel.viscosity(lo), channel.viscosity(up));
+            let [d1l, d2l, d3l, _] = &derivatives[lo];
+            let [d1u, d2u, d3u, _] = &derivatives[up];
+            let eta = eta_col(i);
+            // Rows used: lower layer nodes 0 and 1, upper layer nodes N−1 and N, and η's row.
+            let rows = [
+                lo_off,
+                lo_off + 1,
+                up_off + degree - 1,
+                up_off + degree,
+                eta,
+            ];
+            // 1. [φ] = 0
+            set_value(&mut a, rows[0], up_off, degree, 1.0);
+            set_value(&mut a, rows[0], lo_off, 0, -1.0);
+            // 2. [φ'] + η [U'] = 0
+            set_derivative(&mut a, rows[1], up_off, d1u, degree, 1.0);
+            set_derivative(&mut a, rows[1], lo_off, d1l, 0, -1.0);
+            let shear_jump = flow.shear_in(up, yi) - flow.shear_in(lo, yi);
+            a[(rows[1], eta)] += c64::new(shear_jump, 0.0);
+            // 3. [μ(φ'' + α²φ)] = 0
+            set_derivative(&mut a, rows[2], up_off, d2u, degree, mu_up);
+            set_value(&mut a, rows[2], up_off, degree, mu_up * alpha2);
+            set_derivative(&mut a, rows[2], lo_off, d2l, 0, -mu_lo);
+            set_value(&mut a, rows[2], lo_off, 0, -mu_lo * alpha2);
+            // 4. [μ(φ''' − 3α²φ')] + iα³ Re S η = 0
+            set_derivative(&mut a, rows[3], up_off, d3u, degree, mu_up);
+            set_derivative(&mut a, rows[3], up_off, d1u, degree, -3.0 * alpha2 * mu_up);
+            set_derivative(&mut a, rows[3], lo_off, d3l, 0, -mu_lo);
+            set_derivative(&mut a, rows[3], lo_off, d1l, 0, 3.0 * alpha2 * mu_lo);
+            a[(rows[3], eta)] += c64::new(0.0, alpha2 * alpha * self.reynolds * self.tension);
+            // 5. φ(y_i) + U(y_i) η = c η
+            set_value(&mut a, rows[4], lo_off, 0, 1.0);
+            a[(rows[4], eta)] += c64::new(flow.velocity_in(lo, yi), 0.0);
+            b[(rows[4], eta)] = c64::new(1.0, 0.0);
+        }
+        (a, b)
+    }
+}
+
+/// The finite wave speeds c of one problem, most unstable first.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Spectrum {
+    wavenumber: f64,
+    speeds: Vec<c64>,
+}
+
+impl Spectrum {
+    /// Wave speeds c = c_r + i c_i, sorted by decreasing c_i.
+    pub fn speeds(&self) -> &[c64] {
+        &self.speeds
+    }
+
+    /// The leading (largest c_i) wave speed, if any eigenvalue survived the filter.
+    pub fn leading(&self) -> Option<c64> {
+        self.speeds.first().copied()
+    }
+
+    /// Temporal growth rate α c_i of the leading mode, in units of U_max/h.
+    pub fn growth_rate(&self) -> Option<f64> {
+        self.leading().map(|c| self.wavenumber * c.im)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn condition_rows_are_the_two_end_nodes_of_each_layer() {
+        let problem =
+            StabilityProblem::new(LayeredChannel::two_layer(2.0, 1.0).unwrap(), 100.0, 1.0)
+                .with_points(10);
+        assert_eq!(
+            problem.condition_indices(),
+            vec![0, 1, 8, 9, 10, 11, 18, 19]
+        );
+    }
+
+    #[test]
+    fn bad_parameters_are_reported_not_solved() {
+        let good = StabilityProblem::new(LayeredChannel::single(), 100.0, 1.0);
+        assert!(good.with_reynolds(-1.0).solve().is_err());
+        assert!(good.with_wavenumber(0.0).solve().is_err());
+        assert!(good.with_points(4).solve().is_err());
+        let mut tense = good.clone();
+        tense.tension = f64::NAN;
+        assert!(tense.solve().is_err());
+    }
+}
