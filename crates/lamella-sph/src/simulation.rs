@@ -49,6 +49,9 @@ pub struct SolverConfig<V: Vector> {
     pub body_force: V,
     /// Density-diffusion coefficient δ (0.1 is common practice, 0 disables it).
     pub density_diffusion: f64,
+    /// Factor on the viscous term; [`crate::forces::lattice_viscous_normalisation`] of the
+    /// initial lattice makes it exact for quadratic profiles, 1 leaves Morris's form unchanged.
+    pub viscous_normalisation: f64,
     /// Safety factors of the time step.
     pub time_step: TimeStepFactors,
     /// Particle regularisation.
@@ -244,6 +247,7 @@ impl<V: Vector> Simulation<V> {
             density_diffusion: self.config.density_diffusion,
             sound_speed: self.config.state_law.sound_speed,
             reference_density: &self.config.reference_density,
+            viscous_normalisation: self.config.viscous_normalisation,
         };
         particle_rates(
             &params,

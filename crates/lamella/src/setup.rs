@@ -2,6 +2,7 @@
 
 use lamella_case::{Case, EquationOfState, Kernel as CaseKernel, PairViscosity as CasePair};
 use lamella_cells::{Domain, Vector};
+use lamella_sph::forces::lattice_viscous_normalisation;
 use lamella_sph::{
     Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation, SetupError, Simulation,
     SolverConfig, StateLaw, TimeStepFactors,
@@ -79,6 +80,7 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         },
         body_force,
         density_diffusion: DENSITY_DIFFUSION,
+        viscous_normalisation: lattice_viscous_normalisation(&kernel, dx, dim),
         time_step: TimeStepFactors {
             acoustic: case.time_step.acoustic,
             viscous: case.time_step.viscous,

@@ -1,0 +1,44 @@
+//! A run that goes bad stops with a message that names the particle, the time, the position
+//! and the likely cause, keeps the last good state, and maps to exit code 1 (run failed).
+
+use std::sync::atomic::AtomicBool;
+
+use glam::DVec2;
+use lamella::Failure;
+use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+
+#[test]
+fn a_far_too_low_sound_speed_fails_naming_the_particle() {
+    let mut case = lamella_case::load(&lamella_suite::cases_dir().join("poiseuille.ron"))
+        .expect("bundled case loads");
+    // Sound speed a hundredth of the flow speed: density errors grow far past the bound.
+    case.scales.sound_speed = Some(4.0e-5);
+    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let stop = AtomicBool::new(false);
+    let outcome = run_to_end(
+        &mut sim,
+        case.time.end,
+        &mut NoObserver,
+        &stop,
+        ProgressMode::Silent,
+    );
+    let Err(failure) = outcome else {
+        panic!("the run should have failed");
+    };
+    let message = failure.to_string();
+    println!("{message}");
+    assert!(matches!(failure, Failure::RunFailed(_)), "{failure:?}");
+    assert_eq!(failure.exit_code(), 1);
+    assert!(message.contains("particle "), "{message}");
+    assert!(message.contains("t = "), "{message}");
+    assert!(message.contains("sound speed"), "{message}");
+    // The last good state is kept: finite and within the density bound.
+    let p = sim.particles();
+    assert!(sim.time() < case.time.end);
+    for i in 0..p.len() {
+        assert!(p.position[i].is_finite() && p.velocity[i].is_finite());
+        if p.kind[i] == lamella_sph::Kind::Fluid {
+            assert!((p.density[i] / 1000.0 - 1.0).abs() <= case.density_tolerance + 1e-12);
+        }
+    }
+}
