@@ -45,6 +45,14 @@ pub enum Command {
     Run(commands::run::Args),
     /// Continue an interrupted run from the newest valid checkpoint in its run folder.
     Resume(commands::resume::Args),
+    /// Velocity profile across the channel of a run, against the analytical profile.
+    Profile(commands::profile::Args),
+    /// Run a case at several spacings and fit the observed order of convergence.
+    Converge(commands::converge::Args),
+    /// Growth rate and wavelength of the interface disturbance of a run.
+    Growth(commands::growth::Args),
+    /// Mixing measures of a run: segregation, Lacey index, mixing entropy, FTLE.
+    Mix(commands::mix::Args),
 }
 
 /// Parses the command line, runs the subcommand and turns the outcome into an exit code.

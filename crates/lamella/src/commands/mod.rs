@@ -1,7 +1,12 @@
 //! One module per subcommand; each has an `Args` (clap) and a `run` function.
 
+pub mod analysis;
 pub mod check;
+pub mod converge;
+pub mod growth;
+pub mod mix;
 pub mod new;
+pub mod profile;
 pub mod resume;
 pub mod run;
 
@@ -15,5 +20,9 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
         Command::New(args) => new::run(args, globals),
         Command::Run(args) => run::run(args, globals),
         Command::Resume(args) => resume::run(args, globals),
+        Command::Profile(args) => profile::run(args, globals),
+        Command::Converge(args) => converge::run(args, globals),
+        Command::Growth(args) => growth::run(args, globals),
+        Command::Mix(args) => mix::run(args, globals),
     }
 }

@@ -1,0 +1,181 @@
+//! `lamella converge CASE --spacings a,b,c`: runs a case at several particle spacings (several
+//! runs at once when cores allow), measures the error of the final velocity profile against the
+//! case's analytical solution, and fits the observed order of convergence on log–log axes.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Stdio};
+
+use lamella_post::convergence::fit_observed_order;
+use lamella_post::plot::{Chart, Series, Style};
+use lamella_post::table::csv_document;
+
+use crate::Failure;
+use crate::cli::Globals;
+use crate::commands::analysis::{channel_reference, parse_list, write_file};
+use crate::commands::check::load_case;
+use crate::commands::profile::profile;
+
+/// Options of `lamella converge`.
+#[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Writes one run folder per spacing, convergence.csv and convergence.png \
+    into --out. Exit codes: 0 done, 1 a run failed, 2 bad input."
+)]
+pub struct Args {
+    /// The case file (RON); it needs an analytical profile (layered channel, Poiseuille or
+    /// Couette flow).
+    #[arg(value_name = "CASE")]
+    pub case: PathBuf,
+    /// Particle spacings to run, in m, separated by commas (at least two).
+    #[arg(long, value_name = "DX,DX,...")]
+    pub spacings: String,
+    /// Runs at once [default: 1]; the cores are shared between them.
+    #[arg(long, value_name = "N", default_value_t = 1)]
+    pub jobs: usize,
+    /// Folder for the runs and the results [default: convergence-<case name>].
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Replace the results of an earlier study in --out.
+    #[arg(long)]
+    pub force: bool,
+}
+
+/// Runs `lamella converge`.
+pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
+    let mut case = load_case(&args.case)?;
+    if channel_reference(&case).is_none() {
+        return Err(Failure::BadInput(format!(
+            "{}: no analytical profile for this case; a convergence study needs a layered channel, \
+             Poiseuille or Couette case",
+            args.case.display()
+        )));
+    }
+    let spacings: Vec<f64> = parse_list(&args.spacings, "--spacings").map_err(Failure::BadInput)?;
+    if spacings.len() < 2 || spacings.iter().any(|d| !(*d > 0.0)) {
+        return Err(Failure::BadInput(
+            "--spacings needs at least two positive spacings in m, e.g. 8e-5,4e-5,2e-5".into(),
+        ));
+    }
+    if args.jobs == 0 {
+        return Err(Failure::BadInput("--jobs must be at least 1".into()));
+    }
+    let stem = args
+        .case
+        .file_stem()
+        .map_or_else(|| "case".into(), |s| s.to_string_lossy().into_owned());
+    let out = args
+        .out
+        .clone()
+        .unwrap_or_else(|| PathBuf::from(format!("convergence-{stem}")));
+    std::fs::create_dir_all(&out)
+        .map_err(|e| Failure::BadInput(format!("cannot create {}: {e}", out.display())))?;
+    // Write and validate one case file per spacing before running anything.
+    let mut runs = Vec::new();
+    for (k, &dx) in spacings.iter().enumerate() {
+        case.particles.spacing = dx;
+        let text = lamella_case::to_ron(&case);
+        let path = out.join(format!("{stem}-dx{k}.ron"));
+        lamella_case::parse_str(&text, &path.display().to_string())
+            .map_err(|e| Failure::BadInput(format!("spacing {dx:e} m: {e}")))?;
+        write_file(&path, text.as_bytes())?;
+        runs.push((dx, path, out.join(format!("run-dx{k}"))));
+    }
+    let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
+    let threads = (cores / args.jobs).max(1);
+    let exe = std::env::current_exe()
+        .map_err(|e| Failure::RunFailed(format!("cannot find the lamella program: {e}")))?;
+    for batch in runs.chunks(args.jobs) {
+        let children: Vec<_> = batch
+            .iter()
+            .map(|(dx, path, dir)| {
+                if !globals.quiet {
+                    println!("running spacing {dx:e} m into {}", dir.display());
+                }
+                let mut cmd = Command::new(&exe);
+                cmd.arg("--quiet")
+                    .arg("--threads")
+                    .arg(threads.to_string())
+                    .arg("run")
+                    .arg(path)
+                    .arg("--out")
+                    .arg(dir);
+                if args.force {
+                    cmd.arg("--force");
+                }
+                cmd.stdin(Stdio::null()).spawn().map(|c| (*dx, c))
+            })
+            .collect::<Result<_, _>>()
+            .map_err(|e| Failure::RunFailed(format!("cannot start a run: {e}")))?;
+        for (dx, mut child) in children {
+            let status = child
+                .wait()
+                .map_err(|e| Failure::RunFailed(format!("run at spacing {dx:e} m: {e}")))?;
+            if !status.success() {
+                return Err(Failure::RunFailed(format!(
+                    "the run at spacing {dx:e} m failed ({status})"
+                )));
+            }
+        }
+    }
+    let mut l2 = Vec::new();
+    let mut max = Vec::new();
+    for (dx, _, dir) in &runs {
+        let result = profile(dir, None, "y", None, None, None)?;
+        let (c, _) = result.comparison.ok_or_else(|| {
+            Failure::RunFailed(format!("run at spacing {dx:e} m: no analytical profile"))
+        })?;
+        l2.push(c.relative_l2);
+        max.push(c.max_abs);
+    }
+    summarise(&out, &case.title, &spacings, &l2, &max, globals)
+}
+
+fn summarise(
+    out: &Path,
+    title: &str,
+    dx: &[f64],
+    l2: &[f64],
+    max: &[f64],
+    globals: Globals,
+) -> Result<(), Failure> {
+    let fit = fit_observed_order(dx, l2).map_err(|e| Failure::RunFailed(e.to_string()))?;
+    let csv = csv_document(
+        &["spacing_m", "relative_l2_error", "max_error_m_per_s"],
+        &[dx, l2, max],
+    )
+    .map_err(Failure::RunFailed)?;
+    write_file(&out.join("convergence.csv"), csv.as_bytes())?;
+    let fitted: Vec<f64> = dx.iter().map(|&d| fit.predict(d)).collect();
+    let chart = Chart {
+        title: format!("{title}: observed order {:.2}", fit.order),
+        x_label: "particle spacing (m)".into(),
+        y_label: "relative L2 error of the profile (1)".into(),
+        log_x: true,
+        log_y: true,
+        series: vec![
+            Series {
+                label: "runs".into(),
+                x: dx.to_vec(),
+                y: l2.to_vec(),
+                style: Style::Points,
+            },
+            Series {
+                label: format!("fit, slope {:.2}", fit.order),
+                x: dx.to_vec(),
+                y: fitted,
+                style: Style::Dashed,
+            },
+        ],
+    };
+    let png = chart
+        .to_png(800, 600)
+        .map_err(|e| Failure::RunFailed(e.to_string()))?;
+    write_file(&out.join("convergence.png"), &png)?;
+    if !globals.quiet {
+        for (d, e) in dx.iter().zip(l2) {
+            println!("spacing {d:e} m: relative L2 error {e:.4e}");
+        }
+        println!("{}", fit.verdict());
+    }
+    Ok(())
+}

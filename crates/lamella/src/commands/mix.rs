@@ -1,0 +1,334 @@
+//! `lamella mix DIR`: how far the phases have mixed, snapshot by snapshot: gridded volume
+//! fractions, per-particle mixing entropy and finite-time Lyapunov exponent, and the global
+//! Danckwerts intensity of segregation, Lacey index, mean mixing entropy and mean FTLE.
+
+use std::path::PathBuf;
+
+use glam::{DVec2, DVec3};
+use lamella_cells::{Domain, Vector};
+use lamella_post::ftle::{deformation_gradients, ftle};
+use lamella_post::grid::Grid;
+use lamella_post::mixing::{
+    global_composition, intensity_of_segregation, lacey_index, normalised_mixing_entropy,
+    phase_fractions,
+};
+use lamella_post::neighbours::Neighbours;
+use lamella_post::plot::{Chart, Series, Style};
+use lamella_post::table::csv_document;
+use lamella_post::vtk::{Field, image_document, points_document};
+use lamella_sph::{Kernel, KernelKind, Kind};
+
+use crate::Failure;
+use crate::cli::Globals;
+use crate::commands::analysis::{Run, parse_list, write_file};
+use crate::output::Snapshot;
+
+/// Options of `lamella mix`.
+#[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Writes mixing.csv, mixing.png, ftle.png, mix_fields.vti and \
+    mix_particles.vtp into --out [default: DIR/analysis]. Exit codes: 0 done, 1 a file could \
+    not be written, 2 bad input."
+)]
+pub struct Args {
+    /// The run folder written by `lamella run`.
+    #[arg(value_name = "DIR")]
+    pub dir: PathBuf,
+    /// Grid cells per axis, NX,NY[,NZ] [default: one cell per two particle spacings].
+    #[arg(long, value_name = "NX,NY")]
+    pub grid: Option<String>,
+    /// Time of the snapshot whose fields are written (s); the closest is taken [default: the last].
+    #[arg(long, value_name = "T")]
+    pub time: Option<f64>,
+    /// Folder for the results [default: DIR/analysis].
+    #[arg(long, value_name = "OUT")]
+    pub out: Option<PathBuf>,
+}
+
+/// The global mixing scalars of one snapshot.
+struct Scalars {
+    intensity: f64,
+    lacey: f64,
+    entropy: f64,
+    ftle: f64,
+}
+
+/// Runs `lamella mix`.
+pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
+    let run = Run::open(&args.dir)?;
+    match run.case.dimension {
+        2 => mix::<DVec2>(&run, &args, globals),
+        _ => mix::<DVec3>(&run, &args, globals),
+    }
+}
+
+fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failure> {
+    let case = &run.case;
+    let phases = case.phases.len();
+    if phases < 2 {
+        return Err(Failure::BadInput(format!(
+            "{}: the case has one phase; mixing needs at least two",
+            run.folder.case().display()
+        )));
+    }
+    let dim = V::DIM;
+    let dx = case.particles.spacing;
+    let lower = V::from_fn(|a| case.domain.lower[a]);
+    let upper = V::from_fn(|a| case.domain.upper[a]);
+    let cells: Vec<usize> = match &args.grid {
+        Some(text) => parse_list(text, "--grid").map_err(Failure::BadInput)?,
+        None => (0..dim)
+            .map(|a| ((case.extent(a) / (2.0 * dx)).round() as usize).max(1))
+            .collect(),
+    };
+    let grid = Grid::new(lower, upper, &cells).ok_or_else(|| {
+        Failure::BadInput(format!(
+            "--grid needs {dim} positive cell counts separated by commas"
+        ))
+    })?;
+    let mut periodic = [false; 3];
+    for axis in &case.domain.periodic {
+        periodic[axis.index()] = true;
+    }
+    let domain =
+        Domain::new(lower, upper, periodic).map_err(|e| Failure::BadInput(e.to_string()))?;
+    let kind = match case.particles.kernel {
+        lamella_case::schema::Kernel::WendlandC2 => KernelKind::WendlandC2,
+        lamella_case::schema::Kernel::CubicSpline => KernelKind::CubicSpline,
+        lamella_case::schema::Kernel::QuinticSpline => KernelKind::QuinticSpline,
+    };
+    let kernel = Kernel::new(kind, case.smoothing_length(), dim);
+    let radius = kernel.support_radius();
+    let field_entry = run.entry_at(args.time).file.clone();
+    let out_dir = run.output_folder(args.out.as_deref())?;
+
+    let mut rows: Vec<(f64, Scalars)> = Vec::new();
+    for entry in &run.entries {
+        let snap = run.read(entry)?;
+        let write_fields = entry.file == field_entry;
+        let scalars = analyse::<V>(
+            &snap,
+            &grid,
+            domain,
+            &kernel,
+            radius,
+            phases,
+            write_fields.then_some((&out_dir, case)),
+        )
+        .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
+        rows.push((snap.meta.time, scalars));
+    }
+    let col = |f: fn(&Scalars) -> f64| rows.iter().map(|(_, s)| f(s)).collect::<Vec<f64>>();
+    let time: Vec<f64> = rows.iter().map(|(t, _)| *t).collect();
+    let (i, m, s, l) = (
+        col(|s| s.intensity),
+        col(|s| s.lacey),
+        col(|s| s.entropy),
+        col(|s| s.ftle),
+    );
+    let csv = csv_document(
+        &[
+            "time_s",
+            "intensity_of_segregation",
+            "lacey_index",
+            "mean_mixing_entropy",
+            "mean_ftle_per_s",
+        ],
+        &[&time, &i, &m, &s, &l],
+    )
+    .map_err(Failure::RunFailed)?;
+    write_file(&out_dir.join("mixing.csv"), csv.as_bytes())?;
+    let line = |label: &str, y: &[f64]| Series {
+        label: label.into(),
+        x: time.clone(),
+        y: y.to_vec(),
+        style: Style::Line,
+    };
+    let chart = Chart {
+        title: format!("{}: mixing", case.title),
+        x_label: "time (s)".into(),
+        y_label: "measure (1)".into(),
+        log_x: false,
+        log_y: false,
+        series: vec![
+            line("intensity of segregation (Danckwerts)", &i),
+            line("Lacey index", &m),
+            line("mean normalised mixing entropy", &s),
+        ],
+    };
+    let png = chart
+        .to_png(900, 600)
+        .map_err(|e| Failure::RunFailed(e.to_string()))?;
+    write_file(&out_dir.join("mixing.png"), &png)?;
+    let chart = Chart {
+        title: format!("{}: mean finite-time Lyapunov exponent", case.title),
+        x_label: "time (s)".into(),
+        y_label: "mean FTLE (1/s)".into(),
+        log_x: false,
+        log_y: false,
+        series: vec![line("mean FTLE since t = 0", &l)],
+    };
+    match chart.to_png(900, 600) {
+        Ok(png) => write_file(&out_dir.join("ftle.png"), &png)?,
+        Err(e) => {
+            return Err(Failure::BadInput(format!(
+                "{e}: the run needs snapshots after t = 0 for an FTLE"
+            )));
+        }
+    }
+    if !globals.quiet {
+        let (t, last) = rows.last().expect("a run has snapshots");
+        println!(
+            "t = {t:.4} s: intensity of segregation {:.4}, Lacey index {:.4}, mean mixing entropy {:.4}, mean FTLE {:.4e} 1/s ({} snapshots, results in {})",
+            last.intensity,
+            last.lacey,
+            last.entropy,
+            last.ftle,
+            rows.len(),
+            out_dir.display()
+        );
+    }
+    Ok(())
+}
+
+fn mean_finite(values: &[f64]) -> f64 {
+    let finite: Vec<f64> = values.iter().copied().filter(|v| v.is_finite()).collect();
+    if finite.is_empty() {
+        f64::NAN
+    } else {
+        finite.iter().sum::<f64>() / finite.len() as f64
+    }
+}
+
+fn analyse<V: Vector>(
+    snap: &Snapshot,
+    grid: &Grid<V>,
+    domain: Domain<V>,
+    kernel: &Kernel,
+    radius: f64,
+    phases: usize,
+    fields: Option<(&PathBuf, &lamella_case::Case)>,
+) -> Result<Scalars, String> {
+    let fluid: Vec<usize> = (0..snap.len())
+        .filter(|&i| snap.kind[i] == Kind::Fluid)
+        .collect();
+    let pos: Vec<V> = fluid
+        .iter()
+        .map(|&i| V::from_fn(|a| snap.position[i][a]))
+        .collect();
+    let init: Vec<V> = fluid
+        .iter()
+        .map(|&i| V::from_fn(|a| snap.initial_position[i][a]))
+        .collect();
+    let phase: Vec<usize> = fluid.iter().map(|&i| snap.phase[i] as usize).collect();
+    let volume: Vec<f64> = fluid
+        .iter()
+        .map(|&i| snap.mass[i] / snap.density[i])
+        .collect();
+    if let Some(&p) = phase.iter().find(|&&p| p >= phases) {
+        return Err(format!("phase index {p} but the case has {phases} phases"));
+    }
+    let w = |r: f64| kernel.value(r);
+    let nodes = grid.nodes();
+    let at_nodes =
+        Neighbours::of_centres(&nodes, &pos, domain, radius).map_err(|e| e.to_string())?;
+    let (frac, sums) = phase_fractions(&at_nodes, &volume, &phase, phases, w, None);
+    let occupied: Vec<f64> = sums
+        .iter()
+        .map(|&s| if s > 0.0 { 1.0 } else { 0.0 })
+        .collect();
+    // Box counts on the same grid for Lacey's index.
+    let mut count = vec![0.0; grid.len()];
+    let mut count_k = vec![0.0; grid.len() * phases];
+    for (p, &k) in pos.iter().zip(&phase) {
+        if let Some(c) = grid.cell_of(domain.wrap(*p)) {
+            count[c] += 1.0;
+            count_k[c * phases + k] += 1.0;
+        }
+    }
+    let (mut intensity, mut lacey) = (0.0, 0.0);
+    for k in 0..phases {
+        let c: Vec<f64> = (0..grid.len()).map(|n| frac[n * phases + k]).collect();
+        intensity +=
+            intensity_of_segregation(&c, &occupied).map_err(|e| e.to_string())? / phases as f64;
+        let b: Vec<f64> = (0..grid.len())
+            .map(|n| {
+                if count[n] > 0.0 {
+                    count_k[n * phases + k] / count[n]
+                } else {
+                    f64::NAN
+                }
+            })
+            .collect();
+        lacey += lacey_index(&b, &count).map_err(|e| e.to_string())? / phases as f64;
+    }
+    let among = Neighbours::among(&pos, domain, radius).map_err(|e| e.to_string())?;
+    let (local, _) = phase_fractions(&among, &volume, &phase, phases, w, Some(kernel.value(0.0)));
+    let global = global_composition(&volume, &phase, phases);
+    let entropy = normalised_mixing_entropy(&local, &global);
+    let reference = Neighbours::among(&init, domain, radius).map_err(|e| e.to_string())?;
+    let gradients = deformation_gradients(
+        &reference,
+        &pos,
+        &volume,
+        |a, b| domain.minimum_image(a - b),
+        |r| kernel.gradient_factor(r),
+    );
+    let exponents = ftle(&gradients, V::DIM, snap.meta.time);
+    if let Some((out_dir, case)) = fields {
+        let names: Vec<String> = case
+            .phases
+            .iter()
+            .map(|p| format!("volume_fraction_{}", p.name))
+            .collect();
+        let columns: Vec<Vec<f64>> = (0..phases)
+            .map(|k| (0..grid.len()).map(|n| frac[n * phases + k]).collect())
+            .collect();
+        let fields: Vec<Field<'_>> = names
+            .iter()
+            .zip(&columns)
+            .map(|(n, c)| Field {
+                name: n,
+                components: 1,
+                values: c,
+            })
+            .collect();
+        let vti = image_document(grid, &fields)?;
+        write_file(&out_dir.join("mix_fields.vti"), vti.as_bytes()).map_err(|e| e.to_string())?;
+        let phase_f: Vec<f64> = phase.iter().map(|&p| p as f64).collect();
+        let id: Vec<f64> = fluid.iter().map(|&i| snap.id[i] as f64).collect();
+        let vtp = points_document(
+            &pos,
+            &[
+                Field {
+                    name: "phase",
+                    components: 1,
+                    values: &phase_f,
+                },
+                Field {
+                    name: "id",
+                    components: 1,
+                    values: &id,
+                },
+                Field {
+                    name: "mixing_entropy",
+                    components: 1,
+                    values: &entropy,
+                },
+                Field {
+                    name: "ftle",
+                    components: 1,
+                    values: &exponents,
+                },
+            ],
+        )?;
+        write_file(&out_dir.join("mix_particles.vtp"), vtp.as_bytes())
+            .map_err(|e| e.to_string())?;
+    }
+    Ok(Scalars {
+        intensity,
+        lacey,
+        entropy: mean_finite(&entropy),
+        ftle: mean_finite(&exponents),
+    })
+}
