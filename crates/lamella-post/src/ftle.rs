@@ -8,6 +8,9 @@
 //! matrix follows Bonet & Lok 1999, Comput. Methods Appl. Mech. Engrg. 180), which is exact
 //! for any linear flow map.
 
+// Index loops mirror the matrix formulas (i, j, k as in the doc comments).
+#![allow(clippy::needless_range_loop)]
+
 use lamella_cells::Vector;
 
 use crate::neighbours::Neighbours;

@@ -1,5 +1,8 @@
 //! A uniform grid of cells over a box, for gridded analysis fields (VTK image data).
 
+// Negated comparisons are deliberate: a NaN must fail every check.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
 use lamella_cells::Vector;
 
 /// `cells[axis]` equal cells over [lower, upper]; the field nodes are the cell centres.

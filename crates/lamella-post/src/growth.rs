@@ -5,6 +5,9 @@
 //! (Yih 1967, J. Fluid Mech. 27; Hooper 1985, Phys. Fluids 28); σ is found as the slope of
 //! ln A against t by least squares.
 
+// Negated comparisons are deliberate: a NaN must fail every check.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
 use std::f64::consts::PI;
 
 use rustfft::FftPlanner;

@@ -5,6 +5,9 @@
 //! Vera licence, the crate under MIT/Apache-2.0) and registered with plotters' `ab_glyph`
 //! backend, so charts render the same on a machine with no system fonts.
 
+// Negated comparisons are deliberate: a NaN must fail every check.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
 use std::ops::Range;
 use std::sync::OnceLock;
 

@@ -45,6 +45,8 @@ pub enum Command {
     Run(commands::run::Args),
     /// Continue an interrupted run from the newest valid checkpoint in its run folder.
     Resume(commands::resume::Args),
+    /// Predicted growth rates of layered channel flow from linear stability theory.
+    Stability(commands::stability::Args),
     /// Velocity profile across the channel of a run, against the analytical profile.
     Profile(commands::profile::Args),
     /// Run a case at several spacings and fit the observed order of convergence.

@@ -2,6 +2,9 @@
 //! the initial interface: displacement normal to it over time, onset, exponential growth rate
 //! with a 95 % confidence interval, and the dominant wavelength of the interface shape.
 
+// Negated comparisons are deliberate: a NaN must fail every check.
+#![allow(clippy::neg_cmp_op_on_partial_ord)]
+
 use std::collections::HashSet;
 use std::path::PathBuf;
 

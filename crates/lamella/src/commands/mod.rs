@@ -9,6 +9,7 @@ pub mod new;
 pub mod profile;
 pub mod resume;
 pub mod run;
+pub mod stability;
 
 use crate::Failure;
 use crate::cli::{Command, Globals};
@@ -20,6 +21,7 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
         Command::New(args) => new::run(args, globals),
         Command::Run(args) => run::run(args, globals),
         Command::Resume(args) => resume::run(args, globals),
+        Command::Stability(args) => stability::run(args, globals),
         Command::Profile(args) => profile::run(args, globals),
         Command::Converge(args) => converge::run(args, globals),
         Command::Growth(args) => growth::run(args, globals),
