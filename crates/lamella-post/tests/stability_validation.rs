@@ -44,7 +44,8 @@ fn two_layers_of_equal_viscosity_reproduce_the_one_layer_spectrum() {
         let spectrum = problem.solve().unwrap();
         let yi = problem.channel.interfaces()[0];
         let ui = problem.channel.base_flow().velocity(yi);
-        let near = |c: c64, set: &[c64]| set.iter().map(|s| (s - c).norm()).fold(f64::MAX, f64::min);
+        let near =
+            |c: c64, set: &[c64]| set.iter().map(|s| (s - c).norm()).fold(f64::MAX, f64::min);
         // Every well-resolved one-layer mode (the least damped ones) is in the two-layer set.
         // (Modes near the junction of the spectrum's branches, c ≈ 0.6 − 0.3i, are too
         // sensitive to compare at round-off level; Reddy, Schmid & Henningson 1993, SIAM J.
@@ -56,7 +57,10 @@ fn two_layers_of_equal_viscosity_reproduce_the_one_layer_spectrum() {
         // And every two-layer mode is a one-layer mode or the interface mode.
         for &c in spectrum.speeds().iter().filter(compared) {
             let passive = (c - c64::new(ui, 0.0)).norm() < 1e-6;
-            assert!(passive || near(c, reference.speeds()) < 1e-6, "n = {n}: extra {c}");
+            assert!(
+                passive || near(c, reference.speeds()) < 1e-6,
+                "n = {n}: extra {c}"
+            );
         }
         assert!(near(c64::new(ui, 0.0), spectrum.speeds()) < 1e-6);
     }
@@ -84,22 +88,40 @@ fn long_wave_growth_sign_follows_yih_1967_and_scales_with_alpha_re() {
         for &n in &ns {
             let problem = two_layer(m, n, re, alpha);
             let c = problem.solve().unwrap().leading().unwrap();
-            let c2 = problem.with_wavenumber(2.0 * alpha).solve().unwrap().leading().unwrap();
+            let c2 = problem
+                .with_wavenumber(2.0 * alpha)
+                .solve()
+                .unwrap()
+                .leading()
+                .unwrap();
             let expansion = long_wave_coefficient(&problem.channel).unwrap();
             // Sign of the growth rate: solver, exact expansion and Yih's criterion agree.
             assert_eq!(c.im > 0.0, yih_unstable(m, n), "m = {m}, n = {n}: c = {c}");
-            assert_eq!(expansion.growth > 0.0, yih_unstable(m, n), "m = {m}, n = {n}");
+            assert_eq!(
+                expansion.growth > 0.0,
+                yih_unstable(m, n),
+                "m = {m}, n = {n}"
+            );
             // c_i is linear in α Re: doubling α doubles c_i (to O(α²) corrections).
-            assert!((c2.im / c.im - 2.0).abs() < 1e-2, "m = {m}, n = {n}: {c} {c2}");
+            assert!(
+                (c2.im / c.im - 2.0).abs() < 1e-2,
+                "m = {m}, n = {n}: {c} {c2}"
+            );
             // And its slope is the expansion's J.
             let ratio = c.im / (alpha * re * expansion.growth);
-            assert!((ratio - 1.0).abs() < 1e-2, "m = {m}, n = {n}: ratio {ratio}");
+            assert!(
+                (ratio - 1.0).abs() < 1e-2,
+                "m = {m}, n = {n}: ratio {ratio}"
+            );
             assert!((c.re - expansion.speed).abs() < 1e-3);
             unstable += usize::from(c.im > 0.0);
         }
     }
     // The grid holds both stable and unstable cases, so the sign test can fail.
-    assert!(unstable > 5 && unstable < ms.len() * ns.len() - 5, "{unstable} unstable");
+    assert!(
+        unstable > 5 && unstable < ms.len() * ns.len() - 5,
+        "{unstable} unstable"
+    );
 }
 
 #[test]
@@ -119,17 +141,29 @@ fn leading_eigenvalue_is_converged_at_the_default_resolution() {
         two_layer(3.0, 2.0, 50.0, 0.5),
     ] {
         let base = problem.solve().unwrap();
-        let fine = problem.with_points(2 * DEFAULT_POINTS_PER_LAYER).solve().unwrap();
+        let fine = problem
+            .with_points(2 * DEFAULT_POINTS_PER_LAYER)
+            .solve()
+            .unwrap();
         let change = (base.leading().unwrap() - fine.leading().unwrap()).norm();
         assert!(change < 1e-5, "{problem:?}: change {change}");
-        assert!(base.speeds().iter().all(|c| c.norm() <= SPURIOUS_SPEED && c.im.is_finite()));
+        assert!(
+            base.speeds()
+                .iter()
+                .all(|c| c.norm() <= SPURIOUS_SPEED && c.im.is_finite())
+        );
         let checked = leading_checked(&problem).unwrap();
         assert!(checked.resolution_change < 1e-6, "{problem:?}: {checked:?}");
     }
     // One layer is limited by the discretisation only: doubling changes c by under 1e-8.
     let single = one_layer(1.0e4, 1.0);
     let change = (single.solve().unwrap().leading().unwrap()
-        - single.with_points(2 * DEFAULT_POINTS_PER_LAYER).solve().unwrap().leading().unwrap())
+        - single
+            .with_points(2 * DEFAULT_POINTS_PER_LAYER)
+            .solve()
+            .unwrap()
+            .leading()
+            .unwrap())
     .norm();
     assert!(change < 1e-8, "one layer: change {change}");
 }

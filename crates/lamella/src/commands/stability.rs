@@ -1,0 +1,430 @@
+//! `lamella stability`: predicted growth rates of layered channel flow from linear theory.
+//!
+//! Two ways to give the flow: the ratios directly (`--m`, `--n`, `--re`, scaled units of
+//! `lamella_post::stability`), or a case file, from which the two layers, their
+//! viscosities, the channel height, the body force and the seeded wavelength are taken and
+//! the results are printed in the case's units as well.
+
+use std::fmt::Write as _;
+use std::fs;
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+
+use lamella_case::{Axis, Case, Side};
+use lamella_post::stability::{
+    self, CurvePoint, DEFAULT_POINTS_PER_LAYER, LayeredChannel, MapPoint, StabilityError,
+    StabilityProblem,
+};
+
+use crate::Failure;
+use crate::cli::Globals;
+use crate::commands::check::load_case;
+
+/// Width and height of the PNG charts (pixels).
+const PNG_SIZE: (u32, u32) = (800, 560);
+
+/// Options of `lamella stability`.
+#[derive(Debug, clap::Args)]
+#[command(
+    after_help = "Scaled units: lengths by the channel half-width h, velocities by the \
+    peak velocity U_max of the steady profile, Re = rho U_max h / mu_lower, m = mu_lower/mu_upper, \
+    n = d_lower/d_upper, growth rate = wavenumber x Im(c) in U_max/h, tension S = gamma/(rho \
+    U_max^2 h).\n\nExit codes: 0 done, 1 a solve or a file write failed, 2 bad options or case."
+)]
+pub struct Args {
+    /// A two-layer channel case: m, n, Re and the wavenumber come from it.
+    #[arg(value_name = "CASE", conflicts_with_all = ["m", "n", "re"])]
+    pub case: Option<PathBuf>,
+    /// Viscosity ratio m = mu_lower / mu_upper (1 with --n 1 is one fluid).
+    #[arg(long, value_name = "M", requires_all = ["n", "re"], required_unless_present = "case")]
+    pub m: Option<f64>,
+    /// Width ratio n = d_lower / d_upper.
+    #[arg(long, value_name = "N", requires_all = ["m", "re"])]
+    pub n: Option<f64>,
+    /// Reynolds number rho U_max h / mu_lower.
+    #[arg(long, value_name = "RE", requires_all = ["m", "n"])]
+    pub re: Option<f64>,
+    /// Scaled wavenumber k h [case mode default: from the perturbation wavelength].
+    #[arg(long, value_name = "K", conflicts_with = "scan")]
+    pub wavenumber: Option<f64>,
+    /// Scan scaled wavenumbers: first,last,steps; prints the most unstable and writes the
+    /// growth-rate curve (CSV + PNG).
+    #[arg(long, value_name = "K0,K1,STEPS")]
+    pub scan: Option<String>,
+    /// Scaled interfacial tension S = gamma / (rho U_max^2 h).
+    #[arg(long, value_name = "S", default_value_t = 0.0)]
+    pub tension: f64,
+    /// Stability map over viscosity ratios: first,last,steps (log-spaced); needs --map-n.
+    #[arg(
+        long,
+        value_name = "M0,M1,STEPS",
+        requires = "map_n",
+        conflicts_with = "scan"
+    )]
+    pub map_m: Option<String>,
+    /// Stability map over width ratios: first,last,steps (log-spaced); needs --map-m.
+    #[arg(long, value_name = "N0,N1,STEPS", requires = "map_m")]
+    pub map_n: Option<String>,
+    /// Chebyshev collocation points per layer.
+    #[arg(long, value_name = "P", default_value_t = DEFAULT_POINTS_PER_LAYER)]
+    pub points: usize,
+    /// Folder for the CSV and PNG files (created if missing).
+    #[arg(long, value_name = "DIR", default_value = ".")]
+    pub out: PathBuf,
+}
+
+/// Dimensional scales of a case, to convert scaled results back.
+struct CaseUnits {
+    /// Channel half-width h (m).
+    half_width: f64,
+    /// Peak velocity of the steady profile U_max (m/s).
+    peak_velocity: f64,
+}
+
+/// The problem to solve and, in case mode, the units to print results in.
+struct Setup {
+    problem: StabilityProblem,
+    units: Option<CaseUnits>,
+    description: String,
+}
+
+/// Solves and prints; writes the curve or map files when asked for.
+pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
+    let mut setup = match &args.case {
+        Some(path) => from_case(path, &args)?,
+        None => from_ratios(&args)?,
+    };
+    setup.problem.tension = args.tension;
+    setup.problem.points_per_layer = args.points;
+    let mut report = setup.description.clone();
+    let mut written = Vec::new();
+    if let Some(scan) = &args.scan {
+        let (first, last, steps) = parse_range(scan, "--scan")?;
+        let curve =
+            stability::growth_curve(&setup.problem, first, last, steps).map_err(solve_failure)?;
+        let best = stability::most_unstable(&setup.problem, &curve).map_err(solve_failure)?;
+        let edge = best.wavenumber <= first || best.wavenumber >= last;
+        writeln!(
+            report,
+            "most unstable wavenumber in {first}..{last}{}:",
+            if edge {
+                " (at the scan edge: widen the scan)"
+            } else {
+                ""
+            }
+        )
+        .ok();
+        describe(&mut report, best.wavenumber, best.speed, &setup.units);
+        let csv = args.out.join("stability_curve.csv");
+        let png = args.out.join("stability_curve.png");
+        write_atomic(&csv, curve_csv(&curve, &setup.units).as_bytes())?;
+        let chart = stability::growth_curve_chart(&curve);
+        let bytes = chart
+            .to_png(PNG_SIZE.0, PNG_SIZE.1)
+            .map_err(|e| write_failure(&png, e))?;
+        write_atomic(&png, &bytes)?;
+        written.extend([csv, png]);
+    } else if args.map_m.is_none() {
+        let checked = stability::leading_checked(&setup.problem).map_err(solve_failure)?;
+        writeln!(report, "leading eigenvalue:").ok();
+        describe(
+            &mut report,
+            setup.problem.wavenumber,
+            checked.speed,
+            &setup.units,
+        );
+        writeln!(
+            report,
+            "  resolution check: |dc| = {:.1e} at {} instead of {} points per layer",
+            checked.resolution_change,
+            setup.problem.points_per_layer * 3 / 2,
+            setup.problem.points_per_layer
+        )
+        .ok();
+    }
+    if let (Some(map_m), Some(map_n)) = (&args.map_m, &args.map_n) {
+        let ms = log_spaced(parse_range(map_m, "--map-m")?, "--map-m")?;
+        let ns = log_spaced(parse_range(map_n, "--map-n")?, "--map-n")?;
+        let map = stability::stability_map(&setup.problem, &ms, &ns).map_err(solve_failure)?;
+        let unstable = map.iter().filter(|p| p.growth_rate > 0.0).count();
+        writeln!(
+            report,
+            "stability map at Re = {}, wavenumber {}: {unstable} of {} (m, n) pairs unstable",
+            setup.problem.reynolds,
+            setup.problem.wavenumber,
+            map.len()
+        )
+        .ok();
+        let csv = args.out.join("stability_map.csv");
+        let png = args.out.join("stability_map.png");
+        write_atomic(&csv, map_csv(&map).as_bytes())?;
+        let chart = stability::map_chart(&map, setup.problem.reynolds, setup.problem.wavenumber);
+        let bytes = chart
+            .to_png(PNG_SIZE.0, PNG_SIZE.1)
+            .map_err(|e| write_failure(&png, e))?;
+        write_atomic(&png, &bytes)?;
+        written.extend([csv, png]);
+    }
+    for path in &written {
+        writeln!(report, "wrote {}", path.display()).ok();
+    }
+    if !globals.quiet {
+        print!("{report}");
+    }
+    Ok(())
+}
+
+fn solve_failure(err: StabilityError) -> Failure {
+    match err {
+        StabilityError::InvalidParameter(msg) => Failure::BadInput(msg),
+        other => Failure::RunFailed(format!("stability solve failed: {other}")),
+    }
+}
+
+fn write_failure(path: &Path, err: impl std::fmt::Display) -> Failure {
+    Failure::RunFailed(format!("cannot write {}: {err}", path.display()))
+}
+
+fn from_ratios(args: &Args) -> Result<Setup, Failure> {
+    let (m, n, re) = match (args.m, args.n, args.re) {
+        (Some(m), Some(n), Some(re)) => (m, n, re),
+        _ => {
+            return Err(Failure::BadInput(
+                "give a CASE, or all of --m, --n and --re".into(),
+            ));
+        }
+    };
+    let wavenumber = match (args.wavenumber, &args.scan) {
+        (Some(k), _) => k,
+        (None, Some(_)) => 1.0,
+        (None, None) => {
+            return Err(Failure::BadInput(
+                "give --wavenumber K or --scan K0,K1,STEPS (scaled by the half-width)".into(),
+            ));
+        }
+    };
+    let channel = if m == 1.0 && n == 1.0 {
+        LayeredChannel::single()
+    } else {
+        LayeredChannel::two_layer(m, n).map_err(solve_failure)?
+    };
+    let description = format!(
+        "layered channel: m = {m}, n = {n}, Re = {re}, tension S = {} (scaled units)\n",
+        args.tension
+    );
+    Ok(Setup {
+        problem: StabilityProblem::new(channel, re, wavenumber),
+        units: None,
+        description,
+    })
+}
+
+/// Reads m, n, Re, the drive and the seeded wavenumber from a two-layer channel case.
+fn from_case(path: &Path, args: &Args) -> Result<Setup, Failure> {
+    let case = load_case(path)?;
+    let bad = |what: &str| Failure::BadInput(format!("{}: {what}", path.display()));
+    let pairs = case.layer_pairs();
+    let [pair] = pairs.as_slice() else {
+        return Err(bad(&format!(
+            "the stability analysis needs exactly two stacked layers of different phases, found {} layer boundaries; use --m, --n, --re instead",
+            pairs.len()
+        )));
+    };
+    require_channel(&case).map_err(|what| bad(&what))?;
+    let (lower, upper) = (&case.phases[pair.lower], &case.phases[pair.upper]);
+    if (lower.density - upper.density).abs() > 1e-9 * lower.density.abs() {
+        return Err(bad(&format!(
+            "phases '{}' and '{}' differ in density ({} and {} kg/m³); the stability analysis assumes equal densities",
+            lower.name, upper.name, lower.density, upper.density
+        )));
+    }
+    let force = case
+        .body_force
+        .as_ref()
+        .map(|f| f[0])
+        .filter(|f| *f != 0.0)
+        .ok_or_else(|| {
+            bad("the flow needs a body force along x (the drive of the channel flow)")
+        })?;
+    let half_width = case.extent(1) / 2.0;
+    let m = pair.viscosity_ratio;
+    let n = pair.width_ratio;
+    let channel = LayeredChannel::two_layer(m, n).map_err(solve_failure)?;
+    let mu_lower = lower.viscosity_law.reference_viscosity();
+    let drive = lower.density * force.abs();
+    let peak_velocity =
+        channel.base_flow().peak_coefficient() * drive * half_width.powi(2) / mu_lower;
+    let re = lower.density * peak_velocity * half_width / mu_lower;
+    let wavenumber = match (args.wavenumber, &case.interface_perturbation, &args.scan) {
+        (Some(k), _, _) => k,
+        (None, Some(p), _) => 2.0 * std::f64::consts::PI / p.wavelength * half_width,
+        (None, None, Some(_)) => 1.0,
+        (None, None, None) => {
+            return Err(bad(
+                "the case seeds no interface perturbation; give --wavenumber or --scan",
+            ));
+        }
+    };
+    let description = format!(
+        "case {}: phases '{}' (lower) and '{}' (upper), m = {m:.6}, n = {n:.6}, Re = {re:.6}\n  \
+         half-width h = {half_width} m, peak velocity of the steady profile U_max = {peak_velocity:.6e} m/s\n",
+        path.display(),
+        lower.name,
+        upper.name
+    );
+    Ok(Setup {
+        problem: StabilityProblem::new(channel, re, wavenumber),
+        units: Some(CaseUnits {
+            half_width,
+            peak_velocity,
+        }),
+        description,
+    })
+}
+
+/// A plane channel: fixed walls at the bottom and top, periodic along x, layers filling the
+/// height.
+fn require_channel(case: &Case) -> Result<(), String> {
+    for side in [Side::Bottom, Side::Top] {
+        match case.walls.iter().find(|w| w.side == side) {
+            None => return Err(format!("the channel needs a wall at the {side:?} side")),
+            Some(w)
+                if w.velocity
+                    .as_ref()
+                    .is_some_and(|v| v.iter().any(|x| *x != 0.0)) =>
+            {
+                return Err(format!(
+                    "the {side:?} wall moves; the analysis is for fixed walls"
+                ));
+            }
+            Some(_) => {}
+        }
+    }
+    if !case.is_periodic(Axis::X) {
+        return Err("the channel must be periodic along x".into());
+    }
+    let bands = case.layer_bands();
+    let (lo, hi) = (case.domain.lower[1], case.domain.upper[1]);
+    let tol = 1e-9 * (hi - lo);
+    let covers = bands.first().is_some_and(|b| (b.bottom - lo).abs() <= tol)
+        && bands.last().is_some_and(|b| (b.top - hi).abs() <= tol);
+    if !covers {
+        return Err("the two layers must fill the channel from the bottom to the top".into());
+    }
+    Ok(())
+}
+
+fn describe(report: &mut String, wavenumber: f64, c: stability::c64, units: &Option<CaseUnits>) {
+    let growth = wavenumber * c.im;
+    writeln!(
+        report,
+        "  scaled: wavenumber {wavenumber:.6}, wave speed c = {:.8} {:+.8}i, growth rate {growth:.6e} ({})",
+        c.re,
+        c.im,
+        if growth > 0.0 { "unstable" } else { "stable" }
+    )
+    .ok();
+    if let Some(u) = units {
+        writeln!(
+            report,
+            "  case units: wavenumber {:.6} 1/m (wavelength {:.6} m), wave speed {:.6e} {:+.6e}i m/s, growth rate {:.6e} 1/s",
+            wavenumber / u.half_width,
+            2.0 * std::f64::consts::PI * u.half_width / wavenumber,
+            c.re * u.peak_velocity,
+            c.im * u.peak_velocity,
+            growth * u.peak_velocity / u.half_width
+        )
+        .ok();
+    }
+}
+
+fn curve_csv(curve: &[CurvePoint], units: &Option<CaseUnits>) -> String {
+    let mut out = String::from(
+        "wavenumber_scaled,wave_speed_real_scaled,wave_speed_imag_scaled,growth_rate_scaled",
+    );
+    if units.is_some() {
+        out.push_str(",wavenumber_per_m,growth_rate_per_s");
+    }
+    out.push('\n');
+    for p in curve {
+        write!(
+            out,
+            "{},{},{},{}",
+            p.wavenumber, p.speed.re, p.speed.im, p.growth_rate
+        )
+        .ok();
+        if let Some(u) = units {
+            write!(
+                out,
+                ",{},{}",
+                p.wavenumber / u.half_width,
+                p.growth_rate * u.peak_velocity / u.half_width
+            )
+            .ok();
+        }
+        out.push('\n');
+    }
+    out
+}
+
+fn map_csv(map: &[MapPoint]) -> String {
+    let mut out =
+        String::from("m,n,wave_speed_real_scaled,wave_speed_imag_scaled,growth_rate_scaled\n");
+    for p in map {
+        writeln!(
+            out,
+            "{},{},{},{},{}",
+            p.m, p.n, p.speed.re, p.speed.im, p.growth_rate
+        )
+        .ok();
+    }
+    out
+}
+
+/// Parses "first,last,steps".
+fn parse_range(text: &str, option: &str) -> Result<(f64, f64, usize), Failure> {
+    let bad = || {
+        Failure::BadInput(format!(
+            "{option} {text}: expected first,last,steps, e.g. 0.1,2,40 (first < last, steps >= 2)"
+        ))
+    };
+    let parts: Vec<&str> = text.split(',').map(str::trim).collect();
+    let [first, last, steps] = parts.as_slice() else {
+        return Err(bad());
+    };
+    let first: f64 = first.parse().map_err(|_| bad())?;
+    let last: f64 = last.parse().map_err(|_| bad())?;
+    let steps: usize = steps.parse().map_err(|_| bad())?;
+    if !(first.is_finite() && last.is_finite() && first < last && steps >= 2) {
+        return Err(bad());
+    }
+    Ok((first, last, steps))
+}
+
+fn log_spaced((first, last, steps): (f64, f64, usize), option: &str) -> Result<Vec<f64>, Failure> {
+    if !(first > 0.0) {
+        return Err(Failure::BadInput(format!(
+            "{option}: ratios must be positive, got {first}"
+        )));
+    }
+    let (a, b) = (first.ln(), last.ln());
+    Ok((0..steps)
+        .map(|k| (a + (b - a) * k as f64 / (steps - 1) as f64).exp())
+        .collect())
+}
+
+/// Writes through a temporary file in the same folder and renames it, so a failure never
+/// leaves a half-written file.
+fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
+    if let Some(dir) = path.parent() {
+        fs::create_dir_all(dir).map_err(|e| write_failure(path, e))?;
+    }
+    let tmp = path.with_extension("partial");
+    let result = fs::File::create(&tmp)
+        .and_then(|mut f| f.write_all(bytes).and_then(|()| f.sync_all()))
+        .and_then(|()| fs::rename(&tmp, path));
+    result.map_err(|e| {
+        let _ = fs::remove_file(&tmp);
+        write_failure(path, e)
+    })
+}
