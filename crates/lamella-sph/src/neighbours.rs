@@ -14,8 +14,8 @@ pub trait Neighbourhood<V: Vector>: Sync {
 
 impl<V: Vector> Neighbourhood<V> for CellList<V> {
     #[inline]
-    fn for_each_neighbour(&self, positions: &[V], i: usize, mut visit: impl FnMut(usize, V, f64)) {
-        CellList::for_each_neighbour(self, positions, i, |j, r_ij, dist| visit(j, r_ij, dist));
+    fn for_each_neighbour(&self, positions: &[V], i: usize, visit: impl FnMut(usize, V, f64)) {
+        CellList::for_each_neighbour(self, positions, i, visit);
     }
 }
 
