@@ -38,6 +38,7 @@ impl LayeredChannel {
 
     /// Any stack of layers: `bounds` from −1 to 1, strictly increasing, and one positive
     /// relative viscosity per layer.
+    #[allow(clippy::neg_cmp_op_on_partial_ord)] // `!(a > b)` also rejects NaN on purpose
     pub fn from_layers(bounds: Vec<f64>, viscosity: Vec<f64>) -> Result<Self, StabilityError> {
         if bounds.len() != viscosity.len() + 1 || viscosity.is_empty() {
             return Err(StabilityError::InvalidParameter(format!(

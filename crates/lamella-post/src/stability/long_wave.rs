@@ -67,6 +67,7 @@ pub fn long_wave_coefficient(channel: &LayeredChannel) -> Result<LongWave, Stabi
 
 /// Finds φ_j = p_j + q_j (q_j cubic) meeting φ = φ' = 0 at the walls y = ∓1 and, at y_i,
 /// [φ] = jumps[0], [φ'] = jumps[1], [μφ''] = 0, [μφ'''] = 0. Returns the full φ_j.
+#[allow(clippy::needless_range_loop)] // index loops mirror the matrix formulas
 fn solve_cubics(
     particular: &[Vec<f64>; 2],
     mu: [f64; 2],

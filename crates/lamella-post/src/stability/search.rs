@@ -56,6 +56,7 @@ fn curve_point(problem: &StabilityProblem, wavenumber: f64) -> Result<CurvePoint
 }
 
 /// Leading mode at `steps` evenly spaced wavenumbers from `first` to `last` (inclusive).
+#[allow(clippy::neg_cmp_op_on_partial_ord)] // `!(a > b)` also rejects NaN on purpose
 pub fn growth_curve(
     problem: &StabilityProblem,
     first: f64,

@@ -205,6 +205,7 @@ impl StabilityProblem {
     }
 
     /// Builds the matrices A and B of A x = c B x.
+    #[allow(clippy::needless_range_loop)] // index loops mirror the matrix formulas
     fn assemble(&self) -> (Mat<c64>, Mat<c64>) {
         let channel = &self.channel;
         let flow = channel.base_flow();
