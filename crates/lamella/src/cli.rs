@@ -60,15 +60,14 @@ pub enum Command {
 /// Parses the command line, runs the subcommand and turns the outcome into an exit code.
 pub fn main() -> ExitCode {
     let cli = Cli::parse();
-    if let Some(threads) = cli.threads {
-        if let Err(err) = rayon::ThreadPoolBuilder::new()
+    if let Some(threads) = cli.threads
+        && let Err(err) = rayon::ThreadPoolBuilder::new()
             .num_threads(threads.get())
             .build_global()
-        {
-            return report(Failure::BadInput(format!(
-                "cannot start {threads} worker threads: {err}"
-            )));
-        }
+    {
+        return report(Failure::BadInput(format!(
+            "cannot start {threads} worker threads: {err}"
+        )));
     }
     let globals = Globals { quiet: cli.quiet };
     match commands::dispatch(cli.command, globals) {

@@ -402,7 +402,7 @@ fn parse_range(text: &str, option: &str) -> Result<(f64, f64, usize), Failure> {
 }
 
 fn log_spaced((first, last, steps): (f64, f64, usize), option: &str) -> Result<Vec<f64>, Failure> {
-    if !(first > 0.0) {
+    if first.is_nan() || first <= 0.0 {
         return Err(Failure::BadInput(format!(
             "{option}: ratios must be positive, got {first}"
         )));
