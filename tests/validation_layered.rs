@@ -123,6 +123,14 @@ fn run_layered(rows: usize, ratio: f64, pair: PairViscosity) -> (Measured, Layer
     // one-sided gradients skip the rows within the kernel support 2h = 2.6 dx of it, whose
     // particles feel both viscosities (the kernel smears the jump over its support), and use
     // the next three.
+    let side_fit = |rows_k: [usize; 3]| -> (f64, f64) {
+        let s: Vec<f64> = rows_k
+            .iter()
+            .map(|&k| (k as f64 + 0.5) * dx - exact.lower_width)
+            .collect();
+        let v: Vec<f64> = rows_k.iter().map(|&k| row_u[k]).collect();
+        quadratic_at_zero(&s, &v)
+    };
     let (lower_value, _) = side_fit([k1 - 3, k1 - 2, k1 - 1]);
     let (upper_value, _) = side_fit([k1, k1 + 1, k1 + 2]);
     let (_, lower_gradient) = side_fit([k1 - 6, k1 - 5, k1 - 4]);
