@@ -12,6 +12,10 @@ pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
 pub const SMOOTHING_RATIO_COMMON: (f64, f64) = (1.2, 1.5);
 /// Most lattice sites a case may ask for (fluid and wall), to catch a spacing typed wrong.
 pub const MAX_PARTICLES: f64 = 2.0e8;
+/// Deepest wall accepted (layers of wall particles); the widest kernel support needs 6.
+pub const MAX_WALL_LAYERS: u32 = 12;
+/// Most sample points accepted on one line probe.
+pub const MAX_PROBE_SAMPLES: u32 = 100_000;
 /// Relative tolerance when a length must be a whole number of spacings or wavelengths.
 const TILE_TOLERANCE: f64 = 1e-6;
 
@@ -629,6 +633,16 @@ impl Case {
                     ),
                 );
             }
+            if wall.layers > MAX_WALL_LAYERS {
+                c.bad(
+                    format!("{path}.layers"),
+                    wall.layers.to_string(),
+                    &format!(
+                        "at most {MAX_WALL_LAYERS} layers; {needed_layers} already cover the \
+                         kernel support"
+                    ),
+                );
+            }
             if let Some(v) = &wall.velocity {
                 let vpath = format!("{path}.velocity");
                 if c.vector(&vpath, v, dim, "wall velocity in m/s") {
@@ -767,11 +781,11 @@ impl Case {
                 Probe::Line {
                     from, to, samples, ..
                 } => {
-                    if *samples < 2 {
+                    if !(2..=MAX_PROBE_SAMPLES).contains(samples) {
                         c.bad(
                             format!("{path}.samples"),
                             samples.to_string(),
-                            "at least 2 sample points",
+                            &format!("from 2 to {MAX_PROBE_SAMPLES} sample points"),
                         );
                     }
                     vec![("from", from), ("to", to)]

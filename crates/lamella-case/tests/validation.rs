@@ -155,6 +155,15 @@ fn wall_layers_must_cover_the_kernel_support() {
 }
 
 #[test]
+fn wall_layers_have_an_upper_bound() {
+    assert_problem(
+        "wall-layers-deep",
+        "walls[0].layers",
+        "at most 12 layers; 3 already cover the kernel support",
+    );
+}
+
+#[test]
 fn perturbation_wavelength_must_tile_the_periodic_length() {
     assert_problem(
         "wavelength-not-tiling",
