@@ -42,9 +42,15 @@ fn load(name: &str) -> lamella_case::Case {
     lamella_case::load(&lamella_suite::cases_dir().join(name)).expect("bundled case loads")
 }
 
-#[test]
-fn startup_poiseuille_follows_the_morris_series() {
-    let case = load("poiseuille.ron");
+/// Runs a bundled start-up case with 30 particles across and compares its profile with the
+/// series `reference(plates, y, t)` at several times; ≤ 10 % during the transient, ≤ 3 % at the
+/// steady state (the bound).
+fn check_startup(
+    name: &str,
+    label: &str,
+    reference: impl Fn(&lamella_case::Case, &PlateGap, f64, f64) -> f64,
+) {
+    let case = load(name);
     let started = Instant::now();
     let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
     let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
@@ -52,68 +58,45 @@ fn startup_poiseuille_follows_the_morris_series() {
         gap: case.extent(1),
         nu,
     };
-    let force = case.body_force.as_ref().expect("body force")[0];
     let rows = case.lattice_counts()[1];
     assert_eq!(rows, 30, "30 particles across the channel");
     let mut last = f64::NAN;
     for t in [0.05, 0.1, 0.2, 0.4, case.time.end] {
         advance_to(&mut sim, t);
-        last = profile_error(&sim, plates.gap, rows, |y| {
-            plates.poiseuille_startup(force, y, t)
-        });
+        last = profile_error(&sim, plates.gap, rows, |y| reference(&case, &plates, y, t));
         println!(
-            "Poiseuille t = {t:.2} s: relative L2 error {:.2} %",
+            "{label} t = {t:.2} s: relative L2 error {:.2} %",
             100.0 * last
         );
-        assert!(last < 0.10, "transient profile off by {last}");
+        assert!(last < 0.10, "transient {label} profile off by {last}");
     }
     println!(
-        "Poiseuille: {} steps in {:.1?}",
+        "{label}: {} steps in {:.1?}",
         sim.step_count(),
         started.elapsed()
     );
     assert!(
         last <= 0.03,
-        "steady Poiseuille profile: relative L2 error {last} > 3 %"
+        "steady {label} profile: relative L2 error {last} > 3 %"
     );
 }
 
 #[test]
+fn startup_poiseuille_follows_the_morris_series() {
+    check_startup("poiseuille.ron", "Poiseuille", |case, plates, y, t| {
+        let force = case.body_force.as_ref().expect("body force")[0];
+        plates.poiseuille_startup(force, y, t)
+    });
+}
+
+#[test]
 fn startup_couette_follows_the_morris_series() {
-    let case = load("couette.ron");
-    let started = Instant::now();
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
-    let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
-    let plates = PlateGap {
-        gap: case.extent(1),
-        nu,
-    };
-    let lid = case
-        .walls
-        .iter()
-        .find_map(|w| w.velocity.as_ref())
-        .expect("a moving wall")[0];
-    let rows = case.lattice_counts()[1];
-    assert_eq!(rows, 30, "30 particles across the channel");
-    let mut last = f64::NAN;
-    for t in [0.05, 0.1, 0.2, 0.4, case.time.end] {
-        advance_to(&mut sim, t);
-        last = profile_error(&sim, plates.gap, rows, |y| {
-            plates.couette_startup(lid, y, t)
-        });
-        println!(
-            "Couette t = {t:.2} s: relative L2 error {:.2} %",
-            100.0 * last
-        );
-        assert!(last < 0.10, "transient profile off by {last}");
-    }
-    println!(
-        "Couette: {} steps in {:.1?}",
-        sim.step_count(),
-        started.elapsed()
-    );
-    assert!(
-        last <= 0.03,
-        "steady Couette profile: relative L2 error {last} > 3 %"
-    );
+    check_startup("couette.ron", "Couette", |case, plates, y, t| {
+        let lid = case
+            .walls
+            .iter()
+            .find_map(|w| w.velocity.as_ref())
+            .expect("a moving wall")[0];
+        plates.couette_startup(lid, y, t)
+    });
 }
