@@ -15,9 +15,10 @@ use crate::commands;
 #[command(name = "lamella", version, propagate_version = true)]
 pub struct Cli {
     /// Worker threads for the solver and analyses [default: all cores].
-    /// Results are identical whatever the thread count.
-    #[arg(long, global = true, value_name = "N")]
-    pub threads: Option<NonZeroUsize>,
+    /// Results are identical whatever the thread count. `lamella bench` takes a list
+    /// (e.g. 1,2) and measures each count.
+    #[arg(long, global = true, value_name = "N", value_delimiter = ',')]
+    pub threads: Vec<NonZeroUsize>,
 
     /// Print errors only: no progress bar, no summaries.
     #[arg(long, short, global = true)]
@@ -55,25 +56,45 @@ pub enum Command {
     Growth(commands::growth::Args),
     /// Mixing measures of a run: segregation, Lacey index, mixing entropy, FTLE.
     Mix(commands::mix::Args),
+    /// Measure solver throughput (particle-steps per second) and memory on this machine.
+    Bench(commands::bench::Args),
+    /// Predict the wall time and memory of a case on this machine from a short calibration.
+    Estimate(commands::estimate::Args),
 }
 
 /// Parses the command line, runs the subcommand and turns the outcome into an exit code.
 pub fn main() -> ExitCode {
-    let cli = Cli::parse();
-    if let Some(threads) = cli.threads
-        && let Err(err) = rayon::ThreadPoolBuilder::new()
-            .num_threads(threads.get())
-            .build_global()
-    {
-        return report(Failure::BadInput(format!(
-            "cannot start {threads} worker threads: {err}"
-        )));
+    let mut cli = Cli::parse();
+    if let Command::Bench(args) = &mut cli.command {
+        // The benchmark builds one pool per thread count it measures.
+        args.thread_counts = cli.threads.clone();
+    } else if let Err(failure) = start_thread_pool(&cli.threads) {
+        return report(failure);
     }
     let globals = Globals { quiet: cli.quiet };
     match commands::dispatch(cli.command, globals) {
         Ok(()) => ExitCode::SUCCESS,
         Err(failure) => report(failure),
     }
+}
+
+/// Sizes the global worker pool from `--threads` (one count; all cores when absent).
+fn start_thread_pool(threads: &[NonZeroUsize]) -> Result<(), Failure> {
+    let count = match threads {
+        [] => return Ok(()),
+        [count] => count.get(),
+        _ => {
+            return Err(Failure::BadInput(
+                "--threads takes one count, except with `lamella bench`, which measures each \
+                 count of a list"
+                    .into(),
+            ));
+        }
+    };
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(count)
+        .build_global()
+        .map_err(|err| Failure::BadInput(format!("cannot start {count} worker threads: {err}")))
 }
 
 fn report(failure: Failure) -> ExitCode {

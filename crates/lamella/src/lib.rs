@@ -1,8 +1,10 @@
 //! The Lamella runner and command line.
 
+pub mod benchmark;
 pub mod cli;
 mod commands;
 pub mod failure;
+pub mod memory;
 pub mod output;
 pub mod runner;
 pub mod setup;

@@ -1,8 +1,10 @@
 //! One module per subcommand; each has an `Args` (clap) and a `run` function.
 
 pub mod analysis;
+pub mod bench;
 pub mod check;
 pub mod converge;
+pub mod estimate;
 pub mod growth;
 pub mod mix;
 pub mod new;
@@ -26,5 +28,7 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
         Command::Converge(args) => converge::run(args, globals),
         Command::Growth(args) => growth::run(args, globals),
         Command::Mix(args) => mix::run(args, globals),
+        Command::Bench(args) => bench::run(args, globals),
+        Command::Estimate(args) => estimate::run(args, globals),
     }
 }
