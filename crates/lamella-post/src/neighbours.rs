@@ -40,20 +40,15 @@ impl<V: Vector> Neighbours<V> {
     /// Neighbours among `positions` of each of `positions`, closer than `radius`, searched with a
     /// [`CellList`] over `domain`. Indices refer to the order of `positions`.
     pub fn among(positions: &[V], domain: Domain<V>, radius: f64) -> Result<Self, CellError> {
-        let mut cells = CellList::new(domain, radius)?;
-        cells.rebuild(positions)?;
-        let perm = cells.permutation().to_vec();
-        let sorted: Vec<V> = perm.iter().map(|&k| positions[k as usize]).collect();
-        let mut rank = vec![0usize; positions.len()];
-        for (k, &old) in perm.iter().enumerate() {
-            rank[old as usize] = k;
-        }
+        let sorted = CellSorted::new(positions, domain, radius)?;
         Ok(Self::from_visits(positions.len(), |i, push| {
-            cells.for_each_neighbour(&sorted, rank[i], |k, r, _| push(perm[k] as usize, r));
+            sorted.for_each_neighbour(i, &mut *push);
         }))
     }
 
-    /// Neighbours among `points` of each of `centres` (e.g. grid nodes), closer than `radius`.
+    /// Neighbours among `points` of each of `centres` (e.g. grid nodes or probe places),
+    /// closer than `radius`. Only the centres' lists are kept, so a few centres among many
+    /// points cost memory for the few.
     pub fn of_centres(
         centres: &[V],
         points: &[V],
@@ -62,14 +57,14 @@ impl<V: Vector> Neighbours<V> {
     ) -> Result<Self, CellError> {
         let mut all: Vec<V> = points.to_vec();
         all.extend_from_slice(centres);
-        let combined = Self::among(&all, domain, radius)?;
+        let sorted = CellSorted::new(&all, domain, radius)?;
         let n = points.len();
         Ok(Self::from_visits(centres.len(), |c, push| {
-            for (j, r) in combined.of(n + c) {
+            sorted.for_each_neighbour(n + c, |j, r| {
                 if j < n {
                     push(j, r);
                 }
-            }
+            });
         }))
     }
 
@@ -90,6 +85,45 @@ impl<V: Vector> Neighbours<V> {
             .iter()
             .copied()
             .zip(self.separation[range].iter().copied())
+    }
+}
+
+/// Positions sorted by the cells of a [`CellList`], with the way back to the caller's order.
+struct CellSorted<V: Vector> {
+    cells: CellList<V>,
+    sorted: Vec<V>,
+    /// Sorted index of each of the caller's positions.
+    rank: Vec<usize>,
+}
+
+impl<V: Vector> CellSorted<V> {
+    fn new(positions: &[V], domain: Domain<V>, radius: f64) -> Result<Self, CellError> {
+        let mut cells = CellList::new(domain, radius)?;
+        cells.rebuild(positions)?;
+        let sorted = cells
+            .permutation()
+            .iter()
+            .map(|&k| positions[k as usize])
+            .collect();
+        let mut rank = vec![0usize; positions.len()];
+        for (k, &old) in cells.permutation().iter().enumerate() {
+            rank[old as usize] = k;
+        }
+        Ok(CellSorted {
+            cells,
+            sorted,
+            rank,
+        })
+    }
+
+    /// Calls `visit(j, r_ij)` for the neighbours j of the caller's position i, in the cell
+    /// list's fixed order, with indices in the caller's order.
+    fn for_each_neighbour(&self, i: usize, mut visit: impl FnMut(usize, V)) {
+        let perm = self.cells.permutation();
+        self.cells
+            .for_each_neighbour(&self.sorted, self.rank[i], |k, r, _| {
+                visit(perm[k] as usize, r)
+            });
     }
 }
 
@@ -169,5 +203,21 @@ mod tests {
         let list: Vec<(usize, DVec2)> = n.of(0).collect();
         assert_eq!(list.len(), 1);
         assert!((list[0].1 - DVec2::new(0.1, 0.0)).length() < 1e-12);
+    }
+
+    #[test]
+    fn a_centre_on_a_periodic_seam_sees_both_sides() {
+        let points = vec![
+            DVec2::new(0.05, 0.5),
+            DVec2::new(0.95, 0.5),
+            DVec2::new(0.5, 0.5),
+        ];
+        let domain = Domain::new(DVec2::ZERO, DVec2::ONE, [true, false, false]).unwrap();
+        let n = Neighbours::of_centres(&[DVec2::new(0.0, 0.5)], &points, domain, 0.2).unwrap();
+        let mut list: Vec<(usize, DVec2)> = n.of(0).collect();
+        list.sort_by_key(|&(j, _)| j);
+        assert_eq!(list.len(), 2);
+        assert!((list[0].1 - DVec2::new(-0.05, 0.0)).length() < 1e-12);
+        assert!((list[1].1 - DVec2::new(0.05, 0.0)).length() < 1e-12);
     }
 }

@@ -37,6 +37,10 @@ pub enum OutputError {
     /// The run folder cannot be used as asked (exists and is not empty, is missing, ...).
     #[error("{0}")]
     Folder(String),
+    /// The neighbour search behind an output quantity (probes, interface statistics, shear
+    /// rate) refused the state; the solver checks the same state first, so this is a fault.
+    #[error("cannot compute the output quantities: {0}")]
+    Neighbours(#[from] lamella_cells::CellError),
 }
 
 impl OutputError {
@@ -84,7 +88,9 @@ impl From<OutputError> for Failure {
     /// write is a failed run (exit code 1).
     fn from(err: OutputError) -> Self {
         match err {
-            OutputError::Write { .. } => Failure::RunFailed(err.to_string()),
+            OutputError::Write { .. } | OutputError::Neighbours(_) => {
+                Failure::RunFailed(err.to_string())
+            }
             OutputError::Read { .. } | OutputError::Invalid { .. } | OutputError::Folder(_) => {
                 Failure::BadInput(err.to_string())
             }

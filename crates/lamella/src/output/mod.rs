@@ -2,11 +2,11 @@
 //! collection, the `series.csv` time series, probes and checkpoints.
 
 pub mod atomic;
+mod cell_order;
 pub mod checkpoint;
 pub mod collection;
 mod error;
 pub mod folder;
-mod nearby;
 pub mod probes;
 pub mod recorder;
 pub mod series;

@@ -6,7 +6,9 @@
 //! (Shepard 1968, "A two-dimensional interpolation function for irregularly-spaced data",
 //! Proc. ACM National Conference; its SPH use: Monaghan 2005, Rep. Prog. Phys. 68, §2),
 //! which reproduces constants exactly even near free surfaces and walls, where the plain sum
-//! is truncated. Wall particles are left out (their velocity is the wall's).
+//! is truncated. Wall particles are left out (their velocity is the wall's). Neighbours come
+//! from the shared neighbour search (`lamella_post::neighbours`), periodic axes included: a
+//! probe on a periodic seam sums over the particles on both sides.
 //!
 //! Columns: `time_s, step, sample, x_m, y_m[, z_m], u_x_m_per_s, u_y_m_per_s[, u_z_m_per_s],
 //! pressure_Pa, density_kg_per_m3, viscosity_Pa_s, fluid_neighbours`; a place with no fluid
@@ -16,11 +18,11 @@ use std::fs::File;
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
-use lamella_cells::Vector;
+use lamella_cells::{CellError, Domain, Vector};
+use lamella_post::neighbours::Neighbours;
 use lamella_sph::{Kernel, Kind, Particles};
 
 use super::OutputError;
-use super::nearby::Buckets;
 use super::series::{column_word, flush_and_sync, reopen_at};
 
 /// A named set of sample places (one for a point probe, evenly spaced ones for a line).
@@ -83,37 +85,77 @@ pub struct Sample<V: Vector> {
     pub neighbours: usize,
 }
 
-/// Shepard-normalised interpolation of the fluid state at `at`; `None` when no fluid particle
+/// Shepard-normalised interpolation of the fluid state at a place from its `neighbours`
+/// (particle index and separation, as listed by [`Neighbours`]); `None` when no fluid particle
 /// lies within the kernel support.
 fn interpolate<V: Vector>(
     particles: &Particles<V>,
-    buckets: &Buckets,
+    neighbours: impl Iterator<Item = (usize, V)>,
     kernel: &Kernel,
-    at: V,
 ) -> Option<Sample<V>> {
     let mut weight = 0.0;
     let mut velocity = V::ZERO;
     let (mut pressure, mut density, mut viscosity) = (0.0, 0.0, 0.0);
-    let mut neighbours = 0;
-    buckets.for_each_within(&particles.position, at, |b, r| {
+    let mut count = 0;
+    for (b, r) in neighbours {
         if particles.kind[b] != Kind::Fluid {
-            return;
+            continue;
         }
-        let w = kernel.value(r) * particles.mass[b] / particles.density[b];
+        let w = kernel.value(r.length()) * particles.mass[b] / particles.density[b];
         weight += w;
         velocity += particles.velocity[b] * w;
         pressure += particles.pressure[b] * w;
         density += particles.density[b] * w;
         viscosity += particles.viscosity[b] * w;
-        neighbours += 1;
-    });
+        count += 1;
+    }
     (weight > 0.0).then(|| Sample {
         velocity: velocity / weight,
         pressure: pressure / weight,
         density: density / weight,
         viscosity: viscosity / weight,
-        neighbours,
+        neighbours: count,
     })
+}
+
+/// Shepard-normalised samples of `particles` at each of `places`. The neighbours are searched
+/// over the solver's `domain`, so a place next to a periodic seam sees the particles on both
+/// sides; on the other axes the domain is widened by the kernel support, and a place beyond
+/// that has no particle within reach (`None`).
+fn interpolate_at<V: Vector>(
+    particles: &Particles<V>,
+    kernel: &Kernel,
+    domain: Domain<V>,
+    places: &[V],
+) -> Result<Vec<Option<Sample<V>>>, CellError> {
+    let radius = kernel.support_radius();
+    let widen = V::from_fn(|axis| {
+        if domain.is_periodic(axis) {
+            0.0
+        } else {
+            radius
+        }
+    });
+    let reach = Domain::new(domain.lower - widen, domain.upper + widen, domain.periodic)?;
+    let within = |x: V| {
+        (0..V::DIM).all(|axis| {
+            domain.is_periodic(axis)
+                || (reach.lower.get(axis)..=reach.upper.get(axis)).contains(&x.get(axis))
+        })
+    };
+    let centres: Vec<V> = places.iter().copied().filter(|&x| within(x)).collect();
+    let lists = Neighbours::of_centres(&centres, &particles.position, reach, radius)?;
+    let mut listed = 0..lists.len();
+    Ok(places
+        .iter()
+        .map(|&x| {
+            if !within(x) {
+                return None;
+            }
+            let c = listed.next()?;
+            interpolate(particles, lists.of(c), kernel)
+        })
+        .collect())
 }
 
 /// The probes of a run with their open CSV files.
@@ -164,18 +206,25 @@ impl<V: Vector> ProbeFiles<V> {
         Ok(ProbeFiles { probes: files })
     }
 
-    /// Samples every probe in `particles` at `time`/`step` and appends the rows.
+    /// Samples every probe in `particles` at `time`/`step` and appends the rows; `domain` is
+    /// the solver's search domain (its periodic axes wrap).
     pub fn sample(
         &mut self,
         particles: &Particles<V>,
         kernel: &Kernel,
+        domain: Domain<V>,
         time: f64,
         step: u64,
     ) -> Result<(), OutputError> {
         if self.probes.is_empty() {
             return Ok(());
         }
-        let buckets = Buckets::new(&particles.position, kernel.support_radius());
+        let places: Vec<V> = self
+            .probes
+            .iter()
+            .flat_map(|(probe, _, _)| probe.places.iter().copied())
+            .collect();
+        let mut samples = interpolate_at(particles, kernel, domain, &places)?.into_iter();
         for (probe, path, writer) in &mut self.probes {
             let mut rows = String::new();
             for (k, &at) in probe.places.iter().enumerate() {
@@ -183,7 +232,7 @@ impl<V: Vector> ProbeFiles<V> {
                 for axis in 0..V::DIM {
                     rows.push_str(&format!(",{:e}", at.get(axis)));
                 }
-                match interpolate(particles, &buckets, kernel, at) {
+                match samples.next().flatten() {
                     Some(s) => {
                         for axis in 0..V::DIM {
                             rows.push_str(&format!(",{:e}", s.velocity.get(axis)));
@@ -257,15 +306,33 @@ mod tests {
         p
     }
 
+    /// The Shepard sample at one place.
+    fn at(
+        p: &Particles<DVec2>,
+        kernel: &Kernel,
+        domain: Domain<DVec2>,
+        x: DVec2,
+    ) -> Option<Sample<DVec2>> {
+        interpolate_at(p, kernel, domain, &[x])
+            .unwrap()
+            .pop()
+            .unwrap()
+    }
+
+    /// The box of [`lattice`] (spacing 0.01), periodic along x when asked.
+    fn lattice_box(periodic_x: bool) -> Domain<DVec2> {
+        Domain::new(DVec2::ZERO, DVec2::splat(0.2), [periodic_x, false, false]).unwrap()
+    }
+
     #[test]
     fn shepard_interpolation_reproduces_constants_and_linear_fields_inside() {
         let dx = 0.01;
         let particles = lattice(dx);
         let kernel = Kernel::new(KernelKind::WendlandC2, 1.3 * dx, 2);
-        let buckets = Buckets::new(&particles.position, kernel.support_radius());
+        let domain = lattice_box(false);
         // On an interior node the neighbourhood is symmetric: a linear field comes out exact.
         let node = particles.position[9 * 20 + 10];
-        let s = interpolate(&particles, &buckets, &kernel, node).unwrap();
+        let s = at(&particles, &kernel, domain, node).unwrap();
         assert!((s.pressure - 3.0).abs() < 1e-12);
         assert!((s.density - 1000.0).abs() < 1e-9);
         assert!(
@@ -275,7 +342,7 @@ mod tests {
         );
         // Between nodes Shepard's sum is a weighted mean: within one support of the exact value.
         let between = DVec2::new(0.0937, 0.1013);
-        let s = interpolate(&particles, &buckets, &kernel, between).unwrap();
+        let s = at(&particles, &kernel, domain, between).unwrap();
         let reach = 2.0 * kernel.support_radius();
         assert!(
             (s.velocity.x - (0.5 + 2.0 * between.y)).abs() < reach,
@@ -283,9 +350,64 @@ mod tests {
             s.velocity
         );
         // At the corner the support is truncated; constants stay exact thanks to Shepard.
-        let corner = interpolate(&particles, &buckets, &kernel, DVec2::ZERO).unwrap();
+        let corner = at(&particles, &kernel, domain, DVec2::ZERO).unwrap();
         assert!((corner.pressure - 3.0).abs() < 1e-12);
-        assert!(interpolate(&particles, &buckets, &kernel, DVec2::new(5.0, 5.0)).is_none());
+        // Far outside the box: nothing within reach, and no error.
+        assert!(at(&particles, &kernel, domain, DVec2::new(5.0, 5.0)).is_none());
+    }
+
+    #[test]
+    fn a_probe_on_a_periodic_seam_sums_over_both_sides() {
+        // Particles at x = (i + ½) dx on [0, L), x periodic, u = (0.5 + 0.2 sin kx, 0.3) with
+        // k = 2π/L, pressure 3. The seam x = 0 lies midway between the columns x = L − dx/2 and
+        // x = dx/2, as x = L/2 lies midway between two inner columns.
+        let (dx, length) = (0.01, 0.2);
+        let k = std::f64::consts::TAU / length;
+        let field = |x: f64| 0.5 + 0.2 * (k * x).sin();
+        let mut particles = lattice(dx);
+        for (x, v) in particles.position.iter_mut().zip(&mut particles.velocity) {
+            *x += DVec2::splat(0.5 * dx);
+            *v = DVec2::new(field(x.x), 0.3);
+        }
+        let kernel = Kernel::new(KernelKind::WendlandC2, 1.3 * dx, 2);
+        let domain = lattice_box(true);
+        let y = 0.1;
+        let seam = at(&particles, &kernel, domain, DVec2::new(0.0, y)).unwrap();
+        let middle = at(&particles, &kernel, domain, DVec2::new(0.5 * length, y)).unwrap();
+        // As many fluid neighbours as inside: the columns beyond the seam take part.
+        assert_eq!(seam.neighbours, middle.neighbours);
+        // A uniform field comes out exact.
+        assert!((seam.pressure - 3.0).abs() < 1e-12);
+        assert!((seam.velocity.y - 0.3).abs() < 1e-12);
+        // The sine is odd about the seam and the neighbourhood symmetric: exactly 0.5 there
+        // (a one-sided sum would give more than 0.5).
+        assert!((seam.velocity.x - 0.5).abs() < 1e-12, "{:?}", seam.velocity);
+        // x = L is the seam too.
+        let end = at(&particles, &kernel, domain, DVec2::new(length, y)).unwrap();
+        assert!((end.velocity - seam.velocity).length() < 1e-12);
+        // Just past the seam the sample mirrors the one just past L/2 (the field is odd about
+        // both points) and is close to the field itself.
+        let offset = 0.3 * dx;
+        let near = at(&particles, &kernel, domain, DVec2::new(offset, y)).unwrap();
+        let mirror = at(
+            &particles,
+            &kernel,
+            domain,
+            DVec2::new(0.5 * length + offset, y),
+        )
+        .unwrap();
+        assert!(
+            ((near.velocity.x - 0.5) + (mirror.velocity.x - 0.5)).abs() < 1e-12,
+            "{:?} {:?}",
+            near.velocity,
+            mirror.velocity
+        );
+        assert!(
+            (near.velocity.x - field(offset)).abs() < 0.1 * 0.2,
+            "{:?}",
+            near.velocity
+        );
+        assert!(near.velocity.x > 0.5);
     }
 
     #[test]
@@ -299,9 +421,13 @@ mod tests {
             Probe::line("across y", DVec2::new(0.1, 0.0), DVec2::new(0.1, 0.3), 4),
         ];
         let mut files = ProbeFiles::create(dir.path(), probes.clone()).unwrap();
-        files.sample(&particles, &kernel, 0.5, 10).unwrap();
+        files
+            .sample(&particles, &kernel, lattice_box(false), 0.5, 10)
+            .unwrap();
         let lengths = files.flush().unwrap();
-        files.sample(&particles, &kernel, 0.6, 11).unwrap();
+        files
+            .sample(&particles, &kernel, lattice_box(false), 0.6, 11)
+            .unwrap();
         files.flush().unwrap();
         drop(files);
         let mut again = ProbeFiles::reopen(dir.path(), probes, &lengths).unwrap();

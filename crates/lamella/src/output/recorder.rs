@@ -237,8 +237,9 @@ impl<V: Vector> Recorder<V> {
         let statistics = FlowStatistics::of(
             sim.particles(),
             &config.reference_density,
+            config.search_domain,
             config.kernel.support_radius(),
-        );
+        )?;
         debug_assert_eq!(statistics.kinetic_energy.len(), self.phase_names.len());
         self.series.append(&SeriesRow {
             time: sim.time(),
@@ -250,6 +251,7 @@ impl<V: Vector> Recorder<V> {
         self.probes.sample(
             sim.particles(),
             &config.kernel,
+            config.search_domain,
             sim.time(),
             sim.step_count(),
         )

@@ -4,19 +4,21 @@
 //! phase (`kinetic_energy_<phase>_J`, per metre of depth in 2D: `_J_per_m`),
 //! `max_speed_m_per_s`, `max_density_deviation` (largest |ρ − ρ0|/ρ0 of a fluid particle),
 //! `interface_particles` (fluid particles with a fluid neighbour of another phase within the
-//! kernel support) and `interface_rms_displacement_m` (root mean square of those particles'
-//! displacement from their initial position across the layers, along y).
+//! kernel support, across periodic seams too) and `interface_rms_displacement_m` (root mean
+//! square of those particles' displacement from their initial position across the layers,
+//! along y, minimum image on a periodic y).
 //! Numbers are written in the shortest form that reads back to the same bits.
 
 use std::fs::{File, OpenOptions};
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
-use lamella_cells::Vector;
+use lamella_cells::{CellError, Domain, Vector};
 use lamella_sph::{Kind, Particles};
+use rayon::prelude::*;
 
 use super::OutputError;
-use super::nearby::Buckets;
+use super::cell_order::CellOrdered;
 
 /// The axis across the layers: y, as in every layered case (the channel walls are y planes).
 pub const LAYER_NORMAL_AXIS: usize = 1;
@@ -37,11 +39,17 @@ pub struct FlowStatistics {
 }
 
 impl FlowStatistics {
-    /// The statistics of `particles` with `reference_density[phase]` (kg/m³) and the
+    /// The statistics of `particles` with `reference_density[phase]` (kg/m³), the solver's
+    /// search `domain` (its periodic axes wrap, so the interface is found across a seam) and the
     /// interface neighbourhood `radius` (m, the kernel support).
     ///
     /// Sums run serially in particle order, so the result is the same for any thread count.
-    pub fn of<V: Vector>(particles: &Particles<V>, reference_density: &[f64], radius: f64) -> Self {
+    pub fn of<V: Vector>(
+        particles: &Particles<V>,
+        reference_density: &[f64],
+        domain: Domain<V>,
+        radius: f64,
+    ) -> Result<Self, CellError> {
         let mut kinetic_energy = vec![0.0; reference_density.len()];
         let mut max_speed: f64 = 0.0;
         let mut max_density_deviation: f64 = 0.0;
@@ -58,34 +66,54 @@ impl FlowStatistics {
                     max_density_deviation.max((particles.density[i] / rho0 - 1.0).abs());
             }
         }
-        let buckets = Buckets::new(&particles.position, radius);
+        let on_interface = interface_flags(particles, domain, radius)?;
         let mut interface_particles = 0u64;
         let mut displacement_squared = 0.0;
         let axis = LAYER_NORMAL_AXIS.min(V::DIM - 1);
-        for i in (0..particles.len()).filter(|&i| fluid(i)) {
-            let mut other_phase = false;
-            buckets.for_each_within(&particles.position, particles.position[i], |j, _| {
-                other_phase |= fluid(j) && particles.phase[j] != particles.phase[i];
-            });
-            if other_phase {
-                interface_particles += 1;
-                let d = particles.position[i].get(axis) - particles.initial_position[i].get(axis);
-                displacement_squared += d * d;
-            }
+        for i in (0..particles.len()).filter(|&i| on_interface[i]) {
+            interface_particles += 1;
+            let moved = particles.position[i] - particles.initial_position[i];
+            let d = domain.minimum_image(moved).get(axis);
+            displacement_squared += d * d;
         }
         let interface_rms_displacement = if interface_particles > 0 {
             (displacement_squared / interface_particles as f64).sqrt()
         } else {
             0.0
         };
-        FlowStatistics {
+        Ok(FlowStatistics {
             kinetic_energy,
             max_speed,
             max_density_deviation,
             interface_particles,
             interface_rms_displacement,
-        }
+        })
     }
+}
+
+/// For each particle: is it a fluid particle with a fluid neighbour of another phase closer
+/// than `radius`? (In the order of `particles`.)
+fn interface_flags<V: Vector>(
+    particles: &Particles<V>,
+    domain: Domain<V>,
+    radius: f64,
+) -> Result<Vec<bool>, CellError> {
+    let ordered = CellOrdered::new(particles, domain, radius)?;
+    let p = &ordered.particles;
+    let fluid = |k: usize| p.kind[k] == Kind::Fluid;
+    let flags: Vec<bool> = (0..p.len())
+        .into_par_iter()
+        .map(|k| {
+            let mut other_phase = false;
+            if fluid(k) {
+                ordered.cells.for_each_neighbour(&p.position, k, |j, _, _| {
+                    other_phase |= fluid(j) && p.phase[j] != p.phase[k];
+                });
+            }
+            other_phase
+        })
+        .collect();
+    Ok(ordered.to_given_order(&flags))
 }
 
 /// One row of `series.csv`.
@@ -277,9 +305,15 @@ mod tests {
         p
     }
 
+    /// A box holding [`two_phases`], periodic on the axes asked for.
+    fn domain(periodic: [bool; 3]) -> Domain<DVec2> {
+        Domain::new(DVec2::new(-0.5, -1.0), DVec2::new(3.5, 1.0), periodic).unwrap()
+    }
+
     #[test]
     fn statistics_count_fluid_only_and_find_the_interface_pair() {
-        let s = FlowStatistics::of(&two_phases(), &[1000.0, 1000.0], 1.1);
+        let s =
+            FlowStatistics::of(&two_phases(), &[1000.0, 1000.0], domain([false; 3]), 1.1).unwrap();
         // ½·2·(1² + 2²) and ½·2·(3² + 4²); the wall particle's 100 m/s is ignored.
         assert_eq!(s.kinetic_energy, vec![5.0, 25.0]);
         assert_eq!(s.max_speed, 4.0);
@@ -288,6 +322,35 @@ mod tests {
         assert_eq!(s.interface_particles, 2);
         // Displacements along y: −0.5 and 0.
         assert!((s.interface_rms_displacement - (0.125f64).sqrt()).abs() < 1e-15);
+    }
+
+    #[test]
+    fn the_interface_is_found_across_a_periodic_seam() {
+        // x periodic with period 4: x = 3 (phase 1) and x = 0 (phase 0) are 1 apart across the
+        // seam, so every fluid particle now touches the other phase.
+        let mut p = two_phases();
+        let s =
+            FlowStatistics::of(&p, &[1000.0, 1000.0], domain([true, false, false]), 1.1).unwrap();
+        assert_eq!(s.interface_particles, 4);
+        // y periodic on [−0.05, 2.95): a particle that left through the top (2.9 → 0) has
+        // moved 0.1, not −2.9. Displacements along y: 0.1, −0.5, 0, 0.
+        p.initial_position[0].y = 2.9;
+        let both = Domain::new(DVec2::new(-0.5, -0.05), DVec2::new(3.5, 2.95), [true; 3]).unwrap();
+        let s = FlowStatistics::of(&p, &[1000.0, 1000.0], both, 1.1).unwrap();
+        assert_eq!(s.interface_particles, 4);
+        let expected = ((0.01 + 0.25) / 4.0f64).sqrt();
+        assert!(
+            (s.interface_rms_displacement - expected).abs() < 1e-12,
+            "{}",
+            s.interface_rms_displacement
+        );
+    }
+
+    #[test]
+    fn a_particle_outside_the_domain_is_an_error_not_a_panic() {
+        let mut p = two_phases();
+        p.position[2].y = 5.0;
+        assert!(FlowStatistics::of(&p, &[1000.0, 1000.0], domain([false; 3]), 1.1).is_err());
     }
 
     #[test]
@@ -300,7 +363,13 @@ mod tests {
             step,
             dt: 1e-4,
             dt_limit: "viscous".into(),
-            statistics: FlowStatistics::of(&two_phases(), &[1000.0, 1000.0], 1.1),
+            statistics: FlowStatistics::of(
+                &two_phases(),
+                &[1000.0, 1000.0],
+                domain([false; 3]),
+                1.1,
+            )
+            .unwrap(),
         };
         let mut series = SeriesFile::create(&path, &names, 2).unwrap();
         series.append(&row(1)).unwrap();
