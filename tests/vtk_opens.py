@@ -7,7 +7,7 @@ Writes a tiny two-layer case into a temporary folder, runs `lamella run` on it, 
 `snapshots/snapshots.pvd` with VTK's XML parser and every listed `.vtp` with VTK's
 vtkXMLPolyDataReader, checking point counts, array names, types, field data and known values
 (at t = 0 every particle has its phase's density and viscosity and sits at its initial
-position). Exits non-zero with a message on the first failed check.
+position, and the fluid at rest has zero shear rate; wall particles have no shear rate, NaN). Exits non-zero with a message on the first failed check.
 """
 
 import subprocess
@@ -15,6 +15,7 @@ import sys
 import tempfile
 from pathlib import Path
 
+import numpy
 from vtkmodules.util.numpy_support import vtk_to_numpy
 from vtkmodules.vtkIOXML import vtkXMLPolyDataReader
 from vtkmodules.vtkIOXMLParser import vtkXMLDataParser
@@ -52,6 +53,7 @@ SCALARS = {  # name -> VTK type names accepted (VTK maps UInt64 to long or long 
     "phase": {"unsigned short"},
     "id": {"unsigned long", "unsigned long long"},
     "kind": {"unsigned char"},
+    "shear_rate": {"double"},
 }
 VECTORS = ["velocity", "initial_position"]
 PHASE_DENSITY = [1000.0, 1200.0]
@@ -133,18 +135,24 @@ def check_snapshot(path, time, first):
     check(sorted(arrays["id"].tolist()) == list(range(n)), f"{path}: ids are not 0..n-1")
     check(set(arrays["kind"].tolist()) == {0, 1}, f"{path}: kinds are not fluid and wall")
     check(set(arrays["phase"].tolist()) <= {0, 1}, f"{path}: unknown phase index")
+    fluid = arrays["kind"] == 0
+    shear = arrays["shear_rate"]
+    check(numpy.isnan(shear[~fluid]).all(), f"{path}: a wall particle has a shear rate")
+    check((numpy.isfinite(shear[fluid]) & (shear[fluid] >= 0.0)).all(), f"{path}: shear rate")
     if first:
         check(time == 0.0 and fd.GetArray("step").GetValue(0) == 0, f"{path}: not at t = 0")
         check((arrays["initial_position"] == points).all(), f"{path}: moved at t = 0")
-        fluid = arrays["kind"] == 0
         for phase in (0, 1):
             mine = fluid & (arrays["phase"] == phase)
             check(mine.any(), f"{path}: phase {phase} has no fluid particle")
             check((arrays["density"][mine] == PHASE_DENSITY[phase]).all(), f"{path}: density")
             check((arrays["viscosity"][mine] == PHASE_VISCOSITY[phase]).all(), f"{path}: viscosity")
+        check((shear[fluid] == 0.0).all(), f"{path}: shear rate of the fluid at rest")
         # The lower layer is the first phase (known from the case).
         low = fluid & (points[:, 1] < 1.5e-4)
         check((arrays["phase"][low] == 0).all(), f"{path}: lower layer is not phase 0")
+    else:
+        check(shear[fluid].max() > 0.0, f"{path}: the driven fluid has no shear rate")
     return n
 
 

@@ -12,7 +12,7 @@ use lamella_sph::{Kind, Limit, Simulation};
 
 use crate::cli::Globals;
 use crate::commands::check::load_case;
-use crate::output::snapshot::{SnapshotMeta, write_snapshot};
+use crate::output::snapshot::{SnapshotMeta, shear_rate_field, write_snapshot};
 use crate::{Failure, memory, setup};
 
 /// Options of `lamella estimate`.
@@ -243,7 +243,9 @@ fn time_one_snapshot<V: Vector>(sim: &Simulation<V>) -> Result<(f64, u64), Failu
         case_name: "calibration".into(),
     };
     let started = Instant::now();
-    write_snapshot(&path, sim.particles(), None, &meta)
+    let config = sim.config();
+    shear_rate_field(sim.particles(), config.search_domain, &config.kernel)
+        .and_then(|shear_rate| write_snapshot(&path, sim.particles(), &shear_rate, &meta))
         .map_err(|err| Failure::RunFailed(format!("cannot write a trial snapshot: {err}")))?;
     let seconds = started.elapsed().as_secs_f64();
     let size = std::fs::metadata(&path).map_or(0, |m| m.len());

@@ -14,6 +14,7 @@ use super::collection::Collection;
 use super::folder::{RunFolder, RunLog};
 use super::probes::{Probe, ProbeFiles};
 use super::series::{FlowStatistics, SeriesFile, SeriesRow};
+use super::snapshot::shear_rate_field;
 use super::{OutputError, SnapshotMeta, write_snapshot};
 use crate::Failure;
 use crate::runner::RunObserver;
@@ -213,10 +214,12 @@ impl<V: Vector> Recorder<V> {
             step: sim.step_count(),
             case_name: self.case_name.clone(),
         };
+        let config = sim.config();
+        let shear_rate = shear_rate_field(sim.particles(), config.search_domain, &config.kernel)?;
         write_snapshot(
             &self.folder.snapshots().join(&name),
             sim.particles(),
-            None,
+            &shear_rate,
             &meta,
         )?;
         self.collection.push(sim.time(), name.clone())?;

@@ -2,8 +2,9 @@
 //! vtkio, and read back for analyses.
 //!
 //! Every particle is a point (and a vertex cell, so viewers draw it). Point arrays: `velocity`,
-//! `density`, `pressure`, `mass`, `viscosity`, `phase`, `id`, `kind`, `initial_position` and,
-//! once computed, `shear_rate`. Field data: `time`, `step`, `dimension`, `case_name`.
+//! `density`, `pressure`, `mass`, `viscosity`, `phase`, `id`, `kind`, `initial_position` and
+//! `shear_rate` (see [`shear_rate_field`]). Field data: `time`, `step`, `dimension`,
+//! `case_name`.
 //! In 2D, points and vectors get a zero z component (viewers expect three).
 //!
 //! vtkio's XML model has no `FieldData` element, so the writer inserts a small ASCII
@@ -12,8 +13,8 @@
 use std::io::Write;
 use std::path::Path;
 
-use lamella_cells::Vector;
-use lamella_sph::{Kind, Particles};
+use lamella_cells::{Domain, Vector};
+use lamella_sph::{Kernel, Kind, Particles, shear_rates};
 use vtkio::model::{
     Attribute, Attributes, ByteOrder, DataArray, DataSet, ElementType, IOBuffer, Piece,
     PolyDataPiece, Version, VertexNumbers, Vtk,
@@ -22,6 +23,7 @@ use vtkio::xml::Compressor;
 
 use super::OutputError;
 use super::atomic::write_atomically;
+use super::cell_order::CellOrdered;
 
 /// zlib level for snapshots: fast, still a good ratio on particle data (common practice).
 const COMPRESSION_LEVEL: u32 = 5;
@@ -65,8 +67,8 @@ pub struct Snapshot {
     pub id: Vec<u64>,
     /// Position at time zero (m).
     pub initial_position: Vec<[f64; 3]>,
-    /// Shear rate (1/s), when the run computed it.
-    pub shear_rate: Option<Vec<f64>>,
+    /// Shear rate (1/s); NaN for wall particles.
+    pub shear_rate: Vec<f64>,
 }
 
 impl Snapshot {
@@ -105,12 +107,40 @@ impl Snapshot {
     }
 }
 
-/// Writes `particles` (and `shear_rate`, when given) to `path` as compressed binary `.vtp`,
+/// The `shear_rate` array of a snapshot: γ̇ = √(2 D:D) (1/s) of every fluid particle from the
+/// corrected SPH velocity gradient ([`lamella_sph::shear_rate`]), NaN for wall particles, in
+/// the order of `particles`. Neighbours are searched over the solver's `domain` with the
+/// `kernel` support, across periodic seams.
+pub fn shear_rate_field<V: Vector>(
+    particles: &Particles<V>,
+    domain: Domain<V>,
+    kernel: &Kernel,
+) -> Result<Vec<f64>, OutputError> {
+    let ordered = CellOrdered::new(particles, domain, kernel.support_radius())?;
+    let p = &ordered.particles;
+    let volume: Vec<f64> = p
+        .mass
+        .iter()
+        .zip(&p.density)
+        .map(|(m, rho)| m / rho)
+        .collect();
+    let rates = shear_rates(
+        &ordered.cells,
+        &p.position,
+        &p.velocity,
+        &volume,
+        &p.kind,
+        kernel,
+    );
+    Ok(ordered.to_given_order(&rates))
+}
+
+/// Writes `particles` and their `shear_rate` to `path` as compressed binary `.vtp`,
 /// atomically (a crash leaves the old file or none, never half of one).
 pub fn write_snapshot<V: Vector>(
     path: &Path,
     particles: &Particles<V>,
-    shear_rate: Option<&[f64]>,
+    shear_rate: &[f64],
     meta: &SnapshotMeta,
 ) -> Result<(), OutputError> {
     let document = snapshot_document(particles, shear_rate, meta)
@@ -121,7 +151,7 @@ pub fn write_snapshot<V: Vector>(
 /// The complete XML text of a snapshot.
 fn snapshot_document<V: Vector>(
     particles: &Particles<V>,
-    shear_rate: Option<&[f64]>,
+    shear_rate: &[f64],
     meta: &SnapshotMeta,
 ) -> Result<String, String> {
     // Destructured without `..`: a new state field fails to compile here until it is written.
@@ -138,13 +168,13 @@ fn snapshot_document<V: Vector>(
         initial_position,
     } = particles;
     let n = position.len();
-    if let Some(rates) = shear_rate.filter(|r| r.len() != n) {
+    if shear_rate.len() != n {
         return Err(format!(
             "shear_rate has {} values for {n} particles",
-            rates.len()
+            shear_rate.len()
         ));
     }
-    let mut point = vec![
+    let point = vec![
         vector_array("velocity", velocity),
         scalar_array("density", IOBuffer::F64(density.clone())),
         scalar_array("pressure", IOBuffer::F64(pressure.clone())),
@@ -157,10 +187,8 @@ fn snapshot_document<V: Vector>(
             IOBuffer::U8(kind.iter().map(|&k| k as u8).collect()),
         ),
         vector_array("initial_position", initial_position),
+        scalar_array("shear_rate", IOBuffer::F64(shear_rate.to_vec())),
     ];
-    if let Some(rates) = shear_rate {
-        point.push(scalar_array("shear_rate", IOBuffer::F64(rates.to_vec())));
-    }
     let piece = PolyDataPiece {
         points: IOBuffer::F64(padded_xyz(position)),
         verts: Some(VertexNumbers::XML {
@@ -292,10 +320,7 @@ fn snapshot_from_piece(
             .into_vec::<u64>()
             .ok_or("id is not UInt64")?,
         initial_position: xyz(arrays.take("initial_position")?, "initial_position")?,
-        shear_rate: match arrays.take("shear_rate") {
-            Ok(buffer) => Some(f64s(buffer, "shear_rate")?),
-            Err(_) => None,
-        },
+        shear_rate: f64s(arrays.take("shear_rate")?, "shear_rate")?,
         position,
     };
     let lengths = [
@@ -308,7 +333,7 @@ fn snapshot_from_piece(
         snapshot.kind.len(),
         snapshot.id.len(),
         snapshot.initial_position.len(),
-        snapshot.shear_rate.as_ref().map_or(n, Vec::len),
+        snapshot.shear_rate.len(),
     ];
     if lengths.iter().any(|&len| len != n) {
         return Err(format!(
