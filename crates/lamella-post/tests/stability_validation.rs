@@ -126,48 +126,56 @@ fn long_wave_growth_sign_follows_yih_1967_and_scales_with_alpha_re() {
 
 #[test]
 fn leading_eigenvalue_is_converged_at_the_default_resolution() {
-    // Raising the points per layer by half from the default moves the leading eigenvalue by
-    // less than 1e-6 (measured: at most 1.6e-7); doubling moves it by less than 1e-5
-    // (measured: at most 3.5e-6), because round-off of the fourth-derivative collocation
-    // grows with the resolution: the 1e-8 goal for doubling is not met for two layers.
-    // Spurious eigenvalues: the condition rows that make B singular are eliminated before
-    // the solve; `solve` then drops every non-finite c and every |c| > SPURIOUS_SPEED
-    // (checked below), and the comparison across resolutions is the second filter.
+    // Doubling the points per layer from the default moves the leading eigenvalue by less
+    // than 1e-8 (measured: at most about 3e-12 for one layer, 2e-12 for two).
+    // Spurious eigenvalues are filtered in three steps:
+    // 1. the wall and interface condition rows, which have no c and make B singular, are
+    //    eliminated with the cubics' coefficients before the solve, so B's infinite
+    //    eigenvalues never appear;
+    // 2. `solve` drops every non-finite c and every |c| > SPURIOUS_SPEED (checked below);
+    // 3. an eigenvalue that is not a mode of the differential problem depends on the
+    //    resolution: every weakly damped eigenvalue (c_i > −0.05) at the default resolution
+    //    must be found again at double resolution within 1e-7 (checked below), and the
+    //    leading one within 1e-8. (Damped wall modes of a less viscous layer at a high
+    //    effective Reynolds number, e.g. m = 20, n = 0.2 at Re = 1000, are not resolved
+    //    that well at the default: they move by up to 5e-3 on doubling, measured, while the
+    //    leading interface mode there still moves by under 1e-11.)
+    let mut tense = two_layer(3.0, 2.0, 50.0, 0.5);
+    tense.tension = 0.1;
     for problem in [
         one_layer(1.0e4, 1.0),
         two_layer(1.0, 1.0 / 0.6, 1.0e4, 1.0),
         two_layer(2.0, 2.0, 1000.0, 1.0),
         two_layer(0.2, 1.0 / 1.5, 5000.0, 0.5),
         two_layer(3.0, 2.0, 50.0, 0.5),
+        two_layer(20.0, 0.2, 200.0, 2.0),
+        tense,
     ] {
+        assert_eq!(problem.points_per_layer, DEFAULT_POINTS_PER_LAYER);
         let base = problem.solve().unwrap();
         let fine = problem
             .with_points(2 * DEFAULT_POINTS_PER_LAYER)
             .solve()
             .unwrap();
         let change = (base.leading().unwrap() - fine.leading().unwrap()).norm();
-        assert!(change < 1e-5, "{problem:?}: change {change}");
+        assert!(change < 1e-8, "{problem:?}: change {change}");
         assert!(
             base.speeds()
                 .iter()
-                .all(|c| c.norm() <= SPURIOUS_SPEED && c.im.is_finite())
+                .all(|c| c.norm() <= SPURIOUS_SPEED && c.re.is_finite() && c.im.is_finite())
         );
+        for &c in base.speeds().iter().filter(|c| c.im > -0.05) {
+            let nearest = fine
+                .speeds()
+                .iter()
+                .map(|f| (f - c).norm())
+                .fold(f64::MAX, f64::min);
+            assert!(nearest < 1e-7, "{problem:?}: {c} moved by {nearest}");
+        }
         let checked = leading_checked(&problem).unwrap();
-        assert!(checked.resolution_change < 1e-6, "{problem:?}: {checked:?}");
+        assert!(checked.resolution_change < 1e-8, "{problem:?}: {checked:?}");
     }
-    // One layer is limited by the discretisation only: doubling changes c by under 1e-8.
-    let single = one_layer(1.0e4, 1.0);
-    let change = (single.solve().unwrap().leading().unwrap()
-        - single
-            .with_points(2 * DEFAULT_POINTS_PER_LAYER)
-            .solve()
-            .unwrap()
-            .leading()
-            .unwrap())
-    .norm();
-    assert!(change < 1e-8, "one layer: change {change}");
 }
-
 #[test]
 fn interfacial_tension_damps_short_interface_waves() {
     // Tension only restores (Yih 1967 §2; Hooper & Boyd 1983): the interface mode grows
