@@ -9,7 +9,7 @@ use std::sync::atomic::AtomicBool;
 use std::time::{Duration, Instant};
 
 use glam::DVec2;
-use lamella::output::Recorder;
+use lamella::output::{CheckpointStore, Recorder, RunFolder};
 use lamella::runner::{ProgressMode, run_to_end};
 
 /// A small two-layer channel (10 × 10 fluid particles, 60 wall particles) with a probe line;
@@ -181,7 +181,10 @@ fn run_to_t_then_resume_to_2t_equals_a_straight_run_byte_for_byte() {
 #[test]
 fn sigint_checkpoints_exits_130_and_the_resume_matches() {
     let dir = tempfile::tempdir().unwrap();
-    let text = case_text(0.05, 15.0);
+    // 100 snapshot intervals, about 400 steps: over a second of wall-clock time, so the signal
+    // sent just after the second snapshot lands long before the end.
+    let end = 100.0 * SNAPSHOT_INTERVAL;
+    let text = case_text(end, 15.0);
     let case_path = write_case(dir.path(), &text);
     let straight = dir.path().join("straight");
     assert_success(&run(&case_path, &straight), "the straight run");
@@ -195,14 +198,16 @@ fn sigint_checkpoints_exits_130_and_the_resume_matches() {
         .stderr(Stdio::piped())
         .spawn()
         .unwrap();
-    // Wait for the run to be under way (a few rows in the series), then interrupt it.
+    // The second snapshot (t = one snapshot interval) is on disk: the interrupt handler is
+    // installed (before the first snapshot) and the run is stepping.
+    let second = stopped.join("snapshots").join(RunFolder::snapshot_name(1));
     let started = Instant::now();
-    while fs::read_to_string(stopped.join("series.csv")).map_or(true, |s| s.lines().count() < 2) {
+    while !second.exists() {
         assert!(
             started.elapsed() < Duration::from_secs(60),
             "the run did not start"
         );
-        std::thread::sleep(Duration::from_millis(5));
+        std::thread::sleep(Duration::from_millis(1));
     }
     let sent = Command::new("kill")
         .arg("-INT")
@@ -212,14 +217,28 @@ fn sigint_checkpoints_exits_130_and_the_resume_matches() {
     assert!(sent.success());
     let output = child.wait_with_output().unwrap();
     let stderr = String::from_utf8_lossy(&output.stderr);
-    if output.status.code() == Some(0) {
-        // The run finished before the signal arrived; nothing to resume, but it must match.
-        assert_same_results(&straight, &stopped);
-        return;
-    }
     assert_eq!(output.status.code(), Some(130), "{stderr}");
     assert!(stderr.contains("lamella resume"), "{stderr}");
+
+    // Stopped mid-run: one checkpoint (the interrupt's) strictly between the start and the
+    // end, fewer snapshots than the straight run, and no "finished" in the log.
     assert_eq!(checkpoints(&stopped).len(), 1);
+    let saved = CheckpointStore::new(stopped.join("checkpoints"))
+        .newest_valid::<DVec2>()
+        .unwrap()
+        .checkpoint;
+    assert!(
+        saved.time >= SNAPSHOT_INTERVAL && saved.time < end,
+        "interrupted at t = {}",
+        saved.time
+    );
+    let snapshots = |out: &Path| fs::read_dir(out.join("snapshots")).unwrap().count();
+    assert!(snapshots(&stopped) < snapshots(&straight));
+    let log = fs::read_to_string(stopped.join("run.log")).unwrap();
+    assert!(
+        log.contains("interrupted") && !log.contains("finished"),
+        "{log}"
+    );
 
     assert_success(&resume(&stopped), "the resume");
     assert_same_results(&straight, &stopped);
