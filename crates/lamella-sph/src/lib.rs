@@ -18,7 +18,7 @@ pub use eos::{EquationOfState, StateLaw};
 pub use fault::{Fault, FaultCause};
 pub use forces::PairViscosity;
 pub use kernel::{Kernel, KernelKind};
-pub use particles::{Kind, Particles};
+pub use particles::{Kind, Particles, ReorderScratch};
 pub use shifting::Regularisation;
 pub use simulation::{SetupError, Simulation, SolverConfig, StepReport};
 pub use time_step::{Limit, TimeStepFactors, stable_time_step};
