@@ -16,7 +16,7 @@ use lamella::benchmark::standard_case;
 use lamella_cells::CellList;
 use lamella_sph::forces::{RateParameters, Rates, particle_rates};
 use lamella_sph::walls::{InteractionState, interaction_states};
-use lamella_sph::{Particles, Simulation};
+use lamella_sph::{ReorderScratch, Simulation};
 
 fn step_and_parts(c: &mut Criterion) {
     let all_cores = rayon::current_num_threads();
@@ -31,6 +31,8 @@ fn step_and_parts(c: &mut Criterion) {
             sim.step(f64::INFINITY).expect("warm-up step");
         }
         let config = sim.config().clone();
+        let inverse_reference_density: Vec<f64> =
+            config.reference_density.iter().map(|r| 1.0 / r).collect();
         let particles = sim.particles().clone();
         let n = particles.len();
         let mut cells =
@@ -56,11 +58,11 @@ fn step_and_parts(c: &mut Criterion) {
             group.bench_function(BenchmarkId::new("rebuild_and_reorder", &label), |b| {
                 let mut cells = cells.clone();
                 let mut state = particles.clone();
-                let mut spare = Particles::default();
+                let mut scratch = ReorderScratch::default();
                 b.iter(|| {
                     pool.install(|| {
                         cells.rebuild(&state.position).expect("rebuild");
-                        state.reorder(cells.permutation(), &mut spare);
+                        state.reorder(cells.permutation(), &mut scratch);
                     })
                 })
             });
@@ -87,6 +89,7 @@ fn step_and_parts(c: &mut Criterion) {
                 density_diffusion: config.density_diffusion,
                 sound_speed: config.state_law.sound_speed,
                 reference_density: &config.reference_density,
+                inverse_reference_density: &inverse_reference_density,
                 viscous_normalisation: config.viscous_normalisation,
             };
             let mut rates = vec![Rates::default(); n];

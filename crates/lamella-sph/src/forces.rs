@@ -50,6 +50,8 @@ pub struct RateParameters<'a, V> {
     pub sound_speed: f64,
     /// Reference density ρ0 of each phase (kg/m³).
     pub reference_density: &'a [f64],
+    /// 1/ρ0 of each phase (m³/kg), so that the pair loop multiplies instead of dividing.
+    pub inverse_reference_density: &'a [f64],
     /// Factor on the viscous term, [`lattice_viscous_normalisation`] (1 leaves it unchanged).
     pub viscous_normalisation: f64,
 }
@@ -95,6 +97,7 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
     let eta2 = 0.01 * h * h;
     let diffusion = params.density_diffusion * h * params.sound_speed;
     let viscous_scale = 2.0 * params.viscous_normalisation;
+    let inverse_reference = params.inverse_reference_density;
     let positions = &particles.position;
     out.par_iter_mut().enumerate().for_each(|(a, rates)| {
         if particles.kind[a] != Kind::Fluid {
@@ -104,11 +107,12 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
         let rho_a = seen[a].density;
         let p_a = seen[a].pressure;
         let m_a = particles.mass[a];
-        let vol_a = m_a / rho_a;
+        let vol_a = seen[a].volume;
         let v_a = particles.velocity[a];
         let mu_a = particles.viscosity[a];
         let phase_a = particles.phase[a];
         let rho0_a = params.reference_density[phase_a as usize];
+        let relative_a = rho_a * inverse_reference[phase_a as usize];
         let mut force = V::ZERO; // m_a · acceleration without body force
         let mut continuity = 0.0;
         let mut diffusion_sum = 0.0;
@@ -117,29 +121,30 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
         neighbours.for_each_neighbour(positions, a, |b, r_ab, dist| {
             let f = params.kernel.gradient_factor(dist);
             let grad = r_ab * f;
-            let rho_b = seen[b].density;
-            let m_b = particles.mass[b];
-            let vol_b = m_b / rho_b;
+            let seen_b = &seen[b];
+            let (rho_b, vol_b) = (seen_b.density, seen_b.volume);
             let fluid_b = particles.kind[b] == Kind::Fluid;
             continuity += vol_b * (v_a - particles.velocity[b]).dot(grad);
             if fluid_b {
-                let rho0_b = params.reference_density[particles.phase[b] as usize];
-                diffusion_sum += 2.0 * rho0_a * (rho_a / rho0_a - rho_b / rho0_b) * f * vol_b;
-                if particles.phase[b] != phase_a {
+                let phase_b = particles.phase[b];
+                let relative_b = rho_b * inverse_reference[phase_b as usize];
+                diffusion_sum += 2.0 * rho0_a * (relative_a - relative_b) * f * vol_b;
+                if phase_b != phase_a {
                     normal += grad * vol_b;
                 }
             }
             gradient += grad * vol_b;
-            let p_ab = (rho_b * p_a + rho_a * seen[b].pressure) / (rho_a + rho_b);
+            let p_ab = (rho_b * p_a + rho_a * seen_b.pressure) / (rho_a + rho_b);
             force -= grad * ((vol_a * vol_a + vol_b * vol_b) * p_ab);
             let mu_ab = if fluid_b {
                 params.pair_viscosity.mean(mu_a, particles.viscosity[b])
             } else {
                 mu_a
             };
+            // m_a m_b / (ρ_a ρ_b) = V_a V_b.
             let r2 = dist * dist;
-            let visc = m_a * m_b * viscous_scale * mu_ab / (rho_a * rho_b) * f * r2 / (r2 + eta2);
-            force += (v_a - seen[b].viscous_velocity) * visc;
+            let visc = viscous_scale * vol_a * vol_b * mu_ab * f * r2 / (r2 + eta2);
+            force += (v_a - seen_b.viscous_velocity) * visc;
         });
         *rates = Rates {
             acceleration: force / m_a + params.body_force,
@@ -245,6 +250,7 @@ mod tests {
             density_diffusion: 0.1,
             sound_speed: 10.0,
             reference_density: &rho0,
+            inverse_reference_density: &rho0.map(|r| 1.0 / r),
             viscous_normalisation: 1.0,
         };
         let mut rates = vec![Rates::default(); p.len()];
@@ -297,6 +303,7 @@ mod tests {
             density_diffusion: 0.1,
             sound_speed: 10.0,
             reference_density: &rho0,
+            inverse_reference_density: &rho0.map(|r| 1.0 / r),
             viscous_normalisation: 1.0,
         };
         let mut rates = vec![Rates::default(); p.len()];

@@ -42,6 +42,8 @@ impl KernelKind {
 pub struct Kernel {
     kind: KernelKind,
     h: f64,
+    /// 1/h, so that q = r/h costs a multiplication in the pair loops.
+    inverse_h: f64,
     /// σ_d / h^d.
     value_scale: f64,
     /// σ_d / h^(d+2), the scale of F(r) = (1/r) dW/dr.
@@ -57,6 +59,7 @@ impl Kernel {
         Kernel {
             kind,
             h,
+            inverse_h: 1.0 / h,
             value_scale: sigma / hd,
             gradient_scale: sigma / (hd * h * h),
         }
@@ -80,13 +83,13 @@ impl Kernel {
     /// W(r) (1/m^d).
     #[inline]
     pub fn value(&self, r: f64) -> f64 {
-        self.value_scale * shape(self.kind, r / self.h)
+        self.value_scale * shape(self.kind, r * self.inverse_h)
     }
 
     /// F(r) = (1/r) ∂W/∂r (1/m^(d+2)), finite at r → 0; ∇_a W_ab = r_ab F(|r_ab|).
     #[inline]
     pub fn gradient_factor(&self, r: f64) -> f64 {
-        self.gradient_scale * shape_derivative_over_q(self.kind, r / self.h)
+        self.gradient_scale * shape_derivative_over_q(self.kind, r * self.inverse_h)
     }
 }
 

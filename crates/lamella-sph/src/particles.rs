@@ -1,6 +1,6 @@
 //! Particle state as a structure of arrays.
 
-use lamella_cells::Vector;
+use lamella_cells::{Vector, apply_permutation};
 
 /// Whether a particle is free fluid or part of a wall.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -10,6 +10,16 @@ pub enum Kind {
     Fluid = 0,
     /// A wall (dummy) particle, moved only by its prescribed wall velocity.
     Wall = 1,
+}
+
+/// Buffers [`Particles::reorder`] gathers into: one per element type.
+#[derive(Clone, Debug, Default)]
+pub struct ReorderScratch<V> {
+    vectors: Vec<V>,
+    scalars: Vec<f64>,
+    phases: Vec<u16>,
+    kinds: Vec<Kind>,
+    ids: Vec<u64>,
 }
 
 /// The state of every particle, one array per quantity (structure of arrays).
@@ -53,28 +63,23 @@ impl<V: Vector> Particles<V> {
 }
 
 impl<V: Vector> Particles<V> {
-    /// Rewrites `spare` as this state reordered so that entry k is old entry `permutation[k]`,
-    /// then swaps it in. `spare` keeps its capacity, so repeated reordering does not allocate.
-    pub fn reorder(&mut self, permutation: &[u32], spare: &mut Particles<V>) {
-        fn gather<T: Copy>(out: &mut Vec<T>, source: &[T], permutation: &[u32]) {
-            out.clear();
-            out.extend(permutation.iter().map(|&k| source[k as usize]));
-        }
-        gather(&mut spare.position, &self.position, permutation);
-        gather(&mut spare.velocity, &self.velocity, permutation);
-        gather(&mut spare.density, &self.density, permutation);
-        gather(&mut spare.pressure, &self.pressure, permutation);
-        gather(&mut spare.mass, &self.mass, permutation);
-        gather(&mut spare.viscosity, &self.viscosity, permutation);
-        gather(&mut spare.phase, &self.phase, permutation);
-        gather(&mut spare.kind, &self.kind, permutation);
-        gather(&mut spare.id, &self.id, permutation);
-        gather(
-            &mut spare.initial_position,
-            &self.initial_position,
-            permutation,
-        );
-        std::mem::swap(self, spare);
+    /// Reorders every array so that entry k becomes old entry `permutation[k]` (a parallel
+    /// gather per array). `scratch` lends one buffer per element type and keeps its
+    /// capacity, so repeated reordering does not allocate and needs far less memory than a
+    /// second copy of the state.
+    pub fn reorder(&mut self, permutation: &[u32], scratch: &mut ReorderScratch<V>) {
+        let vectors = &mut scratch.vectors;
+        apply_permutation(permutation, &mut self.position, vectors);
+        apply_permutation(permutation, &mut self.velocity, vectors);
+        apply_permutation(permutation, &mut self.initial_position, vectors);
+        let scalars = &mut scratch.scalars;
+        apply_permutation(permutation, &mut self.density, scalars);
+        apply_permutation(permutation, &mut self.pressure, scalars);
+        apply_permutation(permutation, &mut self.mass, scalars);
+        apply_permutation(permutation, &mut self.viscosity, scalars);
+        apply_permutation(permutation, &mut self.phase, &mut scratch.phases);
+        apply_permutation(permutation, &mut self.kind, &mut scratch.kinds);
+        apply_permutation(permutation, &mut self.id, &mut scratch.ids);
     }
 
     /// The first array whose length differs from `position`'s, if any (its field name).

@@ -29,7 +29,7 @@ use crate::eos::StateLaw;
 use crate::fault::{Fault, FaultCause};
 use crate::forces::{PairViscosity, RateParameters, Rates, particle_rates};
 use crate::kernel::Kernel;
-use crate::particles::{Kind, Particles};
+use crate::particles::{Kind, Particles, ReorderScratch};
 use crate::shifting::{Regularisation, shift};
 use crate::time_step::{Limit, TimeStepFactors, stable_time_step};
 use crate::walls::{InteractionState, interaction_states};
@@ -109,7 +109,9 @@ pub enum SetupError {
 /// Scratch buffers reused every step (no allocation inside a step once warmed up).
 #[derive(Clone, Debug, Default)]
 struct Scratch<V: Vector> {
-    spare: Particles<V>,
+    reorder: ReorderScratch<V>,
+    /// 1/ρ0 of each phase.
+    inverse_reference_density: Vec<f64>,
     seen: Vec<InteractionState<V>>,
     rates: Vec<Rates<V>>,
     next_position: Vec<V>,
@@ -155,13 +157,17 @@ impl<V: Vector> Simulation<V> {
             });
         }
         let cells = CellList::new(config.search_domain, config.kernel.support_radius())?;
+        let scratch = Scratch {
+            inverse_reference_density: config.reference_density.iter().map(|r| 1.0 / r).collect(),
+            ..Scratch::default()
+        };
         let mut simulation = Simulation {
             config,
             particles,
             time,
             step,
             cells,
-            scratch: Scratch::default(),
+            scratch,
         };
         simulation.refresh_derived()?;
         Ok(simulation)
@@ -203,7 +209,7 @@ impl<V: Vector> Simulation<V> {
     fn sort_by_cell(&mut self) -> Result<(), CellError> {
         self.cells.rebuild(&self.particles.position)?;
         self.particles
-            .reorder(self.cells.permutation(), &mut self.scratch.spare);
+            .reorder(self.cells.permutation(), &mut self.scratch.reorder);
         Ok(())
     }
 
@@ -247,6 +253,7 @@ impl<V: Vector> Simulation<V> {
             density_diffusion: self.config.density_diffusion,
             sound_speed: self.config.state_law.sound_speed,
             reference_density: &self.config.reference_density,
+            inverse_reference_density: &self.scratch.inverse_reference_density,
             viscous_normalisation: self.config.viscous_normalisation,
         };
         particle_rates(
@@ -257,17 +264,24 @@ impl<V: Vector> Simulation<V> {
             &mut self.scratch.rates,
         );
 
-        // Time step from sequential (fixed-order) maxima over the fluid.
+        // Time step from maxima over the fluid (a parallel maximum is exact, so the result
+        // does not depend on the thread count).
         let p = &self.particles;
-        let (mut max_speed, mut max_acceleration, mut max_nu) = (0.0f64, 0.0f64, 0.0f64);
-        for i in 0..n {
-            if p.kind[i] == Kind::Fluid {
-                max_speed = max_speed.max(p.velocity[i].length());
-                max_acceleration =
-                    max_acceleration.max(self.scratch.rates[i].acceleration.length());
-                max_nu = max_nu.max(p.viscosity[i] / p.density[i]);
-            }
-        }
+        let rates = &self.scratch.rates;
+        let (max_speed, max_acceleration, max_nu) = (0..n)
+            .into_par_iter()
+            .filter(|&i| p.kind[i] == Kind::Fluid)
+            .map(|i| {
+                (
+                    p.velocity[i].length(),
+                    rates[i].acceleration.length(),
+                    p.viscosity[i] / p.density[i],
+                )
+            })
+            .reduce(
+                || (0.0f64, 0.0f64, 0.0f64),
+                |a, b| (a.0.max(b.0), a.1.max(b.1), a.2.max(b.2)),
+            );
         let h = self.config.kernel.smoothing_length();
         let (stable_dt, limit) = stable_time_step(
             h,
@@ -321,12 +335,17 @@ impl<V: Vector> Simulation<V> {
         std::mem::swap(&mut p.position, &mut s.next_position);
         std::mem::swap(&mut p.velocity, &mut s.next_velocity);
         std::mem::swap(&mut p.density, &mut s.next_density);
-        for i in 0..n {
-            if p.kind[i] == Kind::Fluid {
-                let rho0 = self.config.reference_density[p.phase[i] as usize];
-                p.pressure[i] = self.config.state_law.pressure(p.density[i], rho0);
-            }
-        }
+        let (law, reference_density) = (&self.config.state_law, &self.config.reference_density);
+        p.pressure
+            .par_iter_mut()
+            .zip(&p.density)
+            .zip(&p.kind)
+            .zip(&p.phase)
+            .for_each(|(((pressure, &density), &kind), &phase)| {
+                if kind == Kind::Fluid {
+                    *pressure = law.pressure(density, reference_density[phase as usize]);
+                }
+            });
         self.time = if clipped { until } else { self.time + dt };
         self.step += 1;
         Ok(StepReport {
@@ -340,47 +359,56 @@ impl<V: Vector> Simulation<V> {
         })
     }
 
-    /// Checks the proposed state in the scratch buffers, in array order; returns the largest
-    /// relative density deviation, or the fault of the first bad particle.
+    /// Checks the proposed state in the scratch buffers; returns the largest relative density
+    /// deviation, or the fault of the first bad particle in array order (in parallel, with the
+    /// same answer on any number of threads).
     fn check_health(&self) -> Result<f64, Fault<V>> {
         let p = &self.particles;
         let s = &self.scratch;
-        let mut worst = 0.0f64;
-        for i in 0..p.len() {
+        let deviation = |i: usize| {
+            let rho0 = self.config.reference_density[p.phase[i] as usize];
+            (s.next_density[i] / rho0 - 1.0).abs()
+        };
+        let cause_at = |i: usize| -> Option<FaultCause> {
             if p.kind[i] != Kind::Fluid {
-                continue;
+                return None;
             }
             let (x, v, rho) = (s.next_position[i], s.next_velocity[i], s.next_density[i]);
-            let fault = |cause| Fault {
+            if !(x.is_finite_vector() && v.is_finite_vector() && rho.is_finite()) {
+                return Some(FaultCause::NonFinite);
+            }
+            let relative = deviation(i);
+            if relative > self.config.density_tolerance {
+                return Some(FaultCause::DensityDeviation {
+                    relative,
+                    tolerance: self.config.density_tolerance,
+                });
+            }
+            (0..V::DIM)
+                .filter(|&axis| !self.config.search_domain.is_periodic(axis))
+                .find(|&axis| {
+                    let c = x.get(axis);
+                    c < self.config.fluid_lower.get(axis) || c > self.config.fluid_upper.get(axis)
+                })
+                .map(|axis| FaultCause::LeftDomain { axis })
+        };
+        if let Some((i, cause)) = (0..p.len())
+            .into_par_iter()
+            .find_map_first(|i| cause_at(i).map(|cause| (i, cause)))
+        {
+            return Err(Fault {
                 id: p.id[i],
-                position: x,
+                position: s.next_position[i],
                 time: self.time,
                 step: self.step,
                 cause,
-            };
-            if !(x.is_finite_vector() && v.is_finite_vector() && rho.is_finite()) {
-                return Err(fault(FaultCause::NonFinite));
-            }
-            let rho0 = self.config.reference_density[p.phase[i] as usize];
-            let relative = (rho / rho0 - 1.0).abs();
-            if relative > self.config.density_tolerance {
-                return Err(fault(FaultCause::DensityDeviation {
-                    relative,
-                    tolerance: self.config.density_tolerance,
-                }));
-            }
-            worst = worst.max(relative);
-            for axis in 0..V::DIM {
-                if self.config.search_domain.is_periodic(axis) {
-                    continue;
-                }
-                let c = x.get(axis);
-                if c < self.config.fluid_lower.get(axis) || c > self.config.fluid_upper.get(axis) {
-                    return Err(fault(FaultCause::LeftDomain { axis }));
-                }
-            }
+            });
         }
-        Ok(worst)
+        Ok((0..p.len())
+            .into_par_iter()
+            .filter(|&i| p.kind[i] == Kind::Fluid)
+            .map(deviation)
+            .reduce(|| 0.0, f64::max))
     }
 
     fn search_fault(&self, error: CellError) -> Fault<V> {

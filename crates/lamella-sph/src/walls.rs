@@ -17,6 +17,8 @@ pub struct InteractionState<V> {
     pub pressure: f64,
     /// Density (kg/m³).
     pub density: f64,
+    /// Volume m/ρ (m³, m² in 2D) with this density.
+    pub volume: f64,
     /// Velocity entering the viscous term (m/s): own velocity for fluid, the extrapolated
     /// no-slip velocity for walls.
     pub viscous_velocity: V,
@@ -48,6 +50,7 @@ pub fn interaction_states<V: Vector, N: Neighbourhood<V>>(
             *state = InteractionState {
                 pressure: law.pressure(rho, rho0),
                 density: rho,
+                volume: particles.mass[i] / rho,
                 viscous_velocity: particles.velocity[i],
             };
             return;
@@ -71,15 +74,18 @@ pub fn interaction_states<V: Vector, N: Neighbourhood<V>>(
         let own_velocity = particles.velocity[i];
         *state = if weight > 0.0 {
             let pressure = (pressure_sum + body_force.dot(hydrostatic)) / weight;
+            let density = law.density(pressure, rho0);
             InteractionState {
                 pressure,
-                density: law.density(pressure, rho0),
+                density,
+                volume: particles.mass[i] / density,
                 viscous_velocity: own_velocity * 2.0 - velocity_sum / weight,
             }
         } else {
             InteractionState {
                 pressure: law.pressure(rho0, rho0),
                 density: rho0,
+                volume: particles.mass[i] / rho0,
                 viscous_velocity: own_velocity,
             }
         };
