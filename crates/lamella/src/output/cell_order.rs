@@ -5,7 +5,7 @@
 //! the state whatever the particle count.
 
 use lamella_cells::{CellError, CellList, Domain, Vector};
-use lamella_sph::Particles;
+use lamella_sph::{Particles, ReorderScratch};
 
 /// The particles in cell order with their cell list.
 pub(crate) struct CellOrdered<V: Vector> {
@@ -26,7 +26,7 @@ impl<V: Vector> CellOrdered<V> {
         let mut cells = CellList::new(domain, radius)?;
         cells.rebuild(&particles.position)?;
         let mut sorted = particles.clone();
-        sorted.reorder(cells.permutation(), &mut Particles::default());
+        sorted.reorder(cells.permutation(), &mut ReorderScratch::default());
         Ok(CellOrdered {
             cells,
             particles: sorted,
