@@ -10,7 +10,8 @@ use std::path::PathBuf;
 
 use glam::{DVec2, DVec3};
 use lamella_post::growth::{
-    FitWindow, GrowthFit, detect_onset, displacement_measures, dominant_wavelength, fit_growth,
+    DominantMode, FitWindow, GrowthError, GrowthFit, detect_onset, displacement_measures,
+    dominant_wavelength, fit_growth,
 };
 use lamella_post::plot::{Chart, Series, Style};
 use lamella_post::table::csv_document;
@@ -18,6 +19,9 @@ use lamella_post::table::csv_document;
 use crate::Failure;
 use crate::cli::Globals;
 use crate::commands::analysis::{Run, parse_list, write_file};
+
+/// Smallest R² of the automatic fit window (common practice).
+pub const DEFAULT_MIN_R2: f64 = 0.98;
 
 /// Options of `lamella growth`.
 #[derive(Debug, clap::Args)]
@@ -37,7 +41,7 @@ pub struct Args {
     #[arg(long, value_name = "START,END")]
     pub window: Option<String>,
     /// Smallest R² for the automatic window (common practice: 0.98).
-    #[arg(long, default_value_t = 0.98, value_name = "R2")]
+    #[arg(long, default_value_t = DEFAULT_MIN_R2, value_name = "R2")]
     pub min_r2: f64,
     /// Folder for the results [default: DIR/analysis].
     #[arg(long, value_name = "OUT")]
@@ -47,6 +51,109 @@ pub struct Args {
 /// Runs `lamella growth`.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let run = Run::open(&args.dir)?;
+    let window = fit_window(args.window.as_deref(), args.min_r2)?;
+    let measured =
+        measure(&run, args.onset, window)?.map_err(|e| Failure::BadInput(e.to_string()))?;
+    let Measurement {
+        time,
+        max,
+        rms,
+        threshold,
+        onset,
+        fit,
+        mode,
+    } = &measured;
+    let case = &run.case;
+    let period = case.extent(0);
+
+    let fitted: Vec<f64> = time
+        .iter()
+        .map(|&t| {
+            if t >= fit.start && t <= fit.end {
+                fit.amplitude(t)
+            } else {
+                f64::NAN
+            }
+        })
+        .collect();
+    let csv = csv_document(
+        &[
+            "time_s",
+            "max_displacement_m",
+            "rms_displacement_m",
+            "fit_m",
+        ],
+        &[time, max, rms, &fitted],
+    )
+    .map_err(Failure::RunFailed)?;
+    let out_dir = run.output_folder(args.out.as_deref())?;
+    write_file(&out_dir.join("growth.csv"), csv.as_bytes())?;
+    let chart = growth_chart(&case.title, time, max, rms, fit);
+    let png = chart
+        .to_png(900, 600)
+        .map_err(|e| Failure::RunFailed(e.to_string()))?;
+    write_file(&out_dir.join("growth.png"), &png)?;
+    if !globals.quiet {
+        println!(
+            "onset at t = {:.4} s (max displacement > {threshold:.3e} m); growth rate {:.4e} ± {:.2e} 1/s \
+             (95 %, {} points, t = {:.4}..{:.4} s, R² = {:.4}); dominant wavelength {:.4e} m (mode {} of {:.4e} m)",
+            time[*onset],
+            fit.rate,
+            fit.rate_ci95,
+            fit.points,
+            fit.start,
+            fit.end,
+            fit.r_squared,
+            mode.wavelength,
+            mode.mode,
+            period
+        );
+    }
+    Ok(())
+}
+
+/// The fit window from `--window START,END`, or the automatic log-linear window with the R²
+/// floor `min_r2`.
+pub fn fit_window(window: Option<&str>, min_r2: f64) -> Result<FitWindow, Failure> {
+    match window {
+        None => Ok(FitWindow::LogLinear {
+            min_r_squared: min_r2,
+        }),
+        Some(text) => match parse_list::<f64>(text, "--window").map_err(Failure::BadInput)?[..] {
+            [start, end] if end > start => Ok(FitWindow::Times { start, end }),
+            _ => Err(Failure::BadInput(
+                "--window needs START,END with END > START (s)".into(),
+            )),
+        },
+    }
+}
+
+/// The interface growth measured in a run folder.
+pub struct Measurement {
+    /// Snapshot times (s).
+    pub time: Vec<f64>,
+    /// Largest marker displacement normal to the interface at each time (m).
+    pub max: Vec<f64>,
+    /// RMS marker displacement at each time (m).
+    pub rms: Vec<f64>,
+    /// Onset threshold used (m).
+    pub threshold: f64,
+    /// Index of the onset snapshot.
+    pub onset: usize,
+    /// Exponential fit of the largest displacement.
+    pub fit: GrowthFit,
+    /// Strongest Fourier mode of the interface shape at the end of the fit window.
+    pub mode: DominantMode,
+}
+
+/// Measures the interface growth of `run` (onset threshold `onset`, default one particle
+/// spacing). The outer error is bad input (no interface, unreadable snapshots); the inner one
+/// says why the series holds no growth to fit (no onset, too few points).
+pub fn measure(
+    run: &Run,
+    onset: Option<f64>,
+    window: FitWindow,
+) -> Result<Result<Measurement, GrowthError>, Failure> {
     let case = &run.case;
     let pairs = case.layer_pairs();
     if pairs.is_empty() {
@@ -56,20 +163,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         )));
     }
     let markers = marker_ids(case)?;
-    let window = match &args.window {
-        None => FitWindow::LogLinear {
-            min_r_squared: args.min_r2,
-        },
-        Some(text) => match parse_list::<f64>(text, "--window").map_err(Failure::BadInput)?[..] {
-            [start, end] if end > start => FitWindow::Times { start, end },
-            _ => {
-                return Err(Failure::BadInput(
-                    "--window needs START,END with END > START (s)".into(),
-                ));
-            }
-        },
-    };
-    let threshold = args.onset.unwrap_or(case.particles.spacing);
+    let threshold = onset.unwrap_or(case.particles.spacing);
     if !(threshold > 0.0) {
         return Err(Failure::BadInput(
             "--onset must be a positive length (m)".into(),
@@ -95,10 +189,14 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         let d: Vec<f64> = y.iter().zip(&y0).map(|(a, b)| a - b).collect();
         shapes.push((x, d));
     }
-    let onset =
-        detect_onset(&time, &max, threshold).map_err(|e| Failure::BadInput(e.to_string()))?;
-    let fit =
-        fit_growth(&time, &max, onset, window).map_err(|e| Failure::BadInput(e.to_string()))?;
+    let onset = match detect_onset(&time, &max, threshold) {
+        Ok(onset) => onset,
+        Err(e) => return Ok(Err(e)),
+    };
+    let fit = match fit_growth(&time, &max, onset, window) {
+        Ok(fit) => fit,
+        Err(e) => return Ok(Err(e)),
+    };
     // Interface shape at the end of the fit window.
     let last = time
         .iter()
@@ -108,51 +206,15 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let samples = ((period / case.particles.spacing).round() as usize).max(4);
     let mode = dominant_wavelength(&shapes[last].0, &shapes[last].1, period, samples)
         .map_err(|e| Failure::BadInput(e.to_string()))?;
-
-    let fitted: Vec<f64> = time
-        .iter()
-        .map(|&t| {
-            if t >= fit.start && t <= fit.end {
-                fit.amplitude(t)
-            } else {
-                f64::NAN
-            }
-        })
-        .collect();
-    let csv = csv_document(
-        &[
-            "time_s",
-            "max_displacement_m",
-            "rms_displacement_m",
-            "fit_m",
-        ],
-        &[&time, &max, &rms, &fitted],
-    )
-    .map_err(Failure::RunFailed)?;
-    let out_dir = run.output_folder(args.out.as_deref())?;
-    write_file(&out_dir.join("growth.csv"), csv.as_bytes())?;
-    let chart = growth_chart(&case.title, &time, &max, &rms, &fit);
-    let png = chart
-        .to_png(900, 600)
-        .map_err(|e| Failure::RunFailed(e.to_string()))?;
-    write_file(&out_dir.join("growth.png"), &png)?;
-    if !globals.quiet {
-        println!(
-            "onset at t = {:.4} s (max displacement > {threshold:.3e} m); growth rate {:.4e} ± {:.2e} 1/s \
-             (95 %, {} points, t = {:.4}..{:.4} s, R² = {:.4}); dominant wavelength {:.4e} m (mode {} of {:.4e} m)",
-            time[onset],
-            fit.rate,
-            fit.rate_ci95,
-            fit.points,
-            fit.start,
-            fit.end,
-            fit.r_squared,
-            mode.wavelength,
-            mode.mode,
-            period
-        );
-    }
-    Ok(())
+    Ok(Ok(Measurement {
+        time,
+        max,
+        rms,
+        threshold,
+        onset,
+        fit,
+        mode,
+    }))
 }
 
 /// Ids of the interface markers: the generator's `interface_marker` flags (ids are the

@@ -1,9 +1,11 @@
 //! `lamella stability`: predicted growth rates of layered channel flow from linear theory.
 //!
-//! Two ways to give the flow: the ratios directly (`--m`, `--n`, `--re`, scaled units of
-//! `lamella_post::stability`), or a case file, from which the two layers, their
-//! viscosities, the channel height, the body force and the seeded wavelength are taken and
-//! the results are printed in the case's units as well.
+//! Three ways to give the flow: the ratios directly (`--m`, `--n`, `--re`, scaled units of
+//! `lamella_post::stability`), a case file, from which the two layers, their viscosities,
+//! the channel height, the body force and the seeded wavelength are taken and the results
+//! are printed in the case's units as well, or a run folder (`--run`), whose case copy is
+//! used the same way and whose measured growth rate (as `lamella growth` fits it) is printed
+//! beside the prediction.
 
 use std::fmt::Write as _;
 use std::fs;
@@ -18,7 +20,9 @@ use lamella_post::stability::{
 
 use crate::Failure;
 use crate::cli::Globals;
+use crate::commands::analysis::Run;
 use crate::commands::check::load_case;
+use crate::commands::growth::{self, DEFAULT_MIN_R2, Measurement};
 
 /// Width and height of the PNG charts (pixels).
 const PNG_SIZE: (u32, u32) = (800, 560);
@@ -29,14 +33,20 @@ const PNG_SIZE: (u32, u32) = (800, 560);
     after_help = "Scaled units: lengths by the channel half-width h, velocities by the \
     peak velocity U_max of the steady profile, Re = rho U_max h / mu_lower, m = mu_lower/mu_upper, \
     n = d_lower/d_upper, growth rate = wavenumber x Im(c) in U_max/h, tension S = gamma/(rho \
-    U_max^2 h).\n\nExit codes: 0 done, 1 a solve or a file write failed, 2 bad options or case."
+    U_max^2 h).\n\nExit codes: 0 done (also when a run holds no growth to fit), 1 a solve or a \
+    file write failed, 2 bad options, case or run folder."
 )]
 pub struct Args {
     /// A two-layer channel case: m, n, Re and the wavenumber come from it.
     #[arg(value_name = "CASE", conflicts_with_all = ["m", "n", "re"])]
     pub case: Option<PathBuf>,
     /// Viscosity ratio m = mu_lower / mu_upper (1 with --n 1 is one fluid).
-    #[arg(long, value_name = "M", requires_all = ["n", "re"], required_unless_present = "case")]
+    #[arg(
+        long,
+        value_name = "M",
+        requires_all = ["n", "re"],
+        required_unless_present_any = ["case", "run"]
+    )]
     pub m: Option<f64>,
     /// Width ratio n = d_lower / d_upper.
     #[arg(long, value_name = "N", requires_all = ["m", "re"])]
@@ -71,6 +81,24 @@ pub struct Args {
     /// Folder for the CSV and PNG files (created if missing).
     #[arg(long, value_name = "DIR", default_value = ".")]
     pub out: PathBuf,
+    /// A run folder of a two-layer channel case: predicts from its case copy and prints the
+    /// growth rate measured in the run (as `lamella growth DIR`) beside the prediction.
+    #[arg(
+        long,
+        value_name = "DIR",
+        conflicts_with_all = ["case", "m", "n", "re", "scan", "map_m"]
+    )]
+    pub run: Option<PathBuf>,
+    /// With --run: onset threshold of the growth fit (m) [default: one particle spacing].
+    #[arg(long, value_name = "M")]
+    pub onset: Option<f64>,
+    /// With --run: fit window START,END (s) [default: from the onset while the growth stays
+    /// log-linear].
+    #[arg(long, value_name = "START,END")]
+    pub window: Option<String>,
+    /// With --run: smallest R² of the automatic fit window [default: 0.98, common practice].
+    #[arg(long, value_name = "R2")]
+    pub min_r2: Option<f64>,
 }
 
 /// Dimensional scales of a case, to convert scaled results back.
@@ -79,6 +107,18 @@ struct CaseUnits {
     half_width: f64,
     /// Peak velocity of the steady profile U_max (m/s).
     peak_velocity: f64,
+}
+
+impl CaseUnits {
+    /// Temporal growth rate α c_i U_max / h (1/s) of scaled wavenumber α and wave speed c.
+    fn growth_rate(&self, wavenumber: f64, c: stability::c64) -> f64 {
+        wavenumber * c.im * self.peak_velocity / self.half_width
+    }
+
+    /// Wavelength 2π h / α (m) of scaled wavenumber α.
+    fn wavelength(&self, wavenumber: f64) -> f64 {
+        2.0 * std::f64::consts::PI * self.half_width / wavenumber
+    }
 }
 
 /// The problem to solve and, in case mode, the units to print results in.
@@ -90,9 +130,21 @@ struct Setup {
 
 /// Solves and prints; writes the curve or map files when asked for.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    let mut setup = match &args.case {
-        Some(path) => from_case(path, &args)?,
-        None => from_ratios(&args)?,
+    if args.run.is_none()
+        && (args.onset.is_some() || args.window.is_some() || args.min_r2.is_some())
+    {
+        return Err(Failure::BadInput(
+            "--onset, --window and --min-r2 set the growth fit of a run; give the run folder with --run DIR".into(),
+        ));
+    }
+    let (mut setup, run_folder) = match (&args.case, &args.run) {
+        (Some(path), _) => (from_case(&load_case(path)?, path, &args)?, None),
+        (None, Some(dir)) => {
+            let run_folder = Run::open(dir)?;
+            let setup = from_case(&run_folder.case, &run_folder.folder.case(), &args)?;
+            (setup, Some(run_folder))
+        }
+        (None, None) => (from_ratios(&args)?, None),
     };
     setup.problem.tension = args.tension;
     setup.problem.points_per_layer = args.points;
@@ -141,6 +193,31 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             setup.problem.points_per_layer
         )
         .ok();
+        if let (Some(run_folder), Some(units)) = (&run_folder, &setup.units) {
+            let window = growth::fit_window(
+                args.window.as_deref(),
+                args.min_r2.unwrap_or(DEFAULT_MIN_R2),
+            )?;
+            let predicted = units.growth_rate(setup.problem.wavenumber, checked.speed);
+            let wavelength = units.wavelength(setup.problem.wavenumber);
+            let dir = run_folder.folder.root().display();
+            match growth::measure(run_folder, args.onset, window)? {
+                Ok(measured) => compare(
+                    &mut report,
+                    &dir.to_string(),
+                    &measured,
+                    predicted,
+                    wavelength,
+                ),
+                Err(refused) => {
+                    writeln!(
+                        report,
+                        "measured in {dir}: no growth rate to compare with: {refused}"
+                    )
+                    .ok();
+                }
+            }
+        }
     }
     if let (Some(map_m), Some(map_n)) = (&args.map_m, &args.map_n) {
         let ms = log_spaced(parse_range(map_m, "--map-m")?, "--map-m")?;
@@ -219,9 +296,54 @@ fn from_ratios(args: &Args) -> Result<Setup, Failure> {
     })
 }
 
-/// Reads m, n, Re, the drive and the seeded wavenumber from a two-layer channel case.
-fn from_case(path: &Path, args: &Args) -> Result<Setup, Failure> {
-    let case = load_case(path)?;
+/// Prints the growth rate measured in a run beside the predicted one (both 1/s) and their
+/// ratio, with the ratio's range from the 95 % interval of the measured rate.
+fn compare(
+    report: &mut String,
+    dir: &str,
+    measured: &Measurement,
+    predicted: f64,
+    predicted_wavelength: f64,
+) {
+    let fit = &measured.fit;
+    writeln!(
+        report,
+        "measured in {dir} (fit as `lamella growth`):\n  growth rate {:.4e} ± {:.2e} 1/s (95 %, {} points, t = {:.4}..{:.4} s, R² = {:.4}); dominant wavelength {:.4e} m",
+        fit.rate,
+        fit.rate_ci95,
+        fit.points,
+        fit.start,
+        fit.end,
+        fit.r_squared,
+        measured.mode.wavelength
+    )
+    .ok();
+    write!(
+        report,
+        "  predicted {predicted:.4e} 1/s at wavelength {predicted_wavelength:.4e} m; "
+    )
+    .ok();
+    if predicted != 0.0 && predicted.is_finite() {
+        let (low, high) = (
+            (fit.rate - fit.rate_ci95) / predicted,
+            (fit.rate + fit.rate_ci95) / predicted,
+        );
+        writeln!(
+            report,
+            "measured / predicted = {:.4} (95 %: {:.4}..{:.4})",
+            fit.rate / predicted,
+            low.min(high),
+            low.max(high)
+        )
+        .ok();
+    } else {
+        writeln!(report, "no ratio: the predicted rate is zero").ok();
+    }
+}
+
+/// Reads m, n, Re, the drive and the seeded wavenumber from a two-layer channel case read
+/// from `path`.
+fn from_case(case: &Case, path: &Path, args: &Args) -> Result<Setup, Failure> {
     let bad = |what: &str| Failure::BadInput(format!("{}: {what}", path.display()));
     let pairs = case.layer_pairs();
     let [pair] = pairs.as_slice() else {
@@ -230,7 +352,7 @@ fn from_case(path: &Path, args: &Args) -> Result<Setup, Failure> {
             pairs.len()
         )));
     };
-    require_channel(&case).map_err(|what| bad(&what))?;
+    require_channel(case).map_err(|what| bad(&what))?;
     let (lower, upper) = (&case.phases[pair.lower], &case.phases[pair.upper]);
     if (lower.density - upper.density).abs() > 1e-9 * lower.density.abs() {
         return Err(bad(&format!(
@@ -329,10 +451,10 @@ fn describe(report: &mut String, wavenumber: f64, c: stability::c64, units: &Opt
             report,
             "  case units: wavenumber {:.6} 1/m (wavelength {:.6} m), wave speed {:.6e} {:+.6e}i m/s, growth rate {:.6e} 1/s",
             wavenumber / u.half_width,
-            2.0 * std::f64::consts::PI * u.half_width / wavenumber,
+            u.wavelength(wavenumber),
             c.re * u.peak_velocity,
             c.im * u.peak_velocity,
-            growth * u.peak_velocity / u.half_width
+            u.growth_rate(wavenumber, c)
         )
         .ok();
     }
