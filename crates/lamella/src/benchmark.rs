@@ -164,6 +164,7 @@ mod tests {
 
     #[test]
     fn timing_reports_steps_and_memory() {
+        let _measuring = memory::MEASURING.lock().unwrap_or_else(|e| e.into_inner());
         let case = standard_case(1_000).unwrap();
         let timing = time_steps::<glam::DVec2>(&case, 3, 2).unwrap();
         assert_eq!(timing.seconds_per_step.len(), 2);
@@ -171,5 +172,19 @@ mod tests {
         assert!(timing.mean_time_step > 0.0);
         // The particle arrays alone hold more than 100 bytes per particle.
         assert!(timing.peak_bytes_per_particle() > 100.0);
+    }
+
+    #[test]
+    fn measured_memory_agrees_with_the_case_estimate() {
+        let _measuring = memory::MEASURING.lock().unwrap_or_else(|e| e.into_inner());
+        let case = standard_case(20_000).unwrap();
+        let timing = time_steps::<glam::DVec2>(&case, 1, 1).unwrap();
+        let estimate = case.state_bytes_per_particle() as f64;
+        let measured = timing.peak_bytes_per_particle();
+        // Set-up transients and other test threads' allocations only add to the peak.
+        assert!(
+            measured > 0.95 * estimate && measured < 1.25 * estimate,
+            "measured {measured:.0} B/particle, estimated {estimate}"
+        );
     }
 }

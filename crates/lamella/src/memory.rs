@@ -23,12 +23,17 @@ pub fn reset_peak() {
     COUNTING_ALLOCATOR.reset_peak_usage();
 }
 
+/// Held by the tests that measure the heap, so that they do not run at the same time.
+#[cfg(test)]
+pub(crate) static MEASURING: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
 #[cfg(test)]
 mod tests {
     use super::*;
 
     #[test]
     fn a_large_allocation_raises_the_peak_by_its_size() {
+        let _measuring = MEASURING.lock().unwrap_or_else(|e| e.into_inner());
         reset_peak();
         let before = peak_bytes();
         let block = vec![1u8; 64 << 20];

@@ -212,7 +212,7 @@ fn summary(path: &Path, case: &Case) -> String {
     let bytes = case.memory_estimate(counts.total());
     let _ = writeln!(
         s,
-        "  memory        ≈ {:.1} MB ({} bytes per particle)",
+        "  memory        ≈ {:.1} MB ({} bytes per particle; `lamella estimate` measures it)",
         bytes as f64 / 1.0e6,
         case.state_bytes_per_particle()
     );
