@@ -135,7 +135,20 @@ impl Reference {
 /// one fluid under a moving top wall. `None` for anything else.
 pub fn channel_reference(case: &Case) -> Option<Reference> {
     use lamella_case::schema::{Axis, Side};
-    if case.dimension != 2 || !case.is_periodic(Axis::X) {
+    // A 3D channel periodic in z with nothing driving along z has the 2D profile.
+    let plane = case.dimension == 2
+        || (case.dimension == 3
+            && case.is_periodic(Axis::Z)
+            && case
+                .body_force
+                .as_ref()
+                .is_none_or(|f| f.get(2).is_none_or(|&g| g == 0.0))
+            && case.walls.iter().all(|w| {
+                w.velocity
+                    .as_ref()
+                    .is_none_or(|v| v.get(2).is_none_or(|&u| u == 0.0))
+            }));
+    if !plane || !case.is_periodic(Axis::X) {
         return None;
     }
     let wall = |side: Side| case.walls.iter().find(|w| w.side == side);
