@@ -14,7 +14,7 @@ use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_m
 use glam::DVec2;
 use lamella::benchmark::standard_case;
 use lamella_cells::CellList;
-use lamella_sph::forces::{RateParameters, Rates, particle_rates};
+use lamella_sph::forces::{RateParameters, Rates, density_rates, particle_rates};
 use lamella_sph::walls::{InteractionState, interaction_states};
 use lamella_sph::{ReorderScratch, Simulation};
 
@@ -96,6 +96,21 @@ fn step_and_parts(c: &mut Criterion) {
             group.bench_function(BenchmarkId::new("rates", &label), |b| {
                 b.iter(|| {
                     pool.install(|| particle_rates(&params, &particles, &seen, &cells, &mut rates))
+                })
+            });
+            let mut density = vec![0.0; n];
+            group.bench_function(BenchmarkId::new("density_rates", &label), |b| {
+                b.iter(|| {
+                    pool.install(|| {
+                        density_rates(
+                            &params,
+                            &particles,
+                            &particles.velocity,
+                            &seen,
+                            &cells,
+                            &mut density,
+                        )
+                    })
                 })
             });
         }

@@ -106,6 +106,10 @@ pub struct ParticleSettings {
     /// Smoothing kernel [default: WendlandC2].
     #[serde(default)]
     pub kernel: Kernel,
+    /// Coefficient A of particle shifting, δr = −A h |v|max dt ∇C (Lind et al. 2012; Skillen
+    /// et al. 2013 use 1 … 6); 0 turns shifting off. Accepted 0 ..= 10 [default: 2].
+    #[serde(default = "default_shifting")]
+    pub shifting: f64,
 }
 
 /// Smoothing kernels.
@@ -480,6 +484,9 @@ fn default_density_tolerance() -> f64 {
 }
 fn default_smoothing_ratio() -> f64 {
     1.3
+}
+fn default_shifting() -> f64 {
+    2.0
 }
 fn default_wall_layers() -> u32 {
     3

@@ -10,6 +10,9 @@ use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region,
 pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
 /// Smoothing ratios of common practice; outside them `check` warns.
 pub const SMOOTHING_RATIO_COMMON: (f64, f64) = (1.2, 1.5);
+/// Accepted particle-shifting coefficients A (inclusive); 0 turns shifting off, Skillen et al.
+/// 2013 use 1 … 6.
+pub const SHIFTING_RANGE: (f64, f64) = (0.0, 10.0);
 /// Most lattice sites a case may ask for (fluid and wall), to catch a spacing typed wrong.
 pub const MAX_PARTICLES: f64 = 2.0e8;
 /// Deepest wall accepted (layers of wall particles); the widest kernel support needs 6.
@@ -228,6 +231,14 @@ impl Case {
                     "h/dx within the stable range {lo} … {hi} (common practice {} … {})",
                     SMOOTHING_RATIO_COMMON.0, SMOOTHING_RATIO_COMMON.1
                 ),
+            );
+        }
+        let (lo, hi) = SHIFTING_RANGE;
+        if !(p.shifting.is_finite() && (lo..=hi).contains(&p.shifting)) {
+            c.bad(
+                "particles.shifting",
+                num(p.shifting),
+                &format!("a shifting coefficient within {lo} … {hi} (0 turns shifting off)"),
             );
         }
         let dx = p.spacing;

@@ -146,6 +146,15 @@ fn smoothing_ratio_outside_the_stable_range() {
 }
 
 #[test]
+fn shifting_coefficient_outside_its_range() {
+    assert_problem(
+        "shifting-negative",
+        "particles.shifting",
+        "within 0 … 10 (0 turns shifting off)",
+    );
+}
+
+#[test]
 fn wall_layers_must_cover_the_kernel_support() {
     assert_problem(
         "wall-layers-short",

@@ -56,13 +56,11 @@ pub struct RateParameters<'a, V> {
     pub viscous_normalisation: f64,
 }
 
-/// The rates of one particle, and the sums particle regularisation needs.
+/// The momentum rate of one particle, and the sums particle regularisation needs.
 #[derive(Clone, Copy, Debug, Default, PartialEq)]
 pub struct Rates<V> {
     /// dv/dt (m/s²).
     pub acceleration: V,
-    /// dρ/dt (kg/m³/s).
-    pub density_rate: f64,
     /// ∇C = Σ_b V_b ∇_a W_ab (1/m), the particle-concentration gradient (Lind et al. 2012).
     pub concentration_gradient: V,
     /// Σ over fluid neighbours of another phase of V_b ∇_a W_ab (1/m): points towards the
@@ -74,10 +72,6 @@ pub struct Rates<V> {
 ///
 /// With r_ab = x_a − x_b, ∇_a W_ab = r_ab F(r), V_b = m_b/ρ_b and the states `seen` of
 /// [`crate::walls::interaction_states`]:
-/// - continuity with density diffusion (Molteni & Colagrossi 2009, Comput. Phys. Commun. 180;
-///   Antuono et al. 2010, Comput. Phys. Commun. 181), diffusion over fluid neighbours only and on
-///   ρ/ρ0 so phases of different ρ0 do not exchange mass:
-///   dρ_a/dt = ρ_a Σ_b V_b (v_a − v_b)·∇_a W_ab + δ h c0 Σ_b 2 ρ0_a (ρ_a/ρ0_a − ρ_b/ρ0_b) F V_b;
 /// - pressure force in the inter-particle averaged form of Hu & Adams 2006 (J. Comput. Phys.
 ///   213, eq. 8), stable across a phase interface:
 ///   −(1/m_a) Σ_b (V_a² + V_b²) p̃_ab ∇_a W_ab, p̃_ab = (ρ_b p_a + ρ_a p_b)/(ρ_a + ρ_b);
@@ -95,9 +89,7 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
 ) {
     let h = params.kernel.smoothing_length();
     let eta2 = 0.01 * h * h;
-    let diffusion = params.density_diffusion * h * params.sound_speed;
     let viscous_scale = 2.0 * params.viscous_normalisation;
-    let inverse_reference = params.inverse_reference_density;
     let positions = &particles.position;
     out.par_iter_mut().enumerate().for_each(|(a, rates)| {
         if particles.kind[a] != Kind::Fluid {
@@ -111,11 +103,7 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
         let v_a = particles.velocity[a];
         let mu_a = particles.viscosity[a];
         let phase_a = particles.phase[a];
-        let rho0_a = params.reference_density[phase_a as usize];
-        let relative_a = rho_a * inverse_reference[phase_a as usize];
         let mut force = V::ZERO; // m_a · acceleration without body force
-        let mut continuity = 0.0;
-        let mut diffusion_sum = 0.0;
         let mut gradient = V::ZERO;
         let mut normal = V::ZERO;
         neighbours.for_each_neighbour(positions, a, |b, r_ab, dist| {
@@ -124,14 +112,8 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
             let seen_b = &seen[b];
             let (rho_b, vol_b) = (seen_b.density, seen_b.volume);
             let fluid_b = particles.kind[b] == Kind::Fluid;
-            continuity += vol_b * (v_a - particles.velocity[b]).dot(grad);
-            if fluid_b {
-                let phase_b = particles.phase[b];
-                let relative_b = rho_b * inverse_reference[phase_b as usize];
-                diffusion_sum += 2.0 * rho0_a * (relative_a - relative_b) * f * vol_b;
-                if phase_b != phase_a {
-                    normal += grad * vol_b;
-                }
+            if fluid_b && particles.phase[b] != phase_a {
+                normal += grad * vol_b;
             }
             gradient += grad * vol_b;
             let p_ab = (rho_b * p_a + rho_a * seen_b.pressure) / (rho_a + rho_b);
@@ -148,10 +130,62 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
         });
         *rates = Rates {
             acceleration: force / m_a + params.body_force,
-            density_rate: rho_a * continuity + diffusion * diffusion_sum,
             concentration_gradient: gradient,
             interface_normal: normal,
         };
+    });
+}
+
+/// Fills `out[a]` with dρ_a/dt (kg/m³/s) for every particle (parallel map, each a fixed-order
+/// sum; zero for walls), from the fluid velocities `velocity` (indexed like `particles`).
+///
+/// Continuity with density diffusion (Molteni & Colagrossi 2009, Comput. Phys. Commun. 180;
+/// Antuono et al. 2010, Comput. Phys. Commun. 181), diffusion over fluid neighbours only and on
+/// ρ/ρ0 so phases of different ρ0 do not exchange mass:
+/// dρ_a/dt = ρ_a Σ_b V_b (v_a − v_b)·∇_a W_ab + δ h c0 Σ_b 2 ρ0_a (ρ_a/ρ0_a − ρ_b/ρ0_b) F V_b.
+///
+/// A wall particle enters with v_b = 0, the velocity of its own motion (wall particles keep
+/// their place); its sliding velocity only enters the viscous term. A belt velocity here would
+/// act as a sink or source where the belt ends: at the top corners of a lid-driven cavity the
+/// corner particle at rest sees Σ V_b U ∂W/∂x over the lid particles on one side only, which
+/// emptied that corner and pulled the particle into the lid.
+pub fn density_rates<V: Vector, N: Neighbourhood<V>>(
+    params: &RateParameters<'_, V>,
+    particles: &Particles<V>,
+    velocity: &[V],
+    seen: &[InteractionState<V>],
+    neighbours: &N,
+    out: &mut [f64],
+) {
+    let h = params.kernel.smoothing_length();
+    let diffusion = params.density_diffusion * h * params.sound_speed;
+    let inverse_reference = params.inverse_reference_density;
+    let positions = &particles.position;
+    out.par_iter_mut().enumerate().for_each(|(a, rate)| {
+        if particles.kind[a] != Kind::Fluid {
+            *rate = 0.0;
+            return;
+        }
+        let rho_a = seen[a].density;
+        let v_a = velocity[a];
+        let phase_a = particles.phase[a] as usize;
+        let rho0_a = params.reference_density[phase_a];
+        let relative_a = rho_a * inverse_reference[phase_a];
+        let mut continuity = 0.0;
+        let mut diffusion_sum = 0.0;
+        neighbours.for_each_neighbour(positions, a, |b, r_ab, dist| {
+            let f = params.kernel.gradient_factor(dist);
+            let seen_b = &seen[b];
+            let vol_b = seen_b.volume;
+            if particles.kind[b] == Kind::Fluid {
+                continuity += vol_b * (v_a - velocity[b]).dot(r_ab * f);
+                let relative_b = seen_b.density * inverse_reference[particles.phase[b] as usize];
+                diffusion_sum += 2.0 * rho0_a * (relative_a - relative_b) * f * vol_b;
+            } else {
+                continuity += vol_b * v_a.dot(r_ab * f);
+            }
+        });
+        *rate = rho_a * continuity + diffusion * diffusion_sum;
     });
 }
 
@@ -273,6 +307,67 @@ mod tests {
         let below = 4 * 10 + 3;
         assert!(rates[below].interface_normal.y > 0.0);
         assert_eq!(rates[2 * 10 + 3].interface_normal, DVec2::ZERO);
+    }
+
+    #[test]
+    fn a_lid_sliding_over_fluid_at_rest_changes_no_density() {
+        // A 6 × 6 box of fluid at rest in three wall rows; the top rows slide along +x and end
+        // at the side walls, as a cavity lid does. Its sliding must not enter continuity: the
+        // corner particle would otherwise see Σ V_b U ∂W/∂x over lid particles on one side.
+        let dx = 0.1;
+        let kernel = Kernel::new(KernelKind::WendlandC2, 1.3 * dx, 2);
+        let mut p = Particles::default();
+        for j in -3..9 {
+            for i in -3..9 {
+                let fluid = (0..6).contains(&i) && (0..6).contains(&j);
+                let lid = j >= 6 && (0..6).contains(&i);
+                let x = DVec2::new((i as f64 + 0.5) * dx, (j as f64 + 0.5) * dx);
+                p.position.push(x);
+                p.initial_position.push(x);
+                p.velocity.push(if lid {
+                    DVec2::new(1.0, 0.0)
+                } else {
+                    DVec2::ZERO
+                });
+                p.density.push(1000.0);
+                p.pressure.push(0.0);
+                p.mass.push(1000.0 * dx * dx);
+                p.phase.push(0);
+                p.viscosity.push(1.0e-3);
+                p.kind.push(if fluid { Kind::Fluid } else { Kind::Wall });
+                p.id.push(p.id.len() as u64);
+            }
+        }
+        let nb = BruteForce {
+            radius: kernel.support_radius(),
+            period: DVec2::ZERO,
+        };
+        let law = StateLaw {
+            form: EquationOfState::Linear,
+            sound_speed: 10.0,
+            background_pressure: 0.0,
+        };
+        let rho0 = [1000.0];
+        let mut seen = vec![InteractionState::default(); p.len()];
+        interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
+        let params = RateParameters {
+            kernel,
+            body_force: DVec2::ZERO,
+            pair_viscosity: PairViscosity::Harmonic,
+            density_diffusion: 0.1,
+            sound_speed: 10.0,
+            reference_density: &rho0,
+            inverse_reference_density: &rho0.map(|r| 1.0 / r),
+            viscous_normalisation: 1.0,
+        };
+        let mut rates = vec![1.0; p.len()];
+        density_rates(&params, &p, &p.velocity, &seen, &nb, &mut rates);
+        assert!(rates.iter().all(|&r| r == 0.0), "{rates:?}");
+        // The lid still drags the fluid through the viscous term.
+        let mut momentum = vec![Rates::default(); p.len()];
+        particle_rates(&params, &p, &seen, &nb, &mut momentum);
+        let corner = (5 + 3) * 12 + 3; // fluid site (0, 5), under the lid's left end
+        assert!(momentum[corner].acceleration.x > 0.0);
     }
 
     #[test]

@@ -11,9 +11,15 @@
 //!
 //! # Scheme
 //! Each step: sort the particles by cell (the neighbour search order), evaluate the wall states
-//! and the rates at the current state, pick dt from the acoustic, viscous and force limits, then
-//! advance by symplectic (semi-implicit) Euler, v ← v + dt a, x ← x + dt v (+ shift), ρ ← ρ + dt
-//! dρ/dt, the kick–drift form of leapfrog (Monaghan 2005, Rep. Prog. Phys. 68, §9).
+//! and the accelerations at the current state, pick dt from the acoustic, viscous and force
+//! limits, then advance by symplectic (semi-implicit) Euler, the kick–drift form of leapfrog
+//! (Monaghan 2005, Rep. Prog. Phys. 68, §9): v ← v + dt a(x, ρ), then ρ ← ρ + dt dρ/dt(x, v)
+//! and x ← x + dt v (+ shift) with the new v. Both pairs that oscillate, position with velocity
+//! and density with velocity (sound waves), are thus updated one after the other, which keeps
+//! each mode's amplitude bounded for ω dt < 2 (Hairer, Lubich & Wanner 2006, Geometric
+//! Numerical Integration, §I.1). Taking dρ/dt from the old velocity instead is explicit Euler for
+//! the sound waves, |1 + i ω dt| > 1 for every mode: in the lid-driven cavity at Re = 100, where
+//! viscosity damps little, the density noise then grew past 5 % within 1500 steps.
 //! Wall particles keep their position; their velocity is a sliding velocity (a moving lid or
 //! plate is a belt that moves along itself).
 //!
@@ -27,7 +33,7 @@ use rayon::prelude::*;
 
 use crate::eos::StateLaw;
 use crate::fault::{Fault, FaultCause};
-use crate::forces::{PairViscosity, RateParameters, Rates, particle_rates};
+use crate::forces::{PairViscosity, RateParameters, Rates, density_rates, particle_rates};
 use crate::kernel::Kernel;
 use crate::particles::{Kind, Particles, ReorderScratch};
 use crate::shifting::{Regularisation, shift};
@@ -114,6 +120,7 @@ struct Scratch<V: Vector> {
     inverse_reference_density: Vec<f64>,
     seen: Vec<InteractionState<V>>,
     rates: Vec<Rates<V>>,
+    density_rates: Vec<f64>,
     next_position: Vec<V>,
     next_velocity: Vec<V>,
     next_density: Vec<f64>,
@@ -245,7 +252,17 @@ impl<V: Vector> Simulation<V> {
         }
         self.evaluate_interaction_states();
         let n = self.particles.len();
-        self.scratch.rates.resize(n, Rates::default());
+        let Scratch {
+            inverse_reference_density,
+            seen,
+            rates,
+            next_position,
+            next_velocity,
+            next_density,
+            density_rates: density_rate,
+            ..
+        } = &mut self.scratch;
+        rates.resize(n, Rates::default());
         let params = RateParameters {
             kernel: self.config.kernel,
             body_force: self.config.body_force,
@@ -253,21 +270,14 @@ impl<V: Vector> Simulation<V> {
             density_diffusion: self.config.density_diffusion,
             sound_speed: self.config.state_law.sound_speed,
             reference_density: &self.config.reference_density,
-            inverse_reference_density: &self.scratch.inverse_reference_density,
+            inverse_reference_density,
             viscous_normalisation: self.config.viscous_normalisation,
         };
-        particle_rates(
-            &params,
-            &self.particles,
-            &self.scratch.seen,
-            &self.cells,
-            &mut self.scratch.rates,
-        );
+        particle_rates(&params, &self.particles, seen, &self.cells, rates);
 
         // Time step from maxima over the fluid (a parallel maximum is exact, so the result
         // does not depend on the thread count).
         let p = &self.particles;
-        let rates = &self.scratch.rates;
         let (max_speed, max_acceleration, max_nu) = (0..n)
             .into_par_iter()
             .filter(|&i| p.kind[i] == Kind::Fluid)
@@ -299,34 +309,38 @@ impl<V: Vector> Simulation<V> {
             Regularisation::Shifting { coefficient } => coefficient * h * max_speed * dt,
         };
 
-        // Advance into the scratch buffers (parallel map).
-        let s = &mut self.scratch;
-        s.next_position.resize(n, V::ZERO);
-        s.next_velocity.resize(n, V::ZERO);
-        s.next_density.resize(n, 0.0);
+        // Kick, then the density rate with the new velocities, then drift (parallel maps into
+        // the scratch buffers).
+        next_position.resize(n, V::ZERO);
+        next_velocity.resize(n, V::ZERO);
+        next_density.resize(n, 0.0);
+        density_rate.resize(n, 0.0);
+        next_velocity.par_iter_mut().enumerate().for_each(|(i, v)| {
+            *v = if p.kind[i] == Kind::Fluid {
+                p.velocity[i] + rates[i].acceleration * dt
+            } else {
+                p.velocity[i]
+            };
+        });
+        density_rates(&params, p, next_velocity, seen, &self.cells, density_rate);
         let domain = self.config.search_domain;
-        let rates = &s.rates;
-        s.next_position
+        next_position
             .par_iter_mut()
-            .zip(s.next_velocity.par_iter_mut())
-            .zip(s.next_density.par_iter_mut())
+            .zip(next_density.par_iter_mut())
             .enumerate()
-            .for_each(|(i, ((x, v), rho))| {
+            .for_each(|(i, (x, rho))| {
                 if p.kind[i] != Kind::Fluid {
                     *x = p.position[i];
-                    *v = p.velocity[i];
                     *rho = p.density[i];
                     return;
                 }
                 let r = &rates[i];
-                let velocity = p.velocity[i] + r.acceleration * dt;
-                let mut moved = p.position[i] + velocity * dt;
+                let mut moved = p.position[i] + next_velocity[i] * dt;
                 if diffusivity > 0.0 {
                     moved += shift(diffusivity, r.concentration_gradient, r.interface_normal);
                 }
                 *x = domain.wrap(moved);
-                *v = velocity;
-                *rho = p.density[i] + r.density_rate * dt;
+                *rho = p.density[i] + density_rate[i] * dt;
             });
 
         let max_density_deviation = self.check_health()?;
@@ -429,5 +443,71 @@ impl<V: Vector> Simulation<V> {
             step: self.step,
             cause: FaultCause::NeighbourSearch(error.to_string()),
         }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::eos::EquationOfState;
+    use crate::kernel::KernelKind;
+    use glam::DVec2;
+
+    /// A periodic box of inviscid fluid holding one standing sound wave, ρ = ρ0 (1 + ε sin kx).
+    fn sound_wave(amplitude: f64) -> Simulation<DVec2> {
+        let (nx, ny, dx) = (20, 8, 0.1);
+        let size = DVec2::new(nx as f64 * dx, ny as f64 * dx);
+        let kernel = Kernel::new(KernelKind::WendlandC2, 1.3 * dx, 2);
+        let config = SolverConfig {
+            kernel,
+            state_law: StateLaw {
+                form: EquationOfState::Linear,
+                sound_speed: 10.0,
+                background_pressure: 0.0,
+            },
+            reference_density: vec![1000.0],
+            pair_viscosity: PairViscosity::Harmonic,
+            body_force: DVec2::ZERO,
+            density_diffusion: 0.0,
+            viscous_normalisation: 1.0,
+            time_step: TimeStepFactors::default(),
+            regularisation: Regularisation::None,
+            density_tolerance: 0.5,
+            search_domain: Domain::new(DVec2::ZERO, size, [true, true, false]).unwrap(),
+            fluid_lower: DVec2::ZERO,
+            fluid_upper: size,
+        };
+        let mut p = Particles::default();
+        for k in 0..nx * ny {
+            let x = DVec2::new((k % nx) as f64 + 0.5, (k / nx) as f64 + 0.5) * dx;
+            let phase = std::f64::consts::TAU * x.x / size.x;
+            p.position.push(x);
+            p.initial_position.push(x);
+            p.velocity.push(DVec2::ZERO);
+            p.density.push(1000.0 * (1.0 + amplitude * phase.sin()));
+            p.pressure.push(0.0);
+            p.mass.push(1000.0 * dx * dx);
+            p.viscosity.push(0.0);
+            p.phase.push(0);
+            p.kind.push(Kind::Fluid);
+            p.id.push(k as u64);
+        }
+        Simulation::new(config, p).unwrap()
+    }
+
+    #[test]
+    fn an_undamped_sound_wave_keeps_its_amplitude() {
+        // With dρ/dt taken from the velocity before the kick (explicit Euler for the wave) the
+        // amplitude grows every step and passed 50 % within 700 steps; the semi-implicit update
+        // keeps it bounded over these 2000 steps (about 16 wave periods).
+        let amplitude = 1.0e-3;
+        let mut sim = sound_wave(amplitude);
+        let mut largest = 0.0f64;
+        for _ in 0..2000 {
+            let report = sim.step(f64::INFINITY).unwrap();
+            largest = largest.max(report.max_density_deviation);
+        }
+        assert!(largest < 1.2 * amplitude, "{largest}");
+        assert!(largest > 0.8 * amplitude, "{largest}");
     }
 }

@@ -11,9 +11,6 @@ use lamella_sph::{
 /// Density-diffusion coefficient δ of the δ-SPH term (Antuono et al. 2010: 0.1, common practice).
 pub const DENSITY_DIFFUSION: f64 = 0.1;
 
-/// Coefficient A of particle shifting, D = A h |v|max dt (Skillen et al. 2013 use 1 … 6).
-pub const SHIFTING_COEFFICIENT: f64 = 2.0;
-
 /// Extra lattice rows the neighbour-search box reaches past the outermost wall row.
 const SEARCH_MARGIN_ROWS: f64 = 2.0;
 
@@ -86,8 +83,12 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
             viscous: case.time_step.viscous,
             force: case.time_step.force,
         },
-        regularisation: Regularisation::Shifting {
-            coefficient: SHIFTING_COEFFICIENT,
+        regularisation: if case.particles.shifting > 0.0 {
+            Regularisation::Shifting {
+                coefficient: case.particles.shifting,
+            }
+        } else {
+            Regularisation::None
         },
         density_tolerance: case.density_tolerance,
         search_domain,
