@@ -233,12 +233,17 @@ impl<V: Vector> Simulation<V> {
             &mut self.scratch.seen,
         );
         let p = &mut self.particles;
-        for (i, seen) in self.scratch.seen.iter().enumerate() {
-            p.pressure[i] = seen.pressure;
-            if p.kind[i] == Kind::Wall {
-                p.density[i] = seen.density;
-            }
-        }
+        p.pressure
+            .par_iter_mut()
+            .zip(p.density.par_iter_mut())
+            .zip(p.kind.par_iter())
+            .zip(self.scratch.seen.par_iter())
+            .for_each(|(((pressure, density), &kind), seen)| {
+                *pressure = seen.pressure;
+                if kind == Kind::Wall {
+                    *density = seen.density;
+                }
+            });
     }
 
     /// Advances by one stable step, cut short so as not to pass the simulated time `until` (s);
