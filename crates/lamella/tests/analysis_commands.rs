@@ -4,7 +4,8 @@
 //!   (`tests/validation_layered.rs`) computes from the in-memory particles of the same case,
 //!   against Bird, Stewart & Lightfoot, Transport Phenomena, 2nd ed., §2.5.
 //! - `growth` refuses, with exit code 2 and a clear message, a run whose interface never moves.
-//! - `mix` on a low-resolution two-phase run writes every output, each chart a real PNG.
+//! - `mix` on a low-resolution two-phase cavity run writes every output, each chart a real
+//!   PNG, each value in its range.
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
@@ -156,14 +157,69 @@ fn profile_reproduces_the_validation_error_and_growth_refuses_a_still_interface(
     assert!(err.contains("no instability onset"), "{err}");
 }
 
-/// Mixing outputs on a coarse two-phase run. The two-phase cavity at a coarse spacing (1e-4 m)
-/// currently stops in the solver (density bound at the lid corner), so the two-layer channel,
-/// also two phases, is used here.
+/// Width and height of a PNG file from its IHDR chunk (PNG specification, ISO/IEC 15948 §11.2.2),
+/// or None if the file is not a PNG.
+fn png_size(path: &Path) -> Option<(u32, u32)> {
+    let bytes = std::fs::read(path).ok()?;
+    let signature = [0x89, b'P', b'N', b'G', 0x0d, 0x0a, 0x1a, 0x0a];
+    if bytes.len() < 1000 || !bytes.starts_with(&signature) || &bytes[12..16] != b"IHDR" {
+        return None;
+    }
+    let word = |at: usize| u32::from_be_bytes(bytes[at..at + 4].try_into().unwrap());
+    Some((word(16), word(20)))
+}
+
+/// The point arrays of a VTK XML file with one inline piece, as Float64 columns by name.
+fn point_arrays(path: &Path) -> (vtkio::model::DataSet, Vec<(String, Vec<f64>)>) {
+    use vtkio::model::{Attribute, DataSet, Piece};
+    let bytes = std::fs::read(path).unwrap();
+    let vtk = vtkio::Vtk::parse_xml(bytes.as_slice())
+        .unwrap_or_else(|e| panic!("{}: vtkio cannot read it: {e}", path.display()));
+    let attributes = match &vtk.data {
+        DataSet::ImageData { pieces, .. } => match &pieces[..] {
+            [Piece::Inline(piece)] => piece.data.point.clone(),
+            _ => panic!("one inline piece expected"),
+        },
+        DataSet::PolyData { pieces, .. } => match &pieces[..] {
+            [Piece::Inline(piece)] => piece.data.point.clone(),
+            _ => panic!("one inline piece expected"),
+        },
+        _ => panic!("{}: neither image data nor poly data", path.display()),
+    };
+    let columns = attributes
+        .into_iter()
+        .filter_map(|a| match a {
+            Attribute::DataArray(array) => {
+                let values = array.data.cast_into::<f64>().expect("numeric array");
+                Some((array.name, values))
+            }
+            Attribute::Field { .. } => None,
+        })
+        .collect();
+    (vtk.data, columns)
+}
+
+fn column<'a>(columns: &'a [(String, Vec<f64>)], name: &str) -> &'a [f64] {
+    columns
+        .iter()
+        .find(|(n, _)| n == name)
+        .map(|(_, v)| v.as_slice())
+        .unwrap_or_else(|| panic!("no array `{name}`"))
+}
+
+/// Mixing outputs of a low-resolution two-phase cavity: the bundled `two-phase-cavity.ron` (a lid
+/// driving water over a five times more viscous syrup layer, with a syrup drop) at 20 particles
+/// across instead of 30, run to its end with `lamella run`, then `lamella mix` on every snapshot.
+/// Checks that each output exists and holds sane values: the CSV of global measures (ranges of
+/// Danckwerts 1952 and Lacey 1954; the lid-driven flow lowers the intensity of segregation and
+/// raises the mean mixing entropy), one PNG per chart, the gridded volume fractions (.vti, each in
+/// [0, 1], summing to 1) and the per-particle fields (.vtp, one value per fluid particle).
 #[test]
-fn mix_on_a_coarse_two_phase_run_writes_every_output() {
+fn mix_on_a_coarse_two_phase_cavity_writes_every_output() {
     let dir = tempfile::tempdir().unwrap();
-    let (case, _) = layered_case();
-    let case_path = dir.path().join("layers.ron");
+    let mut case = lamella_case::load(&cases_dir().join("two-phase-cavity.ron")).unwrap();
+    case.particles.spacing = 6.0e-5;
+    let case_path = dir.path().join("cavity.ron");
     write_case(&case, &case_path);
     let run_dir = dir.path().join("run");
     let out = lamella(&[
@@ -178,16 +234,20 @@ fn mix_on_a_coarse_two_phase_run_writes_every_output() {
         "run failed: {}",
         String::from_utf8_lossy(&out.stderr)
     );
-    let out = lamella(&["mix", run_dir.to_str().unwrap(), "--grid", "6,6"]);
+    let out = lamella(&["mix", run_dir.to_str().unwrap()]);
     assert!(
         out.status.success(),
         "mix failed: {}",
         String::from_utf8_lossy(&out.stderr)
     );
     let analysis = run_dir.join("analysis");
+
+    // One chart per plot, each a real PNG of the size the command draws.
     for png in ["mixing.png", "ftle.png"] {
-        assert!(is_png(&analysis.join(png)), "{png}");
+        assert_eq!(png_size(&analysis.join(png)), Some((900, 600)), "{png}");
     }
+
+    // Global measures over time, one row per snapshot (t = 0, 0.02, …, 0.6 s).
     let csv = std::fs::read_to_string(analysis.join("mixing.csv")).unwrap();
     let mut lines = csv.lines();
     assert_eq!(
@@ -201,26 +261,71 @@ fn mix_on_a_coarse_two_phase_run_writes_every_output() {
                 .collect()
         })
         .collect();
-    assert_eq!(
-        rows.len(),
-        5,
-        "one row per snapshot at t = 0, 0.025, ..., 0.1 s"
-    );
+    let snapshots = (case.time.end / case.time.snapshot_interval).round() as usize + 1;
+    assert_eq!(rows.len(), snapshots);
+    assert!(rows.iter().all(|r| r.len() == 5));
+    assert_eq!(rows[0][0], 0.0);
+    assert!((rows[snapshots - 1][0] - case.time.end).abs() < 1e-12);
+    assert!(rows.windows(2).all(|w| w[1][0] > w[0][0]), "times increase");
     for row in &rows {
         assert!(row[1] > 0.0 && row[1] <= 1.0 + 1e-9, "intensity {}", row[1]);
-        assert!(row[3] >= 0.0 && row[3].is_finite());
-    }
-    // At t = 0 the FTLE is undefined (no elapsed time); later it is finite.
-    assert!(rows[0][4].is_nan() && rows[4][4].is_finite());
-    for field in ["mix_fields.vti", "mix_particles.vtp"] {
-        let text = std::fs::read_to_string(analysis.join(field)).unwrap();
         assert!(
-            text.starts_with("<?xml") || text.contains("<VTKFile"),
-            "{field}"
+            row[2].is_finite() && row[2] >= 0.0,
+            "Lacey index {}",
+            row[2]
         );
+        assert!(row[3].is_finite() && row[3] >= 0.0, "entropy {}", row[3]);
     }
-    let vti = std::fs::read_to_string(analysis.join("mix_fields.vti")).unwrap();
-    assert!(vti.contains("volume_fraction_syrup") && vti.contains("volume_fraction_water"));
-    let vtp = std::fs::read_to_string(analysis.join("mix_particles.vtp")).unwrap();
-    assert!(vtp.contains("\"ftle\"") && vtp.contains("mixing_entropy"));
+    // At t = 0 the FTLE is undefined (no elapsed time); later it is finite and positive.
+    assert!(rows[0][4].is_nan());
+    assert!(rows[1..].iter().all(|r| r[4].is_finite() && r[4] > 0.0));
+    let (first, last) = (&rows[0], &rows[snapshots - 1]);
+    assert!(
+        last[1] < first[1],
+        "segregation {} → {}: the lid-driven flow mixes",
+        first[1],
+        last[1]
+    );
+    assert!(last[3] > first[3], "entropy {} → {}", first[3], last[3]);
+
+    // Gridded volume fractions: the default grid has cells of two spacings, 10 × 10 here.
+    let (data, columns) = point_arrays(&analysis.join("mix_fields.vti"));
+    let vtkio::model::DataSet::ImageData { extent, .. } = data else {
+        unreachable!()
+    };
+    assert_eq!(extent, vtkio::model::Extent::Ranges([0..=9, 0..=9, 0..=0]));
+    let water = column(&columns, "volume_fraction_water");
+    let syrup = column(&columns, "volume_fraction_syrup");
+    assert_eq!((water.len(), syrup.len()), (100, 100));
+    for (w, s) in water.iter().zip(syrup) {
+        assert!(
+            (0.0..=1.0).contains(w) && (0.0..=1.0).contains(s),
+            "{w}, {s}"
+        );
+        assert!((w + s - 1.0).abs() < 1e-12, "fractions sum to {}", w + s);
+    }
+
+    // Per-particle fields, one value per fluid particle (20 × 20).
+    let (_, columns) = point_arrays(&analysis.join("mix_particles.vtp"));
+    let fluid = 400;
+    let phase = column(&columns, "phase");
+    let mut ids = column(&columns, "id").to_vec();
+    ids.sort_by(f64::total_cmp);
+    ids.dedup();
+    assert_eq!((phase.len(), ids.len()), (fluid, fluid));
+    assert!(phase.iter().all(|&p| p == 0.0 || p == 1.0));
+    // Normalised entropy lies between 0 and ln 2 / S_global (an even local mix), with S_global
+    // from the particle shares (equal particle volumes to within the density variation).
+    let share = phase.iter().filter(|&&p| p == 1.0).count() as f64 / fluid as f64;
+    let global = -(share * share.ln() + (1.0 - share) * (1.0 - share).ln());
+    let ceiling = 2f64.ln() / global * 1.02;
+    let entropy = column(&columns, "mixing_entropy");
+    assert_eq!(entropy.len(), fluid);
+    assert!(
+        entropy.iter().all(|e| (0.0..=ceiling).contains(e)),
+        "entropy outside [0, {ceiling}]"
+    );
+    let ftle = column(&columns, "ftle");
+    assert_eq!(ftle.len(), fluid);
+    assert!(ftle.iter().all(|f| f.is_finite()), "every FTLE finite");
 }
