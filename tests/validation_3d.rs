@@ -6,10 +6,8 @@
 //! not for a wrong 3D kernel normalisation, wall or neighbour search (each of which shows up
 //! as a profile tens of per cent off).
 
-use std::sync::atomic::AtomicBool;
-
 use glam::DVec3;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella::runner::run_plain;
 use lamella_case::Axis;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
@@ -31,15 +29,7 @@ fn startup_poiseuille_in_3d_follows_the_morris_series() {
     assert!(problems.is_empty(), "{problems:?}");
 
     let mut sim = lamella::setup::simulation::<DVec3>(&case).expect("set-up");
-    let stop = AtomicBool::new(false);
-    run_to_end(
-        &mut sim,
-        case.time.end,
-        &mut NoObserver,
-        &stop,
-        ProgressMode::Silent,
-    )
-    .expect("the 3D run finishes");
+    run_plain(&mut sim, case.time.end).expect("the 3D run finishes");
 
     let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
     let plates = PlateGap {

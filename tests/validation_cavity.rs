@@ -5,11 +5,10 @@
 //! `cavity-re100.ron` (40 particles across, c0 = 10 U, no particle shifting, run to 20
 //! lid-transit times L/U).
 
-use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella::runner::run_plain;
 use lamella_post::reference::cavity::{CentrelineTable, GHIA_RE100_U, GHIA_RE100_V};
 use lamella_sph::{Kind, Particles};
 
@@ -71,15 +70,7 @@ fn centreline_velocities_match_ghia_at_re_100() {
         .expect("bundled case loads");
     let started = Instant::now();
     let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
-    let stop = AtomicBool::new(false);
-    run_to_end(
-        &mut sim,
-        case.time.end,
-        &mut NoObserver,
-        &stop,
-        ProgressMode::Silent,
-    )
-    .unwrap_or_else(|failure| panic!("{failure}"));
+    run_plain(&mut sim, case.time.end).unwrap_or_else(|failure| panic!("{failure}"));
     let side = case.extent(0);
     let lid = 0.1;
     let kernel = sim.config().kernel;

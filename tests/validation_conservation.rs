@@ -4,10 +4,8 @@
 //! Astrophys. 30, §3). The box holds two phases of different viscosity and density-weighted
 //! pressure averaging (Hu & Adams 2006), with a drift and a vortex so that momentum is non-zero.
 
-use std::sync::atomic::AtomicBool;
-
 use glam::DVec2;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella::runner::run_plain;
 use lamella_case::{InitialVelocity, Region, ViscosityLaw};
 
 #[test]
@@ -53,15 +51,7 @@ fn mass_is_exact_and_momentum_stays_at_round_off() {
             .map(|i| p.mass[i] * p.velocity[i].length())
             .sum()
     };
-    let stop = AtomicBool::new(false);
-    run_to_end(
-        &mut sim,
-        case.time.end,
-        &mut NoObserver,
-        &stop,
-        ProgressMode::Silent,
-    )
-    .unwrap_or_else(|failure| panic!("{failure}"));
+    run_plain(&mut sim, case.time.end).unwrap_or_else(|failure| panic!("{failure}"));
     let p1 = sim.particles().fluid_momentum();
     let drift = (p1 - p0).length() / scale;
     println!(

@@ -1,11 +1,9 @@
 //! A run that goes bad stops with a message that names the particle, the time, the position
 //! and the likely cause, keeps the last good state, and maps to exit code 1 (run failed).
 
-use std::sync::atomic::AtomicBool;
-
 use glam::DVec2;
 use lamella::Failure;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella::runner::run_plain;
 
 #[test]
 fn a_far_too_low_sound_speed_fails_naming_the_particle() {
@@ -14,14 +12,7 @@ fn a_far_too_low_sound_speed_fails_naming_the_particle() {
     // Sound speed a hundredth of the flow speed: density errors grow far past the bound.
     case.scales.sound_speed = Some(4.0e-5);
     let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
-    let stop = AtomicBool::new(false);
-    let outcome = run_to_end(
-        &mut sim,
-        case.time.end,
-        &mut NoObserver,
-        &stop,
-        ProgressMode::Silent,
-    );
+    let outcome = run_plain(&mut sim, case.time.end);
     let Err(failure) = outcome else {
         panic!("the run should have failed");
     };

@@ -16,11 +16,10 @@
 //! - viscosity ratio 10 with harmonic and with arithmetic pair viscosity: both errors printed,
 //!   and the harmonic mean is asserted to be the closer one (the measured outcome).
 
-use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella::runner::run_plain;
 use lamella_case::{Case, PairViscosity, Region, ViscosityLaw};
 use lamella_post::convergence::fit_observed_order;
 use lamella_post::profile::compare_with_reference;
@@ -99,15 +98,7 @@ fn run_layered(rows: usize, ratio: f64, pair: PairViscosity) -> (Measured, Layer
     let (case, exact) = layered_case(rows, ratio, pair);
     let started = Instant::now();
     let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
-    let stop = AtomicBool::new(false);
-    run_to_end(
-        &mut sim,
-        case.time.end,
-        &mut NoObserver,
-        &stop,
-        ProgressMode::Silent,
-    )
-    .unwrap_or_else(|failure| panic!("{failure}"));
+    run_plain(&mut sim, case.time.end).unwrap_or_else(|failure| panic!("{failure}"));
     let p = sim.particles();
     let (y, u): (Vec<f64>, Vec<f64>) = (0..p.len())
         .filter(|&i| p.kind[i] == Kind::Fluid)

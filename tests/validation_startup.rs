@@ -5,18 +5,16 @@
 //! L2 error of the velocity profile ≤ 3 % at the steady state; the transient profiles are
 //! printed (and checked against a looser 10 % bound, as the start-up has steep early gradients).
 
-use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella::runner::run_plain;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
 use lamella_sph::{Kind, Simulation};
 
 fn advance_to(sim: &mut Simulation<DVec2>, t: f64) {
-    let stop = AtomicBool::new(false);
-    if let Err(failure) = run_to_end(sim, t, &mut NoObserver, &stop, ProgressMode::Silent) {
+    if let Err(failure) = run_plain(sim, t) {
         panic!("{failure}");
     }
 }

@@ -3,11 +3,10 @@
 //! and the kinetic energy as exp(−4νk²t). Bound: the fitted kinetic-energy decay rate within
 //! 5 % of 4νk². Case: the bundled `taylor-green.ron` (Re = 5, 40 particles across).
 
-use std::sync::atomic::AtomicBool;
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
+use lamella::runner::run_plain;
 use lamella_post::fit::linear_fit;
 use lamella_post::reference::taylor_green::TaylorGreen;
 
@@ -24,14 +23,12 @@ fn kinetic_energy_decays_at_the_viscous_rate() {
         nu,
     };
     let k = exact.wavenumber();
-    let stop = AtomicBool::new(false);
     let samples = 20;
     let (mut t, mut log_energy) = (Vec::new(), Vec::new());
     for s in 0..=samples {
         let time = case.time.end * s as f64 / samples as f64;
         if time > 0.0 {
-            run_to_end(&mut sim, time, &mut NoObserver, &stop, ProgressMode::Silent)
-                .unwrap_or_else(|failure| panic!("{failure}"));
+            run_plain(&mut sim, time).unwrap_or_else(|failure| panic!("{failure}"));
         }
         t.push(sim.time());
         log_energy.push(sim.particles().fluid_kinetic_energy().ln());

@@ -157,6 +157,14 @@ pub fn run_to_end<V: Vector>(
     })
 }
 
+/// Steps `sim` to `end_time` (s) with no observer, no progress display and no stop request:
+/// the plain run of a test, a benchmark or a program using Lamella as a library. Errors as
+/// [`run_to_end`].
+pub fn run_plain<V: Vector>(sim: &mut Simulation<V>, end_time: f64) -> Result<RunSummary, Failure> {
+    let never = AtomicBool::new(false);
+    run_to_end(sim, end_time, &mut NoObserver, &never, ProgressMode::Silent)
+}
+
 fn limit_index(limit: Limit) -> usize {
     match limit {
         Limit::Acoustic => 0,
