@@ -243,6 +243,26 @@ mod tests {
     use crate::walls::interaction_states;
     use glam::DVec2;
 
+    /// Rate parameters with δ = 0.1, c0 = 10 m/s and no viscous normalisation.
+    fn test_parameters<'a>(
+        kernel: Kernel,
+        reference_density: &'a [f64],
+        inverse_reference_density: &'a [f64],
+        body_force: DVec2,
+        pair_viscosity: PairViscosity,
+    ) -> RateParameters<'a, DVec2> {
+        RateParameters {
+            kernel,
+            body_force,
+            pair_viscosity,
+            density_diffusion: 0.1,
+            sound_speed: 10.0,
+            reference_density,
+            inverse_reference_density,
+            viscous_normalisation: 1.0,
+        }
+    }
+
     #[test]
     fn pair_means_reduce_to_the_common_value_and_order_correctly() {
         for rule in [PairViscosity::Harmonic, PairViscosity::Arithmetic] {
@@ -291,16 +311,14 @@ mod tests {
         let rho0 = [1000.0, 1000.0];
         let mut seen = vec![InteractionState::default(); p.len()];
         interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
-        let params = RateParameters {
+        let inverse = rho0.map(|r| 1.0 / r);
+        let params = test_parameters(
             kernel,
-            body_force: DVec2::ZERO,
-            pair_viscosity: PairViscosity::Harmonic,
-            density_diffusion: 0.1,
-            sound_speed: 10.0,
-            reference_density: &rho0,
-            inverse_reference_density: &rho0.map(|r| 1.0 / r),
-            viscous_normalisation: 1.0,
-        };
+            &rho0,
+            &inverse,
+            DVec2::ZERO,
+            PairViscosity::Harmonic,
+        );
         let mut rates = vec![Rates::default(); p.len()];
         particle_rates(&params, &p, &seen, &nb, &mut rates);
         let momentum_rate: DVec2 = rates
@@ -364,16 +382,14 @@ mod tests {
         let rho0 = [1000.0];
         let mut seen = vec![InteractionState::default(); p.len()];
         interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
-        let params = RateParameters {
+        let inverse = rho0.map(|r| 1.0 / r);
+        let params = test_parameters(
             kernel,
-            body_force: DVec2::ZERO,
-            pair_viscosity: PairViscosity::Harmonic,
-            density_diffusion: 0.1,
-            sound_speed: 10.0,
-            reference_density: &rho0,
-            inverse_reference_density: &rho0.map(|r| 1.0 / r),
-            viscous_normalisation: 1.0,
-        };
+            &rho0,
+            &inverse,
+            DVec2::ZERO,
+            PairViscosity::Harmonic,
+        );
         let mut rates = vec![1.0; p.len()];
         density_rates(&params, &p, &p.velocity, &seen, &nb, &mut rates);
         assert!(rates.iter().all(|&r| r == 0.0), "{rates:?}");
@@ -405,16 +421,14 @@ mod tests {
         let rho0 = [1000.0];
         let mut seen = vec![InteractionState::default(); p.len()];
         interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
-        let params = RateParameters {
+        let inverse = rho0.map(|r| 1.0 / r);
+        let params = test_parameters(
             kernel,
-            body_force: DVec2::new(0.5, 0.0),
-            pair_viscosity: PairViscosity::Arithmetic,
-            density_diffusion: 0.1,
-            sound_speed: 10.0,
-            reference_density: &rho0,
-            inverse_reference_density: &rho0.map(|r| 1.0 / r),
-            viscous_normalisation: 1.0,
-        };
+            &rho0,
+            &inverse,
+            DVec2::new(0.5, 0.0),
+            PairViscosity::Arithmetic,
+        );
         let mut rates = vec![Rates::default(); p.len()];
         particle_rates(&params, &p, &seen, &nb, &mut rates);
         // Row 5 is far from the periodic seam in y, where the linear profile breaks.
