@@ -127,6 +127,14 @@ pub struct GrowthFit {
 }
 
 impl GrowthFit {
+    /// One line for people: rate, 95 % interval, points, window and R².
+    pub fn summary(&self) -> String {
+        format!(
+            "growth rate {:.4e} ± {:.2e} 1/s (95 %, {} points, t = {:.4}..{:.4} s, R² = {:.4})",
+            self.rate, self.rate_ci95, self.points, self.start, self.end, self.r_squared
+        )
+    }
+
     /// Fitted amplitude at time t (m).
     pub fn amplitude(&self, t: f64) -> f64 {
         self.amplitude_at_zero * (self.rate * t).exp()

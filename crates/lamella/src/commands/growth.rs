@@ -95,15 +95,10 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     write_file(&out_dir.join("growth.png"), &png)?;
     if !globals.quiet {
         println!(
-            "onset at t = {:.4} s (max displacement > {threshold:.3e} m); growth rate {:.4e} ± {:.2e} 1/s \
-             (95 %, {} points, t = {:.4}..{:.4} s, R² = {:.4}); dominant wavelength {:.4e} m (mode {} of {:.4e} m)",
+            "onset at t = {:.4} s (max displacement > {threshold:.3e} m); {}; dominant wavelength \
+             {:.4e} m (mode {} of {:.4e} m)",
             time[*onset],
-            fit.rate,
-            fit.rate_ci95,
-            fit.points,
-            fit.start,
-            fit.end,
-            fit.r_squared,
+            fit.summary(),
             mode.wavelength,
             mode.mode,
             period

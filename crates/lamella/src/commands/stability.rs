@@ -308,13 +308,8 @@ fn compare(
     let fit = &measured.fit;
     writeln!(
         report,
-        "measured in {dir} (fit as `lamella growth`):\n  growth rate {:.4e} ± {:.2e} 1/s (95 %, {} points, t = {:.4}..{:.4} s, R² = {:.4}); dominant wavelength {:.4e} m",
-        fit.rate,
-        fit.rate_ci95,
-        fit.points,
-        fit.start,
-        fit.end,
-        fit.r_squared,
+        "measured in {dir} (fit as `lamella growth`):\n  {}; dominant wavelength {:.4e} m",
+        fit.summary(),
         measured.mode.wavelength
     )
     .ok();
