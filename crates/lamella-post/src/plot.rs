@@ -1,5 +1,6 @@
-//! Line and scatter charts rendered to PNG bytes (plotters bitmap backend, PNG encoding by the
-//! `png` crate), so callers decide where and how the file is written.
+//! Line and scatter charts, and coloured maps of fields ([`field_map`]) and particles
+//! ([`scatter_map`]), rendered to PNG bytes (plotters bitmap backend, PNG encoding by the `png`
+//! crate), so callers decide where and how the file is written.
 //!
 //! Text uses DejaVu Sans, embedded through the `dejavu` crate (fonts under the DejaVu/Bitstream
 //! Vera licence, the crate under MIT/Apache-2.0) and registered with plotters' `ab_glyph`
@@ -14,6 +15,9 @@ use std::sync::OnceLock;
 use plotters::coord::ranged1d::{AsRangedCoord, ValueFormatter};
 use plotters::prelude::*;
 use thiserror::Error;
+
+mod map;
+pub use map::{MapFrame, field_map, scatter_map};
 
 /// Family name the embedded font is registered under.
 const FONT: &str = "sans-serif";

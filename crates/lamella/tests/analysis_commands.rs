@@ -4,8 +4,8 @@
 //!   (`tests/validation_layered.rs`) computes from the in-memory particles of the same case,
 //!   against Bird, Stewart & Lightfoot, Transport Phenomena, 2nd ed., §2.5.
 //! - `growth` refuses, with exit code 2 and a clear message, a run whose interface never moves.
-//! - `mix` on a low-resolution two-phase cavity run writes every output, each chart a real
-//!   PNG, each value in its range.
+//! - `mix` on a low-resolution two-phase cavity run writes every output, each chart and map a
+//!   real PNG of the expected size and more than one colour, each value in its range.
 
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
@@ -169,6 +169,21 @@ fn png_size(path: &Path) -> Option<(u32, u32)> {
     Some((word(16), word(20)))
 }
 
+/// Number of distinct colours in a PNG file, decoded to 8-bit RGB(A).
+fn distinct_colours(path: &Path) -> usize {
+    let file = std::io::BufReader::new(std::fs::File::open(path).unwrap());
+    let mut decoder = png::Decoder::new(file);
+    decoder.set_transformations(png::Transformations::EXPAND);
+    let mut reader = decoder.read_info().unwrap();
+    let mut buf = vec![0; reader.output_buffer_size()];
+    let info = reader.next_frame(&mut buf).unwrap();
+    let channels = info.color_type.samples();
+    let mut colours: Vec<&[u8]> = buf[..info.buffer_size()].chunks(channels).collect();
+    colours.sort_unstable();
+    colours.dedup();
+    colours.len()
+}
+
 /// The point arrays of a VTK XML file with one inline piece, as Float64 columns by name.
 fn point_arrays(path: &Path) -> (vtkio::model::DataSet, Vec<(String, Vec<f64>)>) {
     use vtkio::model::{Attribute, DataSet, Piece};
@@ -212,8 +227,9 @@ fn column<'a>(columns: &'a [(String, Vec<f64>)], name: &str) -> &'a [f64] {
 /// across instead of 30, run to its end with `lamella run`, then `lamella mix` on every snapshot.
 /// Checks that each output exists and holds sane values: the CSV of global measures (ranges of
 /// Danckwerts 1952 and Lacey 1954; the lid-driven flow lowers the intensity of segregation and
-/// raises the mean mixing entropy), one PNG per chart, the gridded volume fractions (.vti, each in
-/// [0, 1], summing to 1) and the per-particle fields (.vtp, one value per fluid particle).
+/// raises the mean mixing entropy), one PNG per chart over time and one PNG map per field, the
+/// gridded volume fractions (.vti, each in [0, 1], summing to 1) and the per-particle fields
+/// (.vtp, one value per fluid particle).
 #[test]
 fn mix_on_a_coarse_two_phase_cavity_writes_every_output() {
     let dir = tempfile::tempdir().unwrap();
@@ -242,10 +258,28 @@ fn mix_on_a_coarse_two_phase_cavity_writes_every_output() {
     );
     let analysis = run_dir.join("analysis");
 
-    // One chart per plot, each a real PNG of the size the command draws.
-    for png in ["mixing.png", "ftle.png"] {
-        assert_eq!(png_size(&analysis.join(png)), Some((900, 600)), "{png}");
+    // One chart per measure over time and one map per field at the last snapshot, each a real
+    // PNG of the size the command draws, not blank. The maps have a 640 × 640 plot area (the
+    // cavity is square) plus 234 px of axis, colour bar and margins across and 108 px of title,
+    // axis and margins down.
+    let charts = [("mixing.png", (900, 600)), ("mean_ftle.png", (900, 600))];
+    let maps = [
+        "volume_fraction_water.png",
+        "volume_fraction_syrup.png",
+        "mixing_entropy.png",
+        "ftle.png",
+    ]
+    .map(|m| (m, (640 + 234, 640 + 108)));
+    for (png, size) in charts.into_iter().chain(maps) {
+        let path = analysis.join(png);
+        assert_eq!(png_size(&path), Some(size), "{png}");
+        assert!(distinct_colours(&path) > 1, "{png} is a single colour");
     }
+    assert_ne!(
+        std::fs::read(analysis.join("volume_fraction_water.png")).unwrap(),
+        std::fs::read(analysis.join("volume_fraction_syrup.png")).unwrap(),
+        "one map per phase"
+    );
 
     // Global measures over time, one row per snapshot (t = 0, 0.02, …, 0.6 s).
     let csv = std::fs::read_to_string(analysis.join("mixing.csv")).unwrap();

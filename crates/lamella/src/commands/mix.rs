@@ -1,8 +1,9 @@
 //! `lamella mix DIR`: how far the phases have mixed, snapshot by snapshot: gridded volume
 //! fractions, per-particle mixing entropy and finite-time Lyapunov exponent, and the global
-//! Danckwerts intensity of segregation, Lacey index, mean mixing entropy and mean FTLE.
+//! Danckwerts intensity of segregation, Lacey index, mean mixing entropy and mean FTLE; as CSV,
+//! charts over time, VTK fields and PNG maps of the fields ([`maps`]).
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use glam::{DVec2, DVec3};
 use lamella_cells::{Domain, Vector};
@@ -23,12 +24,20 @@ use crate::cli::Globals;
 use crate::commands::analysis::{Run, parse_list, write_file};
 use crate::output::Snapshot;
 
+mod maps;
+
 /// Options of `lamella mix`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "Writes mixing.csv, mixing.png, ftle.png, mix_fields.vti and \
-    mix_particles.vtp into --out [default: DIR/analysis]. Exit codes: 0 done, 1 a file could \
-    not be written, 2 bad input."
+    after_help = "Writes into --out [default: DIR/analysis]: mixing.csv (the global measures \
+    of every snapshot), mixing.png and mean_ftle.png (those measures over time); and, at the \
+    last snapshot or the one closest to --time, mix_fields.vti (volume fraction of each phase \
+    on the grid), mix_particles.vtp (phase, id, mixing_entropy and ftle of each fluid \
+    particle) and the maps volume_fraction_<phase>.png (one per phase, on the grid), \
+    mixing_entropy.png and ftle.png (the particles as small squares coloured by value), each \
+    with a colour bar and the domain's aspect ratio; in 3D the maps show the middle z slice. \
+    There is no FTLE at t = 0, so ftle.png is not drawn for that snapshot. Exit codes: 0 \
+    done, 1 a file could not be written, 2 bad input."
 )]
 pub struct Args {
     /// The run folder written by `lamella run`.
@@ -37,7 +46,8 @@ pub struct Args {
     /// Grid cells per axis, NX,NY[,NZ] [default: one cell per two particle spacings].
     #[arg(long, value_name = "NX,NY")]
     pub grid: Option<String>,
-    /// Time of the snapshot whose fields are written (s); the closest is taken [default: the last].
+    /// Time of the snapshot whose fields and maps are written (s); the closest is taken
+    /// [default: the last].
     #[arg(long, value_name = "T")]
     pub time: Option<f64>,
     /// Folder for the results [default: DIR/analysis].
@@ -103,19 +113,21 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
     let out_dir = run.output_folder(args.out.as_deref())?;
 
     let mut rows: Vec<(f64, Scalars)> = Vec::new();
+    let mut notes = Vec::new();
     for entry in &run.entries {
         let snap = run.read(entry)?;
-        let write_fields = entry.file == field_entry;
-        let scalars = analyse::<V>(
-            &snap,
-            &grid,
-            domain,
-            &kernel,
-            radius,
-            phases,
-            write_fields.then_some((&out_dir, case)),
-        )
-        .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
+        let (scalars, fields) = analyse::<V>(&snap, &grid, domain, &kernel, radius, phases)
+            .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
+        if entry.file == field_entry {
+            write_vtk(&out_dir, case, &grid, &fields)?;
+            let layout = maps::Layout {
+                time: snap.meta.time,
+                grid: &grid,
+                domain,
+                spacing: dx,
+            };
+            notes = maps::write_maps(&out_dir, case, &layout, &fields)?;
+        }
         rows.push((snap.meta.time, scalars));
     }
     let col = |f: fn(&Scalars) -> f64| rows.iter().map(|(_, s)| f(s)).collect::<Vec<f64>>();
@@ -169,12 +181,15 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         series: vec![line("mean FTLE since t = 0", &l)],
     };
     match chart.to_png(900, 600) {
-        Ok(png) => write_file(&out_dir.join("ftle.png"), &png)?,
+        Ok(png) => write_file(&out_dir.join("mean_ftle.png"), &png)?,
         Err(e) => {
             return Err(Failure::BadInput(format!(
                 "{e}: the run needs snapshots after t = 0 for an FTLE"
             )));
         }
+    }
+    for note in &notes {
+        eprintln!("note: {note}");
     }
     if !globals.quiet {
         let (t, last) = rows.last().expect("a run has snapshots");
@@ -200,6 +215,22 @@ fn mean_finite(values: &[f64]) -> f64 {
     }
 }
 
+/// What `mix` computes at one snapshot on the fluid particles, besides the global scalars.
+struct Fields<V: Vector> {
+    /// Volume fractions at the grid nodes, phase fastest (`phases` per node).
+    fractions: Vec<f64>,
+    /// Particle positions (m).
+    position: Vec<V>,
+    /// Particle phase indices.
+    phase: Vec<usize>,
+    /// Particle identities.
+    id: Vec<u64>,
+    /// Normalised local mixing entropy per particle (1).
+    entropy: Vec<f64>,
+    /// Finite-time Lyapunov exponent per particle (1/s).
+    ftle: Vec<f64>,
+}
+
 fn analyse<V: Vector>(
     snap: &Snapshot,
     grid: &Grid<V>,
@@ -207,8 +238,7 @@ fn analyse<V: Vector>(
     kernel: &Kernel,
     radius: f64,
     phases: usize,
-    fields: Option<(&PathBuf, &lamella_case::Case)>,
-) -> Result<Scalars, String> {
+) -> Result<(Scalars, Fields<V>), String> {
     let fluid: Vec<usize> = (0..snap.len())
         .filter(|&i| snap.kind[i] == Kind::Fluid)
         .collect();
@@ -248,7 +278,7 @@ fn analyse<V: Vector>(
     }
     let (mut intensity, mut lacey) = (0.0, 0.0);
     for k in 0..phases {
-        let c: Vec<f64> = (0..grid.len()).map(|n| frac[n * phases + k]).collect();
+        let c = phase_column(&frac, phases, k);
         intensity +=
             intensity_of_segregation(&c, &occupied).map_err(|e| e.to_string())? / phases as f64;
         let b: Vec<f64> = (0..grid.len())
@@ -275,60 +305,83 @@ fn analyse<V: Vector>(
         |r| kernel.gradient_factor(r),
     );
     let exponents = ftle(&gradients, V::DIM, snap.meta.time);
-    if let Some((out_dir, case)) = fields {
-        let names: Vec<String> = case
-            .phases
-            .iter()
-            .map(|p| format!("volume_fraction_{}", p.name))
-            .collect();
-        let columns: Vec<Vec<f64>> = (0..phases)
-            .map(|k| (0..grid.len()).map(|n| frac[n * phases + k]).collect())
-            .collect();
-        let fields: Vec<Field<'_>> = names
-            .iter()
-            .zip(&columns)
-            .map(|(n, c)| Field {
-                name: n,
-                components: 1,
-                values: c,
-            })
-            .collect();
-        let vti = image_document(grid, &fields)?;
-        write_file(&out_dir.join("mix_fields.vti"), vti.as_bytes()).map_err(|e| e.to_string())?;
-        let phase_f: Vec<f64> = phase.iter().map(|&p| p as f64).collect();
-        let id: Vec<f64> = fluid.iter().map(|&i| snap.id[i] as f64).collect();
-        let vtp = points_document(
-            &pos,
-            &[
-                Field {
-                    name: "phase",
-                    components: 1,
-                    values: &phase_f,
-                },
-                Field {
-                    name: "id",
-                    components: 1,
-                    values: &id,
-                },
-                Field {
-                    name: "mixing_entropy",
-                    components: 1,
-                    values: &entropy,
-                },
-                Field {
-                    name: "ftle",
-                    components: 1,
-                    values: &exponents,
-                },
-            ],
-        )?;
-        write_file(&out_dir.join("mix_particles.vtp"), vtp.as_bytes())
-            .map_err(|e| e.to_string())?;
-    }
-    Ok(Scalars {
+    let scalars = Scalars {
         intensity,
         lacey,
         entropy: mean_finite(&entropy),
         ftle: mean_finite(&exponents),
-    })
+    };
+    let fields = Fields {
+        fractions: frac,
+        position: pos,
+        phase,
+        id: fluid.iter().map(|&i| snap.id[i]).collect(),
+        entropy,
+        ftle: exponents,
+    };
+    Ok((scalars, fields))
+}
+
+/// Writes the gridded volume fractions (`mix_fields.vti`) and the per-particle fields
+/// (`mix_particles.vtp`).
+fn write_vtk<V: Vector>(
+    out_dir: &Path,
+    case: &lamella_case::Case,
+    grid: &Grid<V>,
+    fields: &Fields<V>,
+) -> Result<(), Failure> {
+    let phases = case.phases.len();
+    let names: Vec<String> = case
+        .phases
+        .iter()
+        .map(|p| format!("volume_fraction_{}", p.name))
+        .collect();
+    let columns: Vec<Vec<f64>> = (0..phases)
+        .map(|k| phase_column(&fields.fractions, phases, k))
+        .collect();
+    let gridded: Vec<Field<'_>> = names
+        .iter()
+        .zip(&columns)
+        .map(|(n, c)| Field {
+            name: n,
+            components: 1,
+            values: c,
+        })
+        .collect();
+    let vti = image_document(grid, &gridded).map_err(Failure::RunFailed)?;
+    write_file(&out_dir.join("mix_fields.vti"), vti.as_bytes())?;
+    let phase: Vec<f64> = fields.phase.iter().map(|&p| p as f64).collect();
+    let id: Vec<f64> = fields.id.iter().map(|&i| i as f64).collect();
+    let vtp = points_document(
+        &fields.position,
+        &[
+            Field {
+                name: "phase",
+                components: 1,
+                values: &phase,
+            },
+            Field {
+                name: "id",
+                components: 1,
+                values: &id,
+            },
+            Field {
+                name: "mixing_entropy",
+                components: 1,
+                values: &fields.entropy,
+            },
+            Field {
+                name: "ftle",
+                components: 1,
+                values: &fields.ftle,
+            },
+        ],
+    )
+    .map_err(Failure::RunFailed)?;
+    write_file(&out_dir.join("mix_particles.vtp"), vtp.as_bytes())
+}
+
+/// Column `k` of node-major values with `phases` per node.
+fn phase_column(fractions: &[f64], phases: usize, k: usize) -> Vec<f64> {
+    fractions.iter().skip(k).step_by(phases).copied().collect()
 }
