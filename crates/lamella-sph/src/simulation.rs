@@ -388,46 +388,58 @@ impl<V: Vector> Simulation<V> {
             let rho0 = self.config.reference_density[p.phase[i] as usize];
             (s.next_density[i] / rho0 - 1.0).abs()
         };
-        let cause_at = |i: usize| -> Option<FaultCause> {
-            if p.kind[i] != Kind::Fluid {
-                return None;
-            }
+        // The fault of fluid particle i, if any, and its density deviation.
+        let check = |i: usize| -> (Option<FaultCause>, f64) {
             let (x, v, rho) = (s.next_position[i], s.next_velocity[i], s.next_density[i]);
             if !(x.is_finite_vector() && v.is_finite_vector() && rho.is_finite()) {
-                return Some(FaultCause::NonFinite);
+                return (Some(FaultCause::NonFinite), 0.0);
             }
             let relative = deviation(i);
             if relative > self.config.density_tolerance {
-                return Some(FaultCause::DensityDeviation {
+                let cause = FaultCause::DensityDeviation {
                     relative,
                     tolerance: self.config.density_tolerance,
-                });
+                };
+                return (Some(cause), relative);
             }
-            (0..V::DIM)
+            let left = (0..V::DIM)
                 .filter(|&axis| !self.config.search_domain.is_periodic(axis))
                 .find(|&axis| {
                     let c = x.get(axis);
                     c < self.config.fluid_lower.get(axis) || c > self.config.fluid_upper.get(axis)
                 })
-                .map(|axis| FaultCause::LeftDomain { axis })
+                .map(|axis| FaultCause::LeftDomain { axis });
+            (left, relative)
         };
-        if let Some((i, cause)) = (0..p.len())
+        // One pass: the first fault in array order (smallest index) and the largest deviation,
+        // both exact whatever the split between threads.
+        let (first_fault, worst) = (0..p.len())
             .into_par_iter()
-            .find_map_first(|i| cause_at(i).map(|cause| (i, cause)))
-        {
-            return Err(Fault {
+            .filter(|&i| p.kind[i] == Kind::Fluid)
+            .map(|i| {
+                let (cause, relative) = check(i);
+                (cause.map(|cause| (i, cause)), relative)
+            })
+            .reduce(
+                || (None, 0.0),
+                |(fault_a, worst_a), (fault_b, worst_b)| {
+                    let first = match (fault_a, fault_b) {
+                        (Some(a), Some(b)) => Some(if a.0 <= b.0 { a } else { b }),
+                        (a, b) => a.or(b),
+                    };
+                    (first, f64::max(worst_a, worst_b))
+                },
+            );
+        match first_fault {
+            Some((i, cause)) => Err(Fault {
                 id: p.id[i],
                 position: s.next_position[i],
                 time: self.time,
                 step: self.step,
                 cause,
-            });
+            }),
+            None => Ok(worst),
         }
-        Ok((0..p.len())
-            .into_par_iter()
-            .filter(|&i| p.kind[i] == Kind::Fluid)
-            .map(deviation)
-            .reduce(|| 0.0, f64::max))
     }
 
     fn search_fault(&self, error: CellError) -> Fault<V> {
