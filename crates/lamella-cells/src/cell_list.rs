@@ -4,6 +4,9 @@ use rayon::prelude::*;
 
 use crate::domain::fold;
 use crate::grid::{CellOrder, Grid, morton_ranks};
+#[cfg(target_arch = "x86_64")]
+use crate::scan::scan_avx512;
+use crate::scan::{Query, avx512_available, scan};
 use crate::{CellError, Domain, Vector};
 
 /// Particles per block when binning in parallel.
@@ -54,6 +57,8 @@ pub struct CellList<V: Vector> {
     sorted_cell: Vec<u32>,
     /// Per-block cell histograms, reused between rebuilds.
     histograms: Vec<u32>,
+    /// Test candidates with the AVX-512 scan (same results as the portable one).
+    vector_scan: bool,
 }
 
 impl<V: Vector> CellList<V> {
@@ -111,6 +116,7 @@ impl<V: Vector> CellList<V> {
             permutation: Vec::new(),
             sorted_cell: Vec::new(),
             histograms: Vec::new(),
+            vector_scan: avx512_available(),
         })
     }
 
@@ -148,6 +154,19 @@ impl<V: Vector> CellList<V> {
     /// that goes `k`-th: sorted by cell, and by index within a cell.
     pub fn permutation(&self) -> &[u32] {
         &self.permutation
+    }
+
+    /// Makes queries test candidates with the portable scan even where the AVX-512 one
+    /// could run (both give the same neighbours, in the same order, bit for bit; this is
+    /// for comparing them).
+    pub fn use_portable_scan(&mut self) {
+        self.vector_scan = false;
+    }
+
+    /// True when queries test candidates eight at a time with AVX-512 (detected when the
+    /// list is made).
+    pub fn uses_vector_scan(&self) -> bool {
+        self.vector_scan
     }
 
     /// Heap bytes held by the structure (capacity × element size of every buffer).
@@ -368,10 +387,26 @@ impl<V: Vector> CellList<V> {
         image: impl Fn(V) -> V + Copy,
         f: &mut F,
     ) {
-        let radius_squared = self.radius_squared;
+        let mut ranges = [(0u32, 0u32); 27];
+        let mut count = 0;
         self.for_each_stencil_range(id, |a, b| {
-            scan(positions, xi, i, a.max(first), b, radius_squared, image, f)
+            ranges[count] = (a.max(first) as u32, b as u32);
+            count += 1;
         });
+        let query = Query {
+            i,
+            xi,
+            radius_squared: self.radius_squared,
+        };
+        #[cfg(target_arch = "x86_64")]
+        if self.vector_scan {
+            // SAFETY: `vector_scan` is set only when the processor has AVX-512F, and the
+            // ranges come from `cell_start`, whose entries are at most the particle count,
+            // which `visit` checked equals `positions.len()`.
+            unsafe { scan_avx512(positions, query, &ranges[..count], self.period, image, f) };
+            return;
+        }
+        scan(positions, query, &ranges[..count], image, f);
     }
 
     /// Calls `range(a, b)` for the sorted-index ranges of the stencil cells around cell
@@ -430,46 +465,6 @@ impl<V: Vector> CellList<V> {
                 }
             }
         }
-    }
-}
-
-/// Candidates tested per block before the hits are handed to the visitor.
-const SCAN_BLOCK: usize = 64;
-
-/// Visits the candidates `a..b` closer than `sqrt(radius_squared)` to `xi` (skipping `i`):
-/// candidates are tested a block at a time without branching and the offsets of the hits
-/// collected, so that the visitor (and the square root) runs only for neighbours.
-#[inline(always)]
-#[allow(clippy::too_many_arguments)]
-fn scan<V: Vector, F: FnMut(usize, V, f64)>(
-    positions: &[V],
-    xi: V,
-    i: usize,
-    a: usize,
-    b: usize,
-    radius_squared: f64,
-    image: impl Fn(V) -> V,
-    f: &mut F,
-) {
-    let mut hit_offsets = [0u8; SCAN_BLOCK];
-    let mut start = a;
-    while start < b {
-        let end = (start + SCAN_BLOCK).min(b);
-        let block = &positions[start..end];
-        let mut hits = 0;
-        for (offset, &xj) in block.iter().enumerate() {
-            let d2 = image(xi - xj).length_squared();
-            hit_offsets[hits] = offset as u8;
-            hits += usize::from(d2 < radius_squared);
-        }
-        for &offset in &hit_offsets[..hits] {
-            let j = start + offset as usize;
-            if j != i {
-                let r = image(xi - block[offset as usize]);
-                f(j, r, r.length_squared().sqrt());
-            }
-        }
-        start = end;
     }
 }
 

@@ -91,8 +91,9 @@ impl Grid {
                 });
             }
             let n = self.dims[axis];
-            // `c - lo` is in [0, extent], so the product is in [0, n]: clamp the top edge.
-            let k = (((c - lo) * self.inv_width[axis]) as usize).min(n - 1);
+            // `c - lo` is in [0, extent], so the product is in [0, n] (n < 2^28): clamp the
+            // top edge. Through `i32`: the float-to-integer conversion is one instruction.
+            let k = ((((c - lo) * self.inv_width[axis]) as i32) as usize).min(n - 1);
             id = id * n + k;
         }
         Ok(id)

@@ -10,6 +10,7 @@ mod domain;
 mod error;
 mod grid;
 mod permute;
+mod scan;
 mod vector;
 
 pub use cell_list::{CellList, GridOptions, MAX_PARTICLES};

@@ -38,6 +38,8 @@ pub trait Vector:
     fn set(&mut self, axis: usize, value: f64);
     /// Builds a vector component by component.
     fn from_fn(f: impl FnMut(usize) -> f64) -> Self;
+    /// The components of `points` as one flat slice (`x0, y0, [z0,] x1, ...`).
+    fn flatten(points: &[Self]) -> &[f64];
 
     /// Squared Euclidean length.
     #[inline]
@@ -76,6 +78,10 @@ impl Vector for DVec2 {
     fn from_fn(mut f: impl FnMut(usize) -> f64) -> Self {
         DVec2::new(f(0), f(1))
     }
+    #[inline]
+    fn flatten(points: &[Self]) -> &[f64] {
+        bytemuck::cast_slice(points)
+    }
 }
 
 impl Vector for DVec3 {
@@ -98,6 +104,10 @@ impl Vector for DVec3 {
     fn from_fn(mut f: impl FnMut(usize) -> f64) -> Self {
         DVec3::new(f(0), f(1), f(2))
     }
+    #[inline]
+    fn flatten(points: &[Self]) -> &[f64] {
+        bytemuck::cast_slice(points)
+    }
 }
 
 #[cfg(test)]
@@ -113,5 +123,8 @@ mod tests {
         assert_eq!(b.length(), 4.0);
         assert_eq!(<DVec3 as Vector>::DIM, 3);
         assert!(!DVec2::new(f64::NAN, 0.0).is_finite_vector());
+        let points = [DVec3::new(1.0, 2.0, 3.0), DVec3::new(4.0, 5.0, 6.0)];
+        assert_eq!(DVec3::flatten(&points), &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0]);
+        assert_eq!(DVec2::flatten(&[DVec2::new(7.0, 8.0)]), &[7.0, 8.0]);
     }
 }
