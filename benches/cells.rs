@@ -145,6 +145,18 @@ fn neighbour_search(c: &mut Criterion) {
                     })
                 });
             }
+            if threads == "1t" && lists[0].1.uses_vector_scan() {
+                // The same list with the portable candidate test (what a processor without
+                // AVX-512 runs).
+                let (_, list, positions) = &lists[0];
+                let mut list = list.clone();
+                list.use_portable_scan();
+                group.bench_function(BenchmarkId::new("cells_portable", threads), |b| {
+                    b.iter(|| {
+                        pool.install(|| cells_result = cells_pass(&mut list, black_box(positions)))
+                    })
+                });
+            }
             group.bench_function(BenchmarkId::new("kiddo", threads), |b| {
                 b.iter(|| {
                     pool.install(|| black_box(kiddo_pass(black_box(&points), threads != "1t")))

@@ -220,10 +220,25 @@ impl<V: Vector> CellList<V> {
         let grid = &self.grid;
         let rank = &self.rank_of_cell;
         let key_block = |start: usize, keys: &mut [u32], block: &[V]| -> Option<CellError> {
-            for (offset, (key, &x)) in keys.iter_mut().zip(block).enumerate() {
-                match grid.cell_of(x, start + offset) {
-                    Ok(id) => *key = if rank.is_empty() { id as u32 } else { rank[id] },
-                    Err(error) => return Some(error),
+            // Fast path without branches; the checked one (wrapping periodic coordinates,
+            // naming the first bad particle) only for a block with a particle outside.
+            let mut all_inside = true;
+            for (key, &x) in keys.iter_mut().zip(block) {
+                let (id, inside) = grid.cell_of_inside(x);
+                *key = id as u32;
+                all_inside &= inside;
+            }
+            if !all_inside {
+                for (offset, (key, &x)) in keys.iter_mut().zip(block).enumerate() {
+                    match grid.cell_of(x, start + offset) {
+                        Ok(id) => *key = id as u32,
+                        Err(error) => return Some(error),
+                    }
+                }
+            }
+            if !rank.is_empty() {
+                for key in keys.iter_mut() {
+                    *key = rank[*key as usize];
                 }
             }
             None

@@ -99,12 +99,36 @@ impl Grid {
         Ok(id)
     }
 
+    /// Row-major id of the cell holding `x`, and whether `x` is inside the box (on periodic
+    /// axes `[lower, upper)`, on the others `[lower, upper]`; false for non-finite `x`).
+    /// The id is meaningful only when inside: the fast path of binning, without branches;
+    /// [`cell_of`](Self::cell_of) handles the rest.
+    #[inline(always)]
+    pub fn cell_of_inside<V: Vector>(&self, x: V) -> (usize, bool) {
+        let mut id = 0;
+        let mut inside = true;
+        for axis in (0..V::DIM).rev() {
+            let c = x.get(axis);
+            let (lo, up) = (self.lower[axis], self.upper[axis]);
+            let below_top = if self.periodic[axis] { c < up } else { c <= up };
+            inside &= (c >= lo) & below_top;
+            let n = self.dims[axis];
+            let k = (((c - lo) * self.inv_width[axis]) as i32).clamp(0, n as i32 - 1);
+            id = id * n + k as usize;
+        }
+        (id, inside)
+    }
+
     /// Cell coordinates of a row-major cell id.
     #[inline]
     pub fn coords(&self, id: usize) -> [usize; 3] {
-        let x = id % self.dims[0];
-        let rest = id / self.dims[0];
-        [x, rest % self.dims[1], rest / self.dims[1]]
+        // 32-bit divisions (ids are below 2^28), and none for z when the grid is flat.
+        let (id, nx, ny) = (id as u32, self.dims[0] as u32, self.dims[1] as u32);
+        let (x, rest) = (id % nx, id / nx);
+        if self.dims[2] == 1 {
+            return [x as usize, rest as usize, 0];
+        }
+        [x as usize, (rest % ny) as usize, (rest / ny) as usize]
     }
 
     /// Row-major id of cell coordinates.
@@ -196,6 +220,23 @@ mod tests {
         ));
         let p = grid([true, false, false]);
         assert_eq!(p.cell_of(DVec2::new(-1e-18, 0.0), 0).unwrap(), 0);
+        // The fast path agrees inside the box and flags what it cannot bin.
+        for x in [
+            DVec2::new(0.0, 0.0),
+            DVec2::new(0.55, 0.5),
+            DVec2::new(0.999, 0.25),
+        ] {
+            assert_eq!(p.cell_of_inside(x), (p.cell_of(x, 0).unwrap(), true));
+            assert_eq!(g.cell_of_inside(x), (g.cell_of(x, 0).unwrap(), true));
+        }
+        assert_eq!(
+            g.cell_of_inside(DVec2::new(1.0, 0.5)),
+            (g.total() - 1, true)
+        );
+        assert!(!p.cell_of_inside(DVec2::new(1.0, 0.5)).1); // periodic: upper is lower
+        assert!(!p.cell_of_inside(DVec2::new(-1e-18, 0.0)).1);
+        assert!(!g.cell_of_inside(DVec2::new(0.5, 0.5 + 1e-12)).1);
+        assert!(!g.cell_of_inside(DVec2::new(f64::NAN, 0.2)).1);
         assert_eq!(p.cell_of(DVec2::new(1.05, 0.0), 0).unwrap(), 0);
     }
 

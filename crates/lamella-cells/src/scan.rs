@@ -9,6 +9,9 @@
 //! so both find the same neighbours and hand over the same displacements and distances,
 //! bit for bit (tested in `tests/vector_scan.rs`).
 
+#[cfg(target_arch = "x86_64")]
+use std::mem::MaybeUninit;
+
 use crate::Vector;
 
 /// Candidates tested per block by the portable scan before the hits go to the visitor.
@@ -83,11 +86,12 @@ const FOUND_CAPACITY: usize = 64;
 #[cfg(target_arch = "x86_64")]
 const FOUND_SLACK: usize = 16;
 
-/// The neighbours one call of [`find_avx512`] found: index and distance.
+/// The neighbours one call of [`find_avx512`] found: index and distance. Left uninitialised
+/// (zeroing it would cost a tenth of a query); only the entries written are read.
 #[cfg(target_arch = "x86_64")]
 struct Found {
-    index: [u32; FOUND_CAPACITY + FOUND_SLACK],
-    distance: [f64; FOUND_CAPACITY + FOUND_SLACK],
+    index: [MaybeUninit<u32>; FOUND_CAPACITY + FOUND_SLACK],
+    distance: [MaybeUninit<f64>; FOUND_CAPACITY + FOUND_SLACK],
 }
 
 /// [`scan`] with the candidate test eight at a time in AVX-512 registers (2D and 3D):
@@ -109,19 +113,27 @@ pub(crate) unsafe fn scan_avx512<V: Vector, F: FnMut(usize, V, f64)>(
     f: &mut F,
 ) {
     let mut found = Found {
-        index: [0; FOUND_CAPACITY + FOUND_SLACK],
-        distance: [0.0; FOUND_CAPACITY + FOUND_SLACK],
+        index: [MaybeUninit::uninit(); FOUND_CAPACITY + FOUND_SLACK],
+        distance: [MaybeUninit::uninit(); FOUND_CAPACITY + FOUND_SLACK],
     };
     // SAFETY: the caller's conditions are those of `find_avx512`.
     let (count, tested) = unsafe { find_avx512(positions, q, ranges, period, &mut found) };
+    // SAFETY: `find_avx512` wrote the first `count` entries of both arrays.
+    let (index, distance) = unsafe {
+        (
+            std::slice::from_raw_parts(found.index.as_ptr().cast::<u32>(), count),
+            std::slice::from_raw_parts(found.distance.as_ptr().cast::<f64>(), count),
+        )
+    };
     // One pass over the neighbours with no call in between: the visitor's state can stay
     // in registers.
-    let last = positions.len().saturating_sub(1);
-    for (&j, &distance) in found.index[..count].iter().zip(&found.distance[..count]) {
-        // Found indices are in `positions`: `min` changes nothing but proves it without a
-        // branch or panic path (either would keep the visitor's state in memory).
-        let j = (j as usize).min(last);
-        f(j, image(q.xi - positions[j]), distance);
+    if let Some(last) = positions.len().checked_sub(1) {
+        for (&j, &distance) in index.iter().zip(distance) {
+            // Found indices are in `positions`: `min` changes nothing but proves it without
+            // a branch or a panic path (either keeps the visitor's state in memory).
+            let j = (j as usize).min(last);
+            f(j, image(q.xi - positions[j]), distance);
+        }
     }
     // Ranges that would not fit in `found` (crowded cells): the portable way.
     scan(positions, q, &ranges[tested..], image, f);
@@ -265,18 +277,21 @@ unsafe fn find_avx512<V: Vector>(
             // SAFETY: the slots hold 16 `u32` and 8 `f64`, the 64 bytes stored in each.
             unsafe {
                 _mm512_storeu_si512(index_slot.as_mut_ptr().cast(), packed);
-                _mm512_storeu_pd(square_slot.as_mut_ptr(), squares);
+                _mm512_storeu_pd(square_slot.as_mut_ptr().cast(), squares);
             }
             count += mask.count_ones() as usize;
             start += 8;
         }
     }
-    // Squared distances to distances, eight at a time (correctly rounded, as `f64::sqrt`).
-    for chunk in found.distance[..count.next_multiple_of(8)].chunks_exact_mut(8) {
-        // SAFETY: `chunk` holds 8 `f64`.
+    // Squared distances to distances, eight at a time (correctly rounded, as `f64::sqrt`);
+    // the last vector masked to the entries written.
+    for first in (0..count).step_by(8) {
+        let lanes = ((1u32 << (count - first).min(8)) - 1) as u8;
+        let slot = &mut found.distance[first..first + 8];
+        // SAFETY: `slot` holds 8 entries, of which the masked ones were written above.
         unsafe {
-            let roots = _mm512_sqrt_pd(_mm512_loadu_pd(chunk.as_ptr()));
-            _mm512_storeu_pd(chunk.as_mut_ptr(), roots);
+            let squares = _mm512_maskz_loadu_pd(lanes, slot.as_ptr().cast());
+            _mm512_mask_storeu_pd(slot.as_mut_ptr().cast(), lanes, _mm512_sqrt_pd(squares));
         }
     }
     (count, tested)
