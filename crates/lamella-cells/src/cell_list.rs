@@ -222,13 +222,7 @@ impl<V: Vector> CellList<V> {
         let key_block = |start: usize, keys: &mut [u32], block: &[V]| -> Option<CellError> {
             // Fast path without branches; the checked one (wrapping periodic coordinates,
             // naming the first bad particle) only for a block with a particle outside.
-            let mut all_inside = true;
-            for (key, &x) in keys.iter_mut().zip(block) {
-                let (id, inside) = grid.cell_of_inside(x);
-                *key = id as u32;
-                all_inside &= inside;
-            }
-            if !all_inside {
+            if !grid.cells_inside(block, keys) {
                 for (offset, (key, &x)) in keys.iter_mut().zip(block).enumerate() {
                     match grid.cell_of(x, start + offset) {
                         Ok(id) => *key = id as u32,

@@ -2,6 +2,7 @@
 //! laid out in memory.
 
 use crate::domain::wrap_coordinate;
+use crate::prefetch::prefetch;
 use crate::{CellError, Domain, Vector};
 
 /// The most cells one grid may have (keeps cell indices and offsets within `u32`).
@@ -99,24 +100,40 @@ impl Grid {
         Ok(id)
     }
 
-    /// Row-major id of the cell holding `x`, and whether `x` is inside the box (on periodic
-    /// axes `[lower, upper)`, on the others `[lower, upper]`; false for non-finite `x`).
-    /// The id is meaningful only when inside: the fast path of binning, without branches;
-    /// [`cell_of`](Self::cell_of) handles the rest.
-    #[inline(always)]
-    pub fn cell_of_inside<V: Vector>(&self, x: V) -> (usize, bool) {
-        let mut id = 0;
-        let mut inside = true;
-        for axis in (0..V::DIM).rev() {
-            let c = x.get(axis);
-            let (lo, up) = (self.lower[axis], self.upper[axis]);
-            let below_top = if self.periodic[axis] { c < up } else { c <= up };
-            inside &= (c >= lo) & below_top;
-            let n = self.dims[axis];
-            let k = (((c - lo) * self.inv_width[axis]) as i32).clamp(0, n as i32 - 1);
-            id = id * n + k as usize;
+    /// Writes the row-major cell id of each position of `block` into `keys` and returns
+    /// whether all were inside the box (on periodic axes `[lower, upper)`, on the others
+    /// `[lower, upper]`; non-finite coordinates are not). The ids are meaningful only then:
+    /// the fast path of binning, without branches; [`cell_of`](Self::cell_of) handles the rest.
+    pub fn cells_inside<V: Vector>(&self, block: &[V], keys: &mut [u32]) -> bool {
+        let axes = V::DIM;
+        let lower: [f64; 3] = std::array::from_fn(|a| self.lower[a]);
+        let upper: [f64; 3] = std::array::from_fn(|a| self.upper[a]);
+        let inv_width: [f64; 3] = std::array::from_fn(|a| self.inv_width[a]);
+        let last: [i32; 3] = std::array::from_fn(|a| self.dims[a] as i32 - 1);
+        let stride = [1, self.dims[0] as u32, (self.dims[0] * self.dims[1]) as u32];
+        let periodic = self.periodic;
+        let mut all_inside = true;
+        for (index, (key, &x)) in keys.iter_mut().zip(block).enumerate() {
+            if index % 4 == 0 {
+                // About 500 bytes ahead (measured: the hardware prefetcher falls behind).
+                prefetch(block.as_ptr().wrapping_add(index + 32));
+            }
+            let mut id = 0u32;
+            for axis in 0..axes {
+                let c = x.get(axis);
+                let below_top = if periodic[axis] {
+                    c < upper[axis]
+                } else {
+                    c <= upper[axis]
+                };
+                all_inside &= (c >= lower[axis]) & below_top;
+                // In [0, n] inside the box (n < 2^28); the clamp only guards the top edge.
+                let k = (((c - lower[axis]) * inv_width[axis]) as i32).clamp(0, last[axis]);
+                id += k as u32 * stride[axis];
+            }
+            *key = id;
         }
-        (id, inside)
+        all_inside
     }
 
     /// Cell coordinates of a row-major cell id.
@@ -221,22 +238,25 @@ mod tests {
         let p = grid([true, false, false]);
         assert_eq!(p.cell_of(DVec2::new(-1e-18, 0.0), 0).unwrap(), 0);
         // The fast path agrees inside the box and flags what it cannot bin.
-        for x in [
+        let inside = [
             DVec2::new(0.0, 0.0),
             DVec2::new(0.55, 0.5),
             DVec2::new(0.999, 0.25),
-        ] {
-            assert_eq!(p.cell_of_inside(x), (p.cell_of(x, 0).unwrap(), true));
-            assert_eq!(g.cell_of_inside(x), (g.cell_of(x, 0).unwrap(), true));
+        ];
+        let mut keys = [0u32; 3];
+        for grid in [&g, &p] {
+            assert!(grid.cells_inside(&inside, &mut keys));
+            for (x, &key) in inside.iter().zip(&keys) {
+                assert_eq!(key as usize, grid.cell_of(*x, 0).unwrap());
+            }
         }
-        assert_eq!(
-            g.cell_of_inside(DVec2::new(1.0, 0.5)),
-            (g.total() - 1, true)
-        );
-        assert!(!p.cell_of_inside(DVec2::new(1.0, 0.5)).1); // periodic: upper is lower
-        assert!(!p.cell_of_inside(DVec2::new(-1e-18, 0.0)).1);
-        assert!(!g.cell_of_inside(DVec2::new(0.5, 0.5 + 1e-12)).1);
-        assert!(!g.cell_of_inside(DVec2::new(f64::NAN, 0.2)).1);
+        let mut key = [0u32; 1];
+        assert!(g.cells_inside(&[DVec2::new(1.0, 0.5)], &mut key));
+        assert_eq!(key[0] as usize, g.total() - 1);
+        assert!(!p.cells_inside(&[DVec2::new(1.0, 0.5)], &mut key)); // periodic: upper is lower
+        assert!(!p.cells_inside(&[DVec2::new(-1e-18, 0.0)], &mut key));
+        assert!(!g.cells_inside(&[DVec2::new(0.5, 0.5 + 1e-12)], &mut key));
+        assert!(!g.cells_inside(&[DVec2::new(f64::NAN, 0.2)], &mut key));
         assert_eq!(p.cell_of(DVec2::new(1.05, 0.0), 0).unwrap(), 0);
     }
 

@@ -10,6 +10,7 @@ mod domain;
 mod error;
 mod grid;
 mod permute;
+mod prefetch;
 mod scan;
 mod vector;
 

@@ -117,7 +117,13 @@ pub(crate) unsafe fn scan_avx512<V: Vector, F: FnMut(usize, V, f64)>(
         distance: [MaybeUninit::uninit(); FOUND_CAPACITY + FOUND_SLACK],
     };
     // SAFETY: the caller's conditions are those of `find_avx512`.
-    let (count, tested) = unsafe { find_avx512(positions, q, ranges, period, &mut found) };
+    let (count, tested) = unsafe {
+        if period.iter().any(|&length| length > 0.0) {
+            find_avx512::<V, true>(positions, q, ranges, period, &mut found)
+        } else {
+            find_avx512::<V, false>(positions, q, ranges, period, &mut found)
+        }
+    };
     // SAFETY: `find_avx512` wrote the first `count` entries of both arrays.
     let (index, distance) = unsafe {
         (
@@ -142,13 +148,14 @@ pub(crate) unsafe fn scan_avx512<V: Vector, F: FnMut(usize, V, f64)>(
 /// Writes into `found`, in range order and ascending, the neighbours in `ranges` (every
 /// candidate `j != q.i` closer than the radius, by minimum image where `period > 0`) with
 /// their distances, and returns how many, with the number of ranges tested: whole ranges
-/// only, stopping before one that might not fit in `FOUND_CAPACITY`.
+/// only, stopping before one that might not fit in `FOUND_CAPACITY`. `PERIODIC` is whether
+/// any `period` is positive (compiled apart, so that bounded domains test no axis for it).
 ///
 /// # Safety
 /// The processor must support AVX-512F and POPCNT.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx512f,popcnt")]
-unsafe fn find_avx512<V: Vector>(
+unsafe fn find_avx512<V: Vector, const PERIODIC: bool>(
     positions: &[V],
     q: Query<V>,
     ranges: &[(u32, u32)],
@@ -163,7 +170,8 @@ unsafe fn find_avx512<V: Vector>(
         std::array::from_fn(|axis| _mm512_set1_pd(if axis < dim { q.xi.get(axis) } else { 0.0 }));
     let length: [__m512d; 3] = std::array::from_fn(|axis| _mm512_set1_pd(period[axis]));
     let half: [__m512d; 3] = std::array::from_fn(|axis| _mm512_set1_pd(0.5 * period[axis]));
-    let periodic: [bool; 3] = std::array::from_fn(|axis| axis < dim && period[axis] > 0.0);
+    let periodic: [bool; 3] =
+        std::array::from_fn(|axis| PERIODIC && axis < dim && period[axis] > 0.0);
     let radius_squared = _mm512_set1_pd(q.radius_squared);
     let (one, minus_one, point_five) = (
         _mm512_set1_pd(1.0),
