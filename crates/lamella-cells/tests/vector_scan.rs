@@ -116,6 +116,27 @@ fn crowded_cells_and_short_clouds_agree_in_3d() {
         })
         .collect();
     assert!(compare(domain, 1.0, &crowded) > 300 * 200);
+    // The crowded cell last in the stencil order (upper corner) behind cells of ordinary
+    // density: queries keep neighbours from the first ranges with the vector test, then
+    // finish the portable way.
+    let mut mixed: Vec<DVec3> = (0..250)
+        .map(|_| {
+            DVec3::new(
+                uniform(&mut state),
+                uniform(&mut state),
+                uniform(&mut state),
+            ) * 0.8
+                + DVec3::splat(2.1)
+        })
+        .collect();
+    mixed.extend((0..300).map(|_| {
+        DVec3::new(
+            uniform(&mut state),
+            uniform(&mut state),
+            uniform(&mut state),
+        ) * 3.0
+    }));
+    compare(domain, 1.0, &mixed);
     // Fewer particles than one vector: the loads at the end of the array are masked.
     for n in 1..10 {
         let few: Vec<DVec3> = (0..n)
