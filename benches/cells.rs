@@ -3,11 +3,12 @@
 //! 2D jittered lattices of 1e4, 1e5 and 1e6 particles at spacing dx = 1 with h = 1.3 dx and
 //! search radius (kernel support) 2h, about 21 neighbours each. One iteration = build the
 //! structure + visit every neighbour pair of every particle, accumulating the pair count and
-//! the sum of distances (the same work for both). Positions are in cell order, as the solver
-//! keeps them after its first rebuild. Single thread and all cores (rayon pools); on a
-//! processor with AVX-512 the portable candidate test is timed too (single thread). Then a
-//! 3D channel cloud (46³ particles, periodic in x and z, about 74 neighbours each), both
-//! candidate tests, single thread.
+//! the sum of distances (the same work for both; kiddo with its fastest query, an unsorted
+//! visitor, and with its default one, a sorted vector per particle). Positions are in cell
+//! order, as the solver keeps them after its first rebuild. Single thread and all cores
+//! (rayon pools); on a processor with AVX-512 the portable candidate test is timed too
+//! (single thread). Then a 3D channel cloud (46³ particles, periodic in x and z, about 74
+//! neighbours each), both candidate tests, single thread.
 //!
 //! Run: `cargo bench --bench cells`.
 
@@ -90,6 +91,29 @@ fn kiddo_pass(points: &[[f64; 2]], parallel_build: bool) -> (u64, f64) {
         .reduce(|| (0, 0.0), |a, b| (a.0 + b.0, a.1 + b.1))
 }
 
+/// Build + all-neighbour visit with kiddo's default fixed-radius query: a vector of the
+/// neighbours sorted by distance per particle (exclusive boundary).
+fn kiddo_sorted_pass(points: &[[f64; 2]]) -> (u64, f64) {
+    let tree = ImmutableKdTree::<f64, 2>::new_from_slice(points).unwrap();
+    points
+        .par_iter()
+        .enumerate()
+        .map(|(i, p)| {
+            let (mut count, mut sum) = (0u64, 0.0);
+            let found = tree
+                .query(p)
+                .within::<SquaredEuclidean<f64>>(RADIUS * RADIUS)
+                .exclusive_boundaries()
+                .execute();
+            for item in found.iter().filter(|item| item.item as usize != i) {
+                count += 1;
+                sum += item.distance.sqrt();
+            }
+            (count, sum)
+        })
+        .reduce(|| (0, 0.0), |a, b| (a.0 + b.0, a.1 + b.1))
+}
+
 fn neighbour_search(c: &mut Criterion) {
     let all_cores = rayon::current_num_threads();
     let pools: Vec<(String, rayon::ThreadPool)> = [1, all_cores]
@@ -123,6 +147,11 @@ fn neighbour_search(c: &mut Criterion) {
             kiddo_pass(&points, false),
         );
         assert_eq!(cells_result.0, kiddo_result.0, "same pairs found");
+        assert_eq!(
+            cells_result.0,
+            kiddo_sorted_pass(&points).0,
+            "same pairs found"
+        );
         let count = raw.len();
         let pairs = cells_result.0;
         println!(
@@ -165,6 +194,11 @@ fn neighbour_search(c: &mut Criterion) {
                     pool.install(|| black_box(kiddo_pass(black_box(&points), threads != "1t")))
                 })
             });
+            if threads == "1t" {
+                group.bench_function(BenchmarkId::new("kiddo_sorted", threads), |b| {
+                    b.iter(|| pool.install(|| black_box(kiddo_sorted_pass(black_box(&points)))))
+                });
+            }
         }
         black_box(cells_result);
         group.finish();
