@@ -79,13 +79,16 @@ pub(crate) fn avx512_available() -> bool {
     }
 }
 
-/// Neighbours one call of the vector test may keep: from the first range that could
-/// overflow it (counting every candidate of the range as kept), the rest go the portable
-/// way. At the usual SPH density a 3D query keeps about 70 from ranges of about 50
-/// candidates, so every range fits; 512 made the stack frame larger than a page (a stack
-/// probe per query: 20 % slower in 2D).
+/// Length of the neighbour buffers of one call of the vector test, in 2D and in 3D. From
+/// the first range that could overflow the buffer (counting every candidate of the range as
+/// kept, with `FOUND_SLACK` to spare) the rest go the portable way. At the usual SPH density
+/// a 2D query keeps about 20 from ranges of about 20 candidates, a 3D one about 70 from
+/// ranges of about 50, so every range fits. Larger buffers cost time (measured: 192 entries
+/// in 2D made the 1e6 benchmark about 10 % slower than 64).
 #[cfg(target_arch = "x86_64")]
-const FOUND_CAPACITY: usize = 192;
+const FOUND_LENGTH_2D: usize = 64 + FOUND_SLACK;
+#[cfg(target_arch = "x86_64")]
+const FOUND_LENGTH_3D: usize = 192 + FOUND_SLACK;
 /// Slack at the end of the buffers: each test stores whole vectors.
 #[cfg(target_arch = "x86_64")]
 const FOUND_SLACK: usize = 16;
@@ -93,9 +96,9 @@ const FOUND_SLACK: usize = 16;
 /// The neighbours one call of [`find_avx512`] found: index and distance. Left uninitialised
 /// (zeroing it would cost a tenth of a query); only the entries written are read.
 #[cfg(target_arch = "x86_64")]
-struct Found {
-    index: [MaybeUninit<u32>; FOUND_CAPACITY + FOUND_SLACK],
-    distance: [MaybeUninit<f64>; FOUND_CAPACITY + FOUND_SLACK],
+struct Found<const LENGTH: usize> {
+    index: [MaybeUninit<u32>; LENGTH],
+    distance: [MaybeUninit<f64>; LENGTH],
 }
 
 /// [`scan`] with the candidate test eight at a time in AVX-512 registers (2D and 3D):
@@ -116,16 +119,40 @@ pub(crate) unsafe fn scan_avx512<V: Vector, F: FnMut(usize, V, f64)>(
     image: impl Fn(V) -> V,
     f: &mut F,
 ) {
-    let mut found = Found {
-        index: [MaybeUninit::uninit(); FOUND_CAPACITY + FOUND_SLACK],
-        distance: [MaybeUninit::uninit(); FOUND_CAPACITY + FOUND_SLACK],
+    // SAFETY: the caller's conditions.
+    unsafe {
+        if V::DIM == 2 {
+            scan_found::<V, F, FOUND_LENGTH_2D>(positions, q, ranges, period, image, f)
+        } else {
+            scan_found::<V, F, FOUND_LENGTH_3D>(positions, q, ranges, period, image, f)
+        }
+    }
+}
+
+/// [`scan_avx512`] with neighbour buffers of `LENGTH` entries.
+///
+/// # Safety
+/// As [`scan_avx512`].
+#[cfg(target_arch = "x86_64")]
+#[inline(always)]
+unsafe fn scan_found<V: Vector, F: FnMut(usize, V, f64), const LENGTH: usize>(
+    positions: &[V],
+    q: Query<V>,
+    ranges: &[(u32, u32)],
+    period: [f64; 3],
+    image: impl Fn(V) -> V,
+    f: &mut F,
+) {
+    let mut found = Found::<LENGTH> {
+        index: [MaybeUninit::uninit(); LENGTH],
+        distance: [MaybeUninit::uninit(); LENGTH],
     };
     // SAFETY: the caller's conditions are those of `find_avx512`.
     let (count, tested) = unsafe {
         if period.iter().any(|&length| length > 0.0) {
-            find_avx512::<V, true>(positions, q, ranges, period, &mut found)
+            find_avx512::<V, true, LENGTH>(positions, q, ranges, period, &mut found)
         } else {
-            find_avx512::<V, false>(positions, q, ranges, period, &mut found)
+            find_avx512::<V, false, LENGTH>(positions, q, ranges, period, &mut found)
         }
     };
     // SAFETY: `find_avx512` wrote the first `count` entries of both arrays.
@@ -152,19 +179,19 @@ pub(crate) unsafe fn scan_avx512<V: Vector, F: FnMut(usize, V, f64)>(
 /// Writes into `found`, in range order and ascending, the neighbours in `ranges` (every
 /// candidate `j != q.i` closer than the radius, by minimum image where `period > 0`) with
 /// their distances, and returns how many, with the number of ranges tested: whole ranges
-/// only, stopping before one that might not fit in `FOUND_CAPACITY`. `PERIODIC` is whether
+/// only, stopping before one that might not fit in `LENGTH - FOUND_SLACK` entries. `PERIODIC` is whether
 /// any `period` is positive (compiled apart, so that bounded domains test no axis for it).
 ///
 /// # Safety
 /// The processor must support AVX-512F and POPCNT.
 #[cfg(target_arch = "x86_64")]
 #[target_feature(enable = "avx512f,popcnt")]
-unsafe fn find_avx512<V: Vector, const PERIODIC: bool>(
+unsafe fn find_avx512<V: Vector, const PERIODIC: bool, const LENGTH: usize>(
     positions: &[V],
     q: Query<V>,
     ranges: &[(u32, u32)],
     period: [f64; 3],
-    found: &mut Found,
+    found: &mut Found<LENGTH>,
 ) -> (usize, usize) {
     use std::arch::x86_64::*;
 
@@ -212,7 +239,7 @@ unsafe fn find_avx512<V: Vector, const PERIODIC: bool>(
     let mut tested = 0;
     for &(a, b) in ranges {
         let (a, b) = (a as usize, b as usize);
-        if count + (b - a) > FOUND_CAPACITY {
+        if count + (b - a) + FOUND_SLACK > LENGTH {
             break;
         }
         tested += 1;
@@ -280,7 +307,7 @@ unsafe fn find_avx512<V: Vector, const PERIODIC: bool>(
             let mask = _mm512_mask_cmp_pd_mask::<_CMP_LT_OQ>(candidates, d2, radius_squared);
             let indices = _mm512_add_epi32(_mm512_set1_epi32(start as i32), lane_offsets);
             // Compress in a register, then store whole vectors (a compressing store to
-            // memory is much slower). `count` stays below `FOUND_CAPACITY` (checked per
+            // memory is much slower). `count` stays below `LENGTH - FOUND_SLACK` (checked per
             // range), so the whole vectors fit in the slack.
             let packed = _mm512_maskz_compress_epi32(u16::from(mask), indices);
             let squares = _mm512_maskz_compress_pd(mask, d2);
