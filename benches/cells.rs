@@ -25,9 +25,9 @@ const SPACING: f64 = 1.0;
 const SMOOTHING_LENGTH: f64 = 1.3 * SPACING;
 const RADIUS: f64 = 2.0 * SMOOTHING_LENGTH;
 
-/// A square jittered lattice of about `n` particles (xorshift jitter of ±0.25 dx).
-fn lattice(n: usize) -> (Vec<DVec2>, DVec2) {
-    let side = (n as f64).sqrt().round() as usize;
+/// A jittered lattice of `side` particles per axis in `V`'s dimension, x fastest (xorshift
+/// jitter of ±0.25 dx on every coordinate), and the upper corner of its box.
+fn lattice<V: Vector>(side: usize) -> (Vec<V>, V) {
     let mut state = 0x9e37_79b9_7f4a_7c15u64;
     let mut jitter = move || {
         state ^= state << 13;
@@ -35,16 +35,15 @@ fn lattice(n: usize) -> (Vec<DVec2>, DVec2) {
         state ^= state << 17;
         ((state >> 11) as f64 / (1u64 << 53) as f64 - 0.5) * 0.5 * SPACING
     };
-    let points = (0..side * side)
+    let points = (0..side.pow(V::DIM as u32))
         .map(|k| {
-            let (i, j) = ((k % side) as f64, (k / side) as f64);
-            DVec2::new(
-                (i + 0.5) * SPACING + jitter(),
-                (j + 0.5) * SPACING + jitter(),
-            )
+            V::from_fn(|axis| {
+                let index = (k / side.pow(axis as u32)) % side;
+                (index as f64 + 0.5) * SPACING + jitter()
+            })
         })
         .collect();
-    (points, DVec2::splat(side as f64 * SPACING))
+    (points, V::from_fn(|_| side as f64 * SPACING))
 }
 
 /// Build + all-neighbour visit with the cell list; returns (pairs, sum of distances).
@@ -127,7 +126,7 @@ fn neighbour_search(c: &mut Criterion) {
         })
         .collect();
     for n in [10_000usize, 100_000, 1_000_000] {
-        let (raw, upper) = lattice(n);
+        let (raw, upper) = lattice::<DVec2>((n as f64).sqrt().round() as usize);
         let domain = Domain::new(DVec2::ZERO, upper, [false; 3]).unwrap();
         let lists: Vec<(CellOrder, CellList<DVec2>, Vec<DVec2>)> =
             [CellOrder::RowMajor, CellOrder::Morton]
@@ -206,20 +205,10 @@ fn neighbour_search(c: &mut Criterion) {
 }
 
 /// 3D: a jittered cubic lattice of 46³ particles, periodic in x and z (a channel), the same
-/// h and radius (about 74 neighbours each); the AVX-512 and the portable candidate test on
+/// h and radius (about 73 neighbours each); the AVX-512 and the portable candidate test on
 /// one thread (no kiddo: the comparison is 2D).
 fn neighbour_search_3d(c: &mut Criterion) {
-    let side = 46usize;
-    let (raw, _) = lattice(side * side);
-    // Reuse the 2D jitter generator for x and y; z from the lattice index, jittered as well.
-    let points: Vec<DVec3> = (0..side * side * side)
-        .map(|k| {
-            let p = raw[k % (side * side)];
-            let z = (k / (side * side)) as f64 + 0.5 + 0.25 * (p.x - p.x.floor() - 0.5);
-            DVec3::new(p.x, p.y, z * SPACING)
-        })
-        .collect();
-    let extent = DVec3::splat(side as f64 * SPACING);
+    let (points, extent) = lattice::<DVec3>(46);
     let domain = Domain::new(DVec3::ZERO, extent, [true, false, true]).unwrap();
     let mut list = CellList::new(domain, RADIUS).unwrap();
     list.rebuild(&points).unwrap();

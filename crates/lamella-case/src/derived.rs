@@ -201,15 +201,15 @@ impl Case {
     /// Heap bytes per particle of a running solver (estimate), by the arrays it holds: the
     /// state of `lamella_sph::Particles` (three vectors, four scalars, phase, kind, id), the
     /// reorder scratch (one element of each type), the wall states (two scalars, a volume and
-    /// a vector), the rates (three vectors) and density rates (a scalar), the next state (two vectors and a
-    /// scalar) and the cell list (about 10 bytes). In 2D this is 272 bytes; `lamella bench`
-    /// measured 272–276 with its counting allocator.
+    /// a vector), the rates (three vectors) and density rates (a scalar), the next state (two
+    /// vectors and a scalar) and the cell list (about 10 bytes). In 2D this is 272 bytes;
+    /// `lamella bench` measured 272–276 with its counting allocator.
     pub fn state_bytes_per_particle(&self) -> usize {
         let vector = 8 * self.dimension as usize;
         let state = 3 * vector + 4 * 8 + 2 + 1 + 8;
         let reorder_scratch = vector + 8 + 2 + 1 + 8;
         let wall_states = 3 * 8 + vector;
-        let rates = 3 * vector + 8; // acceleration, shifting sums; density rate
+        let rates = 3 * vector + 8; // the rates, then the density rates
         let next_state = 2 * vector + 8;
         let cell_list = 10;
         state + reorder_scratch + wall_states + rates + next_state + cell_list

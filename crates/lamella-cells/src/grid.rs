@@ -91,13 +91,19 @@ impl Grid {
                     position: (0..V::DIM).map(|a| x.get(a)).collect(),
                 });
             }
-            let n = self.dims[axis];
-            // `c - lo` is in [0, extent], so the product is in [0, n] (n < 2^28): clamp the
-            // top edge. Through `i32`: the float-to-integer conversion is one instruction.
-            let k = ((((c - lo) * self.inv_width[axis]) as i32) as usize).min(n - 1);
-            id = id * n + k;
+            id = id * self.dims[axis] + self.axis_cell(axis, c) as usize;
         }
         Ok(id)
+    }
+
+    /// Cell index along `axis` of coordinate `c`: in `[0, n)` for `c` in the box, clamped to
+    /// it otherwise (NaN gives 0). `c − lower` is in `[0, extent]` inside the box, so the
+    /// product is in `[0, n]` (n < 2^28) and the clamp only guards the top edge; through
+    /// `i32`, the float-to-integer conversion is one instruction.
+    #[inline(always)]
+    fn axis_cell(&self, axis: usize, c: f64) -> u32 {
+        let last = self.dims[axis] as i32 - 1;
+        (((c - self.lower[axis]) * self.inv_width[axis]) as i32).clamp(0, last) as u32
     }
 
     /// Writes the row-major cell id of each position of `block` into `keys` and returns
@@ -105,13 +111,7 @@ impl Grid {
     /// `[lower, upper]`; non-finite coordinates are not). The ids are meaningful only then:
     /// the fast path of binning, without branches; [`cell_of`](Self::cell_of) handles the rest.
     pub fn cells_inside<V: Vector>(&self, block: &[V], keys: &mut [u32]) -> bool {
-        let axes = V::DIM;
-        let lower: [f64; 3] = std::array::from_fn(|a| self.lower[a]);
-        let upper: [f64; 3] = std::array::from_fn(|a| self.upper[a]);
-        let inv_width: [f64; 3] = std::array::from_fn(|a| self.inv_width[a]);
-        let last: [i32; 3] = std::array::from_fn(|a| self.dims[a] as i32 - 1);
         let stride = [1, self.dims[0] as u32, (self.dims[0] * self.dims[1]) as u32];
-        let periodic = self.periodic;
         let mut all_inside = true;
         for (index, (key, &x)) in keys.iter_mut().zip(block).enumerate() {
             if index % 4 == 0 {
@@ -119,17 +119,11 @@ impl Grid {
                 prefetch(block.as_ptr().wrapping_add(index + 32));
             }
             let mut id = 0u32;
-            for axis in 0..axes {
-                let c = x.get(axis);
-                let below_top = if periodic[axis] {
-                    c < upper[axis]
-                } else {
-                    c <= upper[axis]
-                };
-                all_inside &= (c >= lower[axis]) & below_top;
-                // In [0, n] inside the box (n < 2^28); the clamp only guards the top edge.
-                let k = (((c - lower[axis]) * inv_width[axis]) as i32).clamp(0, last[axis]);
-                id += k as u32 * stride[axis];
+            for (axis, &stride) in stride.iter().enumerate().take(V::DIM) {
+                let (c, up) = (x.get(axis), self.upper[axis]);
+                let below_top = if self.periodic[axis] { c < up } else { c <= up };
+                all_inside &= (c >= self.lower[axis]) & below_top;
+                id += self.axis_cell(axis, c) * stride;
             }
             *key = id;
         }

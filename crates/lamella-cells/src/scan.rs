@@ -179,8 +179,9 @@ unsafe fn scan_found<V: Vector, F: FnMut(usize, V, f64), const LENGTH: usize>(
 /// Writes into `found`, in range order and ascending, the neighbours in `ranges` (every
 /// candidate `j != q.i` closer than the radius, by minimum image where `period > 0`) with
 /// their distances, and returns how many, with the number of ranges tested: whole ranges
-/// only, stopping before one that might not fit in `LENGTH - FOUND_SLACK` entries. `PERIODIC` is whether
-/// any `period` is positive (compiled apart, so that bounded domains test no axis for it).
+/// only, stopping before one that might not fit in `LENGTH - FOUND_SLACK` entries.
+/// `PERIODIC` is whether any `period` is positive (compiled apart, so that bounded domains
+/// test no axis for it).
 ///
 /// # Safety
 /// The processor must support AVX-512F and POPCNT.
@@ -307,8 +308,8 @@ unsafe fn find_avx512<V: Vector, const PERIODIC: bool, const LENGTH: usize>(
             let mask = _mm512_mask_cmp_pd_mask::<_CMP_LT_OQ>(candidates, d2, radius_squared);
             let indices = _mm512_add_epi32(_mm512_set1_epi32(start as i32), lane_offsets);
             // Compress in a register, then store whole vectors (a compressing store to
-            // memory is much slower). `count` stays below `LENGTH - FOUND_SLACK` (checked per
-            // range), so the whole vectors fit in the slack.
+            // memory is much slower). `count` stays below `LENGTH - FOUND_SLACK` (checked
+            // per range), so the whole vectors fit in the slack.
             let packed = _mm512_maskz_compress_epi32(u16::from(mask), indices);
             let squares = _mm512_maskz_compress_pd(mask, d2);
             let index_slot = &mut found.index[count..count + 16];

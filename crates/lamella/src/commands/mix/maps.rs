@@ -74,19 +74,17 @@ pub fn write_maps<V: Vector>(
             &mut notes,
         )?;
     }
-    let shown: Vec<usize> = (0..fields.position.len())
-        .filter(|&i| {
-            slice.is_none_or(|z| {
-                (layout.domain.wrap(fields.position[i]).get(2) - z).abs() <= 0.5 * layout.spacing
-            })
-        })
+    let wrapped: Vec<V> = fields
+        .position
+        .iter()
+        .map(|&x| layout.domain.wrap(x))
+        .collect();
+    let shown: Vec<usize> = (0..wrapped.len())
+        .filter(|&i| slice.is_none_or(|z| (wrapped[i].get(2) - z).abs() <= 0.5 * layout.spacing))
         .collect();
     let points: Vec<[f64; 2]> = shown
         .iter()
-        .map(|&i| {
-            let p = layout.domain.wrap(fields.position[i]);
-            [p.get(0), p.get(1)]
-        })
+        .map(|&i| [wrapped[i].get(0), wrapped[i].get(1)])
         .collect();
     let pick = |values: &[f64]| shown.iter().map(|&i| values[i]).collect::<Vec<f64>>();
     let f = frame(
