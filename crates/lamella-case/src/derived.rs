@@ -2,7 +2,7 @@
 //! layer ratios and memory. Meaningful on a validated case. (The time step itself is
 //! `lamella_sph::stable_time_step`, fed with these.)
 
-use crate::schema::{Axis, Case, Region};
+use crate::schema::{Axis, Case, InitialVelocity, Region};
 
 /// Largest relative density variation the automatic sound speed allows, δ in Morris, Fox &
 /// Zhu 1997 §2.4 (c0 ≥ U/√δ gives c0 ≥ 10 U: common practice).
@@ -173,6 +173,48 @@ impl Case {
                 }
             })
             .collect()
+    }
+
+    /// The interface whose growth a run records and `lamella growth` measures: the lowest pair
+    /// of adjacent layers of different phases. `None` unless the case is layered.
+    pub fn tracked_interface(&self) -> Option<LayerPair> {
+        self.layer_pairs().into_iter().next()
+    }
+
+    /// Wavelength of the interface mode a run records (m): the seeded wavelength, or the domain
+    /// length along x when nothing is seeded (the longest wave a periodic channel holds).
+    pub fn tracked_wavelength(&self) -> f64 {
+        self.interface_perturbation
+            .as_ref()
+            .map_or_else(|| self.extent(0), |p| p.wavelength)
+    }
+
+    /// How long the base flow takes to settle from the initial velocity (s); a growth rate
+    /// measured before this time measures the start-up, not the instability.
+    ///
+    /// From rest under a body force or a moving wall, the slowest term of the start-up series
+    /// of plane Poiseuille and Couette flow decays as exp(−π² ν t / H²) (Morris, Fox & Zhu 1997,
+    /// J. Comput. Phys. 136, eqs. 20–21, H the channel height); taking the smallest kinematic
+    /// viscosity (the slowest) and waiting until it is down to 1 % gives t = ln(100) H²/(π² ν).
+    /// Any other initial velocity is taken as already settled: 0.
+    pub fn start_up_time(&self) -> f64 {
+        let driven = self.body_force_magnitude() > 0.0
+            || self.walls.iter().any(|w| {
+                w.velocity
+                    .as_ref()
+                    .is_some_and(|v| v.iter().any(|&c| c != 0.0))
+            });
+        match self.initial_velocity {
+            InitialVelocity::Rest if driven => {
+                let nu = self
+                    .kinematic_viscosities()
+                    .into_iter()
+                    .fold(f64::INFINITY, f64::min);
+                let height = self.extent(1);
+                100f64.ln() * height * height / (std::f64::consts::PI.powi(2) * nu)
+            }
+            _ => 0.0,
+        }
     }
 
     /// Heights of Layer bounds strictly inside the domain: the boundaries the interface
