@@ -11,10 +11,12 @@
 use std::time::Duration;
 
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
+use glam::DMat3;
 use glam::DVec2;
 use lamella::benchmark::standard_case;
 use lamella_cells::CellList;
 use lamella_sph::forces::{RateParameters, Rates, density_rates, particle_rates};
+use lamella_sph::shear_rate::velocity_gradients;
 use lamella_sph::walls::{InteractionState, interaction_states};
 use lamella_sph::{ReorderScratch, Simulation};
 
@@ -92,10 +94,24 @@ fn step_and_parts(c: &mut Criterion) {
                 inverse_reference_density: &inverse_reference_density,
                 viscous_normalisation: config.viscous_normalisation,
             };
+            // The velocity gradients the full viscous stress needs (the standard case has two
+            // viscosities); their pass is part of the rates here.
+            let mut gradients = vec![DMat3::ZERO; if config.full_viscous_stress { n } else { 0 }];
             let mut rates = vec![Rates::default(); n];
             group.bench_function(BenchmarkId::new("rates", &label), |b| {
                 b.iter(|| {
-                    pool.install(|| particle_rates(&params, &particles, &seen, &cells, &mut rates))
+                    pool.install(|| {
+                        if config.full_viscous_stress {
+                            velocity_gradients(
+                                &cells,
+                                &particles,
+                                |k| seen[k].volume,
+                                &config.kernel,
+                                &mut gradients,
+                            );
+                        }
+                        particle_rates(&params, &particles, &seen, &gradients, &cells, &mut rates)
+                    })
                 })
             });
             let mut density = vec![0.0; n];

@@ -2,7 +2,7 @@
 //! layer ratios and memory. Meaningful on a validated case. (The time step itself is
 //! `lamella_sph::stable_time_step`, fed with these.)
 
-use crate::schema::{Axis, Case, InitialVelocity, Region};
+use crate::schema::{Axis, Case, InitialVelocity, Region, Side};
 
 /// Largest relative density variation the automatic sound speed allows, δ in Morris, Fox &
 /// Zhu 1997 §2.4 (c0 ≥ U/√δ gives c0 ≥ 10 U: common practice).
@@ -32,6 +32,44 @@ pub struct LayerPair {
     pub viscosity_ratio: f64,
     /// Layer-width ratio n = width_lower / width_upper.
     pub width_ratio: f64,
+}
+
+/// A channel the analytical references know: walled at the bottom and top, periodic along x,
+/// flowing along x (a 3D channel periodic in z with nothing driving along z counts as plane).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum ChannelFlow {
+    /// Two stacked layers of one density filling the gap, driven by a body force between fixed
+    /// plates.
+    TwoLayers {
+        /// Width of the lower layer (m).
+        lower_width: f64,
+        /// Width of the upper layer (m).
+        upper_width: f64,
+        /// Dynamic viscosity of the lower layer (Pa·s).
+        lower_viscosity: f64,
+        /// Dynamic viscosity of the upper layer (Pa·s).
+        upper_viscosity: f64,
+        /// Driving force density ρ g_x (N/m³).
+        force_density: f64,
+    },
+    /// One fluid driven by a body force between fixed plates.
+    Poiseuille {
+        /// Plate gap (m).
+        gap: f64,
+        /// Kinematic viscosity (m²/s).
+        kinematic_viscosity: f64,
+        /// Body force per unit mass along x (m/s²).
+        force: f64,
+    },
+    /// One fluid between a fixed bottom plate and a top plate sliding along x.
+    Couette {
+        /// Plate gap (m).
+        gap: f64,
+        /// Kinematic viscosity (m²/s).
+        kinematic_viscosity: f64,
+        /// Speed of the top plate (m/s).
+        wall_speed: f64,
+    },
 }
 
 impl Case {
@@ -217,6 +255,69 @@ impl Case {
         }
     }
 
+    /// The channel flow this case is, when it is one (see [`ChannelFlow`]); `None` otherwise.
+    pub fn channel_flow(&self) -> Option<ChannelFlow> {
+        let component = |v: &Option<Vec<f64>>, axis: usize| {
+            v.as_ref()
+                .map_or(0.0, |v| v.get(axis).copied().unwrap_or(0.0))
+        };
+        let plane = self.dimension == 2
+            || (self.dimension == 3
+                && self.is_periodic(Axis::Z)
+                && component(&self.body_force, 2) == 0.0
+                && self.walls.iter().all(|w| component(&w.velocity, 2) == 0.0));
+        if !plane || !self.is_periodic(Axis::X) || self.domain.lower.len() < 2 {
+            return None;
+        }
+        let wall = |side: Side| self.walls.iter().find(|w| w.side == side);
+        let (bottom, top) = (wall(Side::Bottom)?, wall(Side::Top)?);
+        let bottom_moves = (0..2).any(|a| component(&bottom.velocity, a) != 0.0);
+        let top_speed = component(&top.velocity, 0);
+        let force = component(&self.body_force, 0);
+        if bottom_moves
+            || component(&top.velocity, 1) != 0.0
+            || component(&self.body_force, 1) != 0.0
+        {
+            return None;
+        }
+        let (lo, hi) = (self.domain.lower[1], self.domain.upper[1]);
+        let mu = |p: usize| self.phases[p].viscosity_law.reference_viscosity();
+        let bands = self.layer_bands();
+        if self.layer_pairs().len() == 1 && bands.len() == 2 && top_speed == 0.0 {
+            let (a, b) = (&bands[0], &bands[1]);
+            let tol = 1e-9 * (hi - lo);
+            let covers = (a.bottom - lo).abs() <= tol && (b.top - hi).abs() <= tol;
+            let rho = self.phases[a.phase].density;
+            if !covers || self.phases[b.phase].density != rho {
+                return None;
+            }
+            return Some(ChannelFlow::TwoLayers {
+                lower_width: a.top - a.bottom,
+                upper_width: b.top - b.bottom,
+                lower_viscosity: mu(a.phase),
+                upper_viscosity: mu(b.phase),
+                force_density: rho * force,
+            });
+        }
+        if self.phases.len() != 1 {
+            return None;
+        }
+        let (gap, kinematic_viscosity) = (hi - lo, mu(0) / self.phases[0].density);
+        match (force != 0.0, top_speed != 0.0) {
+            (true, false) => Some(ChannelFlow::Poiseuille {
+                gap,
+                kinematic_viscosity,
+                force,
+            }),
+            (false, true) => Some(ChannelFlow::Couette {
+                gap,
+                kinematic_viscosity,
+                wall_speed: top_speed,
+            }),
+            _ => None,
+        }
+    }
+
     /// Heights of Layer bounds strictly inside the domain: the boundaries the interface
     /// perturbation displaces.
     pub fn interior_layer_boundaries(&self) -> Vec<f64> {
@@ -240,12 +341,28 @@ impl Case {
         heights
     }
 
+    /// Narrowest band over which an interface seed fades to zero at a wall: the distance from
+    /// each wall to the nearest layer boundary (m). `None` when nothing is walled along y or
+    /// there is no boundary inside the domain.
+    pub fn seeded_band_width(&self) -> Option<f64> {
+        let boundaries = self.interior_layer_boundaries();
+        let (first, last) = (boundaries.first()?, boundaries.last()?);
+        if self.is_periodic(Axis::Y) {
+            return None;
+        }
+        Some(f64::min(
+            first - self.domain.lower[1],
+            self.domain.upper[1] - last,
+        ))
+    }
+
     /// Heap bytes per particle of a running solver (estimate), by the arrays it holds: the
     /// state of `lamella_sph::Particles` (three vectors, four scalars, phase, kind, id), the
     /// reorder scratch (one element of each type), the wall states (two scalars, a volume and
     /// a vector), the rates (three vectors) and density rates (a scalar), the next state (two
-    /// vectors and a scalar) and the cell list (about 10 bytes). In 2D this is 272 bytes;
-    /// `lamella bench` measured 272–276 with its counting allocator.
+    /// vectors and a scalar), the cell list (about 10 bytes) and, with more than one viscosity,
+    /// a 3 × 3 velocity gradient. In 2D with one viscosity this is 272 bytes; `lamella bench`
+    /// measured 272–276 with its counting allocator.
     pub fn state_bytes_per_particle(&self) -> usize {
         let vector = 8 * self.dimension as usize;
         let state = 3 * vector + 4 * 8 + 2 + 1 + 8;
@@ -254,7 +371,14 @@ impl Case {
         let rates = 3 * vector + 8; // the rates, then the density rates
         let next_state = 2 * vector + 8;
         let cell_list = 10;
-        state + reorder_scratch + wall_states + rates + next_state + cell_list
+        // A 3 × 3 velocity gradient per particle where the full viscous stress is on (more
+        // than one viscosity).
+        let gradients = if self.viscosity_contrast() > 1.0 {
+            9 * 8
+        } else {
+            0
+        };
+        state + reorder_scratch + wall_states + rates + next_state + cell_list + gradients
     }
 
     /// Estimated memory of a run with `particles` particles (bytes).

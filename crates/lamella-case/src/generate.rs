@@ -132,6 +132,7 @@ pub fn generate<V: Vector>(case: &Case) -> Generated<V> {
         }
     }
     let grid = phase_grid(case, &lattice);
+    let seed = Seed::of(case);
     let mut out = Generated {
         position: Vec::new(),
         velocity: Vec::new(),
@@ -146,7 +147,12 @@ pub fn generate<V: Vector>(case: &Case) -> Generated<V> {
             continue;
         }
         let index = lattice.unflatten(flat);
-        let p = site_position(&lattice, index);
+        let site = site_position(&lattice, index);
+        let mut p = seed.as_ref().map_or(site, |seed| seed.displace(site));
+        if lattice.periodic[0] {
+            let length = lattice.counts[0] as f64 * lattice.dx;
+            p[0] = lattice.lower[0] + (p[0] - lattice.lower[0]).rem_euclid(length);
+        }
         out.position.push(V::from_fn(|a| p[a]));
         let v = initial_velocity(case, &p);
         out.velocity.push(V::from_fn(|a| v[a]));
@@ -175,16 +181,6 @@ fn phase_grid(case: &Case, lattice: &Lattice) -> Vec<u16> {
         .iter()
         .filter_map(|r| case.phase_index(r.phase()).map(|i| (r, i as u16)))
         .collect();
-    let interior = case.interior_layer_boundaries();
-    let tol = 1e-9 * case.extent(1).abs();
-    let displacement = |height: f64, x: f64| -> f64 {
-        match &case.interface_perturbation {
-            Some(p) if interior.iter().any(|y| (y - height).abs() <= tol) => {
-                p.amplitude * (TAU * (x - lattice.lower[0]) / p.wavelength).sin()
-            }
-            _ => 0.0,
-        }
-    };
     (0..lattice.site_count())
         .map(|flat| {
             let p = site_position(lattice, lattice.unflatten(flat));
@@ -192,11 +188,7 @@ fn phase_grid(case: &Case, lattice: &Lattice) -> Vec<u16> {
             for (region, index) in &regions {
                 let inside = match region {
                     Region::Fill { .. } => true,
-                    Region::Layer { bottom, top, .. } => {
-                        let b = bottom + displacement(*bottom, p[0]);
-                        let t = top + displacement(*top, p[0]);
-                        p[1] >= b && p[1] < t
-                    }
+                    Region::Layer { bottom, top, .. } => p[1] >= *bottom && p[1] < *top,
                     Region::Box { lower, upper, .. } => {
                         (0..lattice.dim).all(|a| p[a] >= lower[a] && p[a] < upper[a])
                     }
@@ -212,6 +204,98 @@ fn phase_grid(case: &Case, lattice: &Lattice) -> Vec<u16> {
             phase
         })
         .collect()
+}
+
+/// The smooth seed of an interface wave: the particles are carried for unit time along the
+/// streamlines of ψ = (A/k) cos(k(x − x0)) f(y), i.e. by the divergence-free field
+/// w = (∂ψ/∂y, −∂ψ/∂x) = ((A/k) cos(kξ) f'(y), A sin(kξ) f(y)). The flow of a divergence-free
+/// field preserves area exactly (Liouville's theorem; Arnold, Mathematical Methods of Classical
+/// Mechanics, §16), so the particles stay evenly spread, and a boundary at f = 1, f' = 0 moves
+/// to y0 + A sin(kξ) up to terms of order A² f''. f is 1 on and between the layer boundaries and
+/// falls to 0 at a wall as (1 − cos(π s))/2, s the distance from the wall over the wall-to-
+/// boundary distance, so f' = 0 at both ends and the wall rows stay where they are.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Seed {
+    amplitude: f64,
+    wavenumber: f64,
+    x0: f64,
+    /// Lowest and highest layer boundary (m).
+    first: f64,
+    last: f64,
+    /// Walls along y at (lower, upper), or `None` when y is periodic (then f = 1 everywhere).
+    walls: Option<(f64, f64)>,
+}
+
+/// Runge–Kutta steps of the seed's unit-time flow: the map is smooth and its speed at most
+/// about A k, so 16 classical RK4 steps leave an error far below round-off of a spacing.
+const SEED_STEPS: usize = 16;
+
+impl Seed {
+    /// The seed of a case's `interface_perturbation`; `None` without one (or without a layer
+    /// boundary inside the domain).
+    pub fn of(case: &Case) -> Option<Self> {
+        let p = case.interface_perturbation.as_ref()?;
+        let boundaries = case.interior_layer_boundaries();
+        let walls =
+            (!case.is_periodic(Axis::Y)).then(|| (case.domain.lower[1], case.domain.upper[1]));
+        Some(Seed {
+            amplitude: p.amplitude,
+            wavenumber: TAU / p.wavelength,
+            x0: case.domain.lower[0],
+            first: *boundaries.first()?,
+            last: *boundaries.last()?,
+            walls,
+        })
+    }
+
+    /// f(y) and f'(y).
+    fn shape(&self, y: f64) -> (f64, f64) {
+        use std::f64::consts::PI;
+        let Some((lo, hi)) = self.walls else {
+            return (1.0, 0.0);
+        };
+        let ramp = |distance: f64, width: f64| {
+            let s = (distance / width).clamp(0.0, 1.0);
+            (
+                0.5 * (1.0 - (PI * s).cos()),
+                0.5 * PI / width * (PI * s).sin(),
+            )
+        };
+        if y < self.first {
+            ramp(y - lo, self.first - lo)
+        } else if y > self.last {
+            let (f, slope) = ramp(hi - y, hi - self.last);
+            (f, -slope)
+        } else {
+            (1.0, 0.0)
+        }
+    }
+
+    /// The field w at (x, y).
+    fn velocity(&self, x: f64, y: f64) -> [f64; 2] {
+        let (f, df) = self.shape(y);
+        let phase = self.wavenumber * (x - self.x0);
+        [
+            self.amplitude / self.wavenumber * phase.cos() * df,
+            self.amplitude * phase.sin() * f,
+        ]
+    }
+
+    /// The point `p` (m; z is left as it is) carried along w for unit time (classical
+    /// fourth-order Runge–Kutta). Along a periodic x the result may need wrapping.
+    pub fn displace(&self, mut p: [f64; 3]) -> [f64; 3] {
+        let h = 1.0 / SEED_STEPS as f64;
+        for _ in 0..SEED_STEPS {
+            let (x, y) = (p[0], p[1]);
+            let k1 = self.velocity(x, y);
+            let k2 = self.velocity(x + 0.5 * h * k1[0], y + 0.5 * h * k1[1]);
+            let k3 = self.velocity(x + 0.5 * h * k2[0], y + 0.5 * h * k2[1]);
+            let k4 = self.velocity(x + h * k3[0], y + h * k3[1]);
+            p[0] += h / 6.0 * (k1[0] + 2.0 * k2[0] + 2.0 * k3[0] + k4[0]);
+            p[1] += h / 6.0 * (k1[1] + 2.0 * k2[1] + 2.0 * k3[1] + k4[1]);
+        }
+        p
+    }
 }
 
 /// True when a lattice neighbour (faces, edges and corners) holds fluid of another phase.
@@ -231,9 +315,11 @@ fn touches_other_phase(lattice: &Lattice, grid: &[u16], index: [i64; 3], phase: 
     })
 }
 
+/// The initial fluid velocity at `p`. `SteadyChannel` is zero here: the runner's set-up fills
+/// it from the analytical profile, which lives with the other reference solutions.
 fn initial_velocity(case: &Case, p: &[f64; 3]) -> [f64; 3] {
     match &case.initial_velocity {
-        InitialVelocity::Rest => [0.0; 3],
+        InitialVelocity::Rest | InitialVelocity::SteadyChannel => [0.0; 3],
         InitialVelocity::Uniform { velocity } => {
             let mut v = [0.0; 3];
             for (slot, x) in v.iter_mut().zip(velocity) {

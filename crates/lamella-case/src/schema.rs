@@ -228,14 +228,33 @@ impl Region {
     }
 }
 
-/// Sinusoidal displacement of the layer boundaries: y(x) = y0 + A sin(2π (x − x_lower)/λ).
+/// A sine wave on the layer boundaries, y(x) = y0 + A sin(2π (x − x_lower)/λ), made by moving
+/// the fluid particles (never by changing their phase), so any amplitude works, a small
+/// fraction of a spacing included.
 #[derive(Serialize, Deserialize, Clone, Debug, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub struct Perturbation {
-    /// Amplitude A (m); at least about one spacing to move any particle.
+    /// Amplitude A (m).
     pub amplitude: f64,
     /// Wavelength λ (m); must tile the domain length along x when x is periodic.
     pub wavelength: f64,
+    /// What else the seed sets [default: `Displacement`].
+    #[serde(default)]
+    pub mode: SeedMode,
+}
+
+/// How a seeded wave starts.
+#[derive(Serialize, Deserialize, Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum SeedMode {
+    /// Only the particles are moved (a smooth volume-preserving displacement); the velocity is
+    /// the case's initial velocity.
+    #[default]
+    Displacement,
+    /// The particles are moved as for `Displacement` and the velocity of the leading linear
+    /// eigenmode of the two-layer channel (as `lamella stability` computes it) is added to the
+    /// steady profile, so the run starts on the growing or decaying mode with no transient.
+    /// Needs `initial_velocity: SteadyChannel`.
+    Eigenmode,
 }
 
 /// Fluid velocity at time zero.
@@ -256,6 +275,11 @@ pub enum InitialVelocity {
         /// Peak speed U (m/s).
         amplitude: f64,
     },
+    /// The steady profile of the channel for its body force or moving top wall: the layered
+    /// profile of two layers (Bird, Stewart & Lightfoot, Transport Phenomena, 2nd ed., §2.5),
+    /// plane Poiseuille or Couette flow for one fluid. Needs a channel: periodic along x,
+    /// walls at the bottom and top.
+    SteadyChannel,
 }
 
 /// A side of the domain box.

@@ -3,8 +3,9 @@
 
 use std::collections::HashSet;
 
+use crate::derived::ChannelFlow;
 use crate::error::{Problem, Warning, approx, num, vec_str};
-use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, Side};
+use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, SeedMode, Side};
 
 /// Accepted smoothing ratios h/dx (inclusive). Common practice is 1.2 … 1.5.
 pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
@@ -133,18 +134,6 @@ impl Case {
                 message: format!(
                     "{} is accepted but outside the common-practice range {lo} … {hi}",
                     num(ratio)
-                ),
-            });
-        }
-        if let Some(p) = &self.interface_perturbation
-            && p.amplitude < 0.5 * self.particles.spacing
-        {
-            warnings.push(Warning {
-                path: "interface_perturbation.amplitude".into(),
-                message: format!(
-                    "{} m is under half the spacing ({} m): few or no particles change phase",
-                    num(p.amplitude),
-                    num(0.5 * self.particles.spacing)
                 ),
             });
         }
@@ -497,21 +486,35 @@ impl Case {
                 "None, or Layer regions with a boundary inside the domain to perturb",
             );
         }
-        let (lo, hi) = (domain.lower[1], domain.upper[1]);
-        for y0 in boundaries {
-            if y0 - p.amplitude <= lo || y0 + p.amplitude >= hi {
+        // The seed moves particles along the streamlines of ψ = (A/k) cos(kx) f(y), f rising
+        // from 0 at a wall to 1 at the nearest boundary over the distance d between them; the
+        // first-order shape A sin(kx) is kept when A f' = πA/(2d) is small: A ≤ d/10 keeps it
+        // under 0.16 (common practice for a linear seed: the second-order part stays near 1 %).
+        if let Some(gap) = self.seeded_band_width() {
+            let limit = 0.1 * gap;
+            if p.amplitude.is_finite() && p.amplitude > limit {
                 c.bad(
                     "interface_perturbation.amplitude",
                     num(p.amplitude),
                     &format!(
-                        "an amplitude keeping the interface at y = {} inside the domain \
-                         ({} … {})",
-                        num(y0),
-                        num(lo),
-                        num(hi)
+                        "at most a tenth of the narrowest band between a wall and a layer \
+                         boundary ({} m), i.e. ≤ {} m; a linear seed is much smaller",
+                        num(gap),
+                        approx(limit)
                     ),
                 );
-                break;
+            }
+        }
+        if p.mode == SeedMode::Eigenmode {
+            let two_layers = matches!(self.channel_flow(), Some(ChannelFlow::TwoLayers { .. }));
+            if !two_layers || self.initial_velocity != InitialVelocity::SteadyChannel {
+                c.bad(
+                    "interface_perturbation.mode",
+                    "Eigenmode".to_string(),
+                    "Displacement, or Eigenmode on a two-layer channel (periodic along x, walls \
+                     at the bottom and top, one density, driven by a body force along x) that \
+                     starts with initial_velocity: SteadyChannel",
+                );
             }
         }
     }
@@ -535,6 +538,18 @@ impl Case {
         let umax = self.scales.expected_max_speed;
         match &self.initial_velocity {
             InitialVelocity::Rest => {}
+            InitialVelocity::SteadyChannel => {
+                if self.channel_flow().is_none() {
+                    c.bad(
+                        "initial_velocity",
+                        "SteadyChannel".to_string(),
+                        "Rest, or SteadyChannel on a channel: periodic along x, walls at the \
+                         bottom and top (the top one may slide along x), driven by a body force \
+                         along x or the sliding top wall; one fluid, or two layers of one \
+                         density that fill the height",
+                    );
+                }
+            }
             InitialVelocity::Uniform { velocity } => {
                 let path = "initial_velocity.velocity";
                 if c.vector(path, velocity, dim, "velocity in m/s") {

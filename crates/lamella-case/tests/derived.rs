@@ -64,6 +64,11 @@ fn memory_estimate_scales_with_particles() {
     // state 40, cell list 10 bytes (the breakdown in DEVELOPERS.md, measured by `lamella bench`).
     assert_eq!(per, 272);
     assert_eq!(c.memory_estimate(1000), 1000 * per);
+    // Two viscosities add a 3 × 3 velocity gradient (72 bytes) for the full viscous stress.
+    assert_eq!(
+        case("two-layer-channel.ron").state_bytes_per_particle(),
+        272 + 72
+    );
 }
 
 #[test]
@@ -72,12 +77,18 @@ fn tracked_interface_wavelength_and_start_up() {
     let tracked = c.tracked_interface().expect("a layered case");
     assert!(close(tracked.interface, 0.8e-3));
     assert!(close(c.tracked_wavelength(), 4.8e-3));
+    // It starts on the steady profile: nothing to settle.
+    assert_eq!(c.start_up_time(), 0.0);
     // From rest: ln(100) H²/(π² ν_min) = 4.605 · (1.2e-3)² / (9.8696 · 1e-6) = 0.6720 s.
-    let expected = 100f64.ln() * 1.2e-3 * 1.2e-3 / (std::f64::consts::PI.powi(2) * 1.0e-6);
-    assert!(close(c.start_up_time(), expected), "{}", c.start_up_time());
-    assert!((c.start_up_time() - 0.6720).abs() < 1e-4);
-    // Without a seed the tracked wave is the periodic length; a cavity has no interface pair.
     let plain = case("two-layer-channel.ron");
+    let expected = 100f64.ln() * 1.2e-3 * 1.2e-3 / (std::f64::consts::PI.powi(2) * 1.0e-6);
+    assert!(
+        close(plain.start_up_time(), expected),
+        "{}",
+        plain.start_up_time()
+    );
+    assert!((plain.start_up_time() - 0.6720).abs() < 1e-4);
+    // Without a seed the tracked wave is the periodic length; a cavity has no interface pair.
     assert!(close(plain.tracked_wavelength(), plain.extent(0)));
     assert!(case("cavity-re100.ron").tracked_interface().is_none());
 }

@@ -5,6 +5,7 @@ pub mod fit;
 pub mod ftle;
 pub mod grid;
 pub mod growth;
+pub mod interface;
 pub mod mixing;
 pub mod neighbours;
 pub mod norms;

@@ -6,23 +6,118 @@ use rayon::prelude::*;
 
 use crate::kernel::Kernel;
 use crate::neighbours::Neighbourhood;
-use crate::particles::Kind;
+use crate::particles::{Kind, Particles};
 
-/// Shear-rate magnitude γ̇ (1/s) of every particle (parallel map, each a fixed-order sum).
+/// The velocity gradient G_ij = ∂u_i/∂x_j of fluid particle `a` (a 3 × 3 matrix whose z row
+/// and column are zero in 2D), or `None` for a wall particle or one with too few fluid
+/// neighbours to span every axis. `volume(b)` is the volume V_b of particle b (m³, m² in 2D);
+/// only fluid neighbours b with `takes_part(b)` enter the sums. The moment matrix
+/// M = Σ_b V_b (x_b − x_a) ⊗ ∇_a W_ab is dimensionless and near the identity for a full
+/// support (about ¼ in 2D at a flat edge); below `min_determinant` (or singular) the gradient
+/// is `None`.
 ///
-/// Velocity gradient, with V_b the volume, r_ab = x_a − x_b and ∇_a W_ab = r_ab F(|r_ab|):
-/// (∇u)_a = [Σ_b V_b (u_b − u_a) ⊗ ∇_a W_ab] · [Σ_b V_b (x_b − x_a) ⊗ ∇_a W_ab]⁻¹,
+/// With V_b the volume, r_ab = x_a − x_b and ∇_a W_ab = r_ab F(|r_ab|):
+/// G_a = [Σ_b V_b (u_b − u_a) ⊗ ∇_a W_ab] · [Σ_b V_b (x_b − x_a) ⊗ ∇_a W_ab]⁻¹,
 /// the difference form of the SPH gradient (Monaghan 2005, "Smoothed particle hydrodynamics",
 /// Rep. Prog. Phys. 68, §2) with the correction matrix of Bonet & Lok 1999 (Comput. Methods
 /// Appl. Mech. Engrg. 180), which makes it exact for any linear velocity field, also where the
-/// support is cut by a wall or a free surface. Then, with D = ½(∇u + ∇uᵀ),
-/// γ̇ = √(2 D:D) (Bird, Stewart & Lightfoot, Transport Phenomena, 2nd ed., §8.3: the magnitude
-/// √(½ γ̇:γ̇) of the rate-of-strain tensor γ̇ = 2D; section number recalled from memory), so
-/// simple shear u = (γ y, 0) gives γ̇ = γ.
+/// support is cut by a wall or a free surface. Only fluid neighbours take part: wall particles
+/// carry the wall's velocity, not the flow's.
+#[inline]
+pub fn velocity_gradient<V: Vector>(
+    neighbours: &impl Neighbourhood<V>,
+    a: usize,
+    position: &[V],
+    velocity: &[V],
+    volume: impl Fn(usize) -> f64,
+    kind: &[Kind],
+    kernel: &Kernel,
+    takes_part: impl Fn(usize) -> bool,
+    min_determinant: f64,
+) -> Option<DMat3> {
+    if kind[a] != Kind::Fluid {
+        return None;
+    }
+    // Column-major 3 × 3 sums; in 2D the z row and column stay zero.
+    let mut differences = [[0.0; 3]; 3];
+    let mut moments = [[0.0; 3]; 3];
+    neighbours.for_each_neighbour(position, a, |b, r, distance| {
+        if kind[b] != Kind::Fluid || !takes_part(b) {
+            return;
+        }
+        let gradient = r * (kernel.gradient_factor(distance) * volume(b));
+        let du = velocity[b] - velocity[a];
+        // Column j: G_ij += du_i g_j and M_ij += (x_b − x_a)_i g_j = −r_i g_j.
+        let columns = differences.iter_mut().zip(&mut moments).take(V::DIM);
+        for (j, (d, m)) in columns.enumerate() {
+            let g = gradient.get(j);
+            for i in 0..V::DIM {
+                d[i] += du.get(i) * g;
+                m[i] -= r.get(i) * g;
+            }
+        }
+    });
+    let scale = moments.iter().flatten().fold(0.0f64, |s, v| s.max(v.abs()));
+    for (axis, column) in moments.iter_mut().enumerate().skip(V::DIM) {
+        column[axis] = scale;
+    }
+    let moments = DMat3::from_cols_array_2d(&moments);
+    let determinant = moments.determinant().abs();
+    if !(scale > 0.0 && determinant > 1e-10 * scale.powi(3) && determinant >= min_determinant) {
+        return None;
+    }
+    Some(DMat3::from_cols_array_2d(&differences) * moments.inverse())
+}
+
+/// Smallest determinant of the moment matrix for a gradient the viscous stress uses: a
+/// particle on the edge of a small drop or in a corner has few neighbours of its own phase, an
+/// ill-conditioned matrix and a gradient far too large; it contributes no stress instead.
+/// 0.1 keeps a flat edge (about 0.25) and drops sparser supports (common practice: a
+/// conditioning floor for corrected SPH gradients; the value is chosen here).
+pub const MIN_STRESS_DETERMINANT: f64 = 0.1;
+
+/// Fills `out[a]` with the [`velocity_gradient`] of every particle of `particles` over its
+/// fluid neighbours of the same phase, zero where it is undefined (walls, too few such
+/// neighbours, see [`MIN_STRESS_DETERMINANT`]); a parallel map, each a fixed-order sum.
 ///
-/// Only fluid particles take part: wall particles carry the wall's velocity, not the flow's,
-/// and get NaN, as does a fluid particle with too few fluid neighbours to span every axis.
-/// `neighbours` must visit neighbours within `kernel`'s support in `position`'s order.
+/// One phase at a time because the velocity gradient jumps at an interface between liquids of
+/// different viscosity (μ ∂u/∂n is continuous, ∂u/∂n is not): over both phases the estimate
+/// of a particle next to the interface would mix the two sides. The corrected gradient is exact
+/// for a linear field on a one-sided support as well.
+pub fn velocity_gradients<V: Vector>(
+    neighbours: &(impl Neighbourhood<V> + Sync),
+    particles: &Particles<V>,
+    volume: impl Fn(usize) -> f64 + Sync,
+    kernel: &Kernel,
+    out: &mut [DMat3],
+) {
+    let p = particles;
+    out.par_iter_mut().enumerate().for_each(|(a, gradient)| {
+        let same_phase = |b: usize| p.phase[b] == p.phase[a];
+        *gradient = velocity_gradient(
+            neighbours,
+            a,
+            &p.position,
+            &p.velocity,
+            &volume,
+            &p.kind,
+            kernel,
+            same_phase,
+            MIN_STRESS_DETERMINANT,
+        )
+        .unwrap_or(DMat3::ZERO);
+    });
+}
+
+/// Shear-rate magnitude γ̇ (1/s) of every particle (parallel map, each a fixed-order sum):
+/// with G the [`velocity_gradient`] and D = ½(G + Gᵀ), γ̇ = √(2 D:D) (Bird, Stewart &
+/// Lightfoot, Transport Phenomena, 2nd ed., §8.3: the magnitude √(½ γ̇:γ̇) of the
+/// rate-of-strain tensor γ̇ = 2D; section number recalled from memory), so simple shear
+/// u = (γ y, 0) gives γ̇ = γ.
+///
+/// Wall particles get NaN, as does a fluid particle with too few fluid neighbours to span
+/// every axis. `neighbours` must visit neighbours within `kernel`'s support in `position`'s
+/// order.
 pub fn shear_rates<V: Vector>(
     neighbours: &impl Neighbourhood<V>,
     position: &[V],
@@ -34,48 +129,24 @@ pub fn shear_rates<V: Vector>(
     (0..position.len())
         .into_par_iter()
         .map(|a| {
-            if kind[a] != Kind::Fluid {
-                return f64::NAN;
-            }
-            // Column-major 3 × 3 sums; in 2D the z row and column stay zero.
-            let mut differences = [[0.0; 3]; 3];
-            let mut moments = [[0.0; 3]; 3];
-            neighbours.for_each_neighbour(position, a, |b, r, distance| {
-                if kind[b] != Kind::Fluid {
-                    return;
-                }
-                let gradient = r * (kernel.gradient_factor(distance) * volume[b]);
-                let du = velocity[b] - velocity[a];
-                // Column j: G_ij += du_i g_j and M_ij += (x_b − x_a)_i g_j = −r_i g_j.
-                let columns = differences.iter_mut().zip(&mut moments).take(V::DIM);
-                for (j, (d, m)) in columns.enumerate() {
-                    let g = gradient.get(j);
-                    for i in 0..V::DIM {
-                        d[i] += du.get(i) * g;
-                        m[i] -= r.get(i) * g;
-                    }
-                }
-            });
-            magnitude(differences, moments, V::DIM)
+            velocity_gradient(
+                neighbours,
+                a,
+                position,
+                velocity,
+                |b| volume[b],
+                kind,
+                kernel,
+                |_| true,
+                0.0,
+            )
+            .map_or(f64::NAN, |gradient| {
+                let rate_of_strain = (gradient + gradient.transpose()) * 0.5;
+                let double_dot: f64 = rate_of_strain.to_cols_array().iter().map(|d| d * d).sum();
+                (2.0 * double_dot).sqrt()
+            })
         })
         .collect()
-}
-
-/// √(2 D:D) of the gradient G M⁻¹ (column-major sums, leading `dim` × `dim` block used);
-/// NaN when M is (nearly) singular.
-fn magnitude(differences: [[f64; 3]; 3], mut moments: [[f64; 3]; 3], dim: usize) -> f64 {
-    let scale = moments.iter().flatten().fold(0.0f64, |s, v| s.max(v.abs()));
-    for (axis, column) in moments.iter_mut().enumerate().skip(dim) {
-        column[axis] = scale;
-    }
-    let moments = DMat3::from_cols_array_2d(&moments);
-    if !(scale > 0.0 && moments.determinant().abs() > 1e-10 * scale.powi(3)) {
-        return f64::NAN;
-    }
-    let gradient = DMat3::from_cols_array_2d(&differences) * moments.inverse();
-    let rate_of_strain = (gradient + gradient.transpose()) * 0.5;
-    let double_dot: f64 = rate_of_strain.to_cols_array().iter().map(|d| d * d).sum();
-    (2.0 * double_dot).sqrt()
 }
 
 #[cfg(test)]

@@ -28,6 +28,7 @@
 //! cell list's fixed order; every reduction over particles runs sequentially in array order.
 //! Results therefore do not depend on the number of threads.
 
+use glam::DMat3;
 use lamella_cells::{CellError, CellList, Domain, Vector};
 use rayon::prelude::*;
 
@@ -36,6 +37,7 @@ use crate::fault::{Fault, FaultCause};
 use crate::forces::{PairViscosity, RateParameters, Rates, density_rates, particle_rates};
 use crate::kernel::Kernel;
 use crate::particles::{Kind, Particles, ReorderScratch};
+use crate::shear_rate::velocity_gradients;
 use crate::shifting::{Regularisation, shift};
 use crate::time_step::{Limit, TimeStepFactors, stable_time_step};
 use crate::walls::{InteractionState, interaction_states};
@@ -58,6 +60,10 @@ pub struct SolverConfig<V: Vector> {
     /// Factor on the viscous term; [`crate::forces::lattice_viscous_normalisation`] of the
     /// initial lattice makes it exact for quadratic profiles, 1 leaves Morris's form unchanged.
     pub viscous_normalisation: f64,
+    /// Adds ∇·(μ ∇uᵀ) to the Morris term, so the viscous force is the divergence of the full
+    /// Newtonian stress ([`crate::forces::transposed_viscous_stress`]); needed where the
+    /// viscosity varies, zero for an incompressible flow of one viscosity.
+    pub full_viscous_stress: bool,
     /// Safety factors of the time step.
     pub time_step: TimeStepFactors,
     /// Particle regularisation.
@@ -120,6 +126,8 @@ struct Scratch<V: Vector> {
     inverse_reference_density: Vec<f64>,
     seen: Vec<InteractionState<V>>,
     rates: Vec<Rates<V>>,
+    /// Velocity gradient of each particle, when the full viscous stress is on.
+    gradients: Vec<DMat3>,
     density_rates: Vec<f64>,
     next_position: Vec<V>,
     next_velocity: Vec<V>,
@@ -261,6 +269,7 @@ impl<V: Vector> Simulation<V> {
             inverse_reference_density,
             seen,
             rates,
+            gradients,
             next_position,
             next_velocity,
             next_density,
@@ -278,7 +287,25 @@ impl<V: Vector> Simulation<V> {
             inverse_reference_density,
             viscous_normalisation: self.config.viscous_normalisation,
         };
-        particle_rates(&params, &self.particles, seen, &self.cells, rates);
+        if self.config.full_viscous_stress {
+            gradients.resize(n, DMat3::ZERO);
+            let states: &[InteractionState<V>] = seen;
+            velocity_gradients(
+                &self.cells,
+                &self.particles,
+                |b| states[b].volume,
+                &self.config.kernel,
+                gradients,
+            );
+        }
+        particle_rates(
+            &params,
+            &self.particles,
+            seen,
+            gradients,
+            &self.cells,
+            rates,
+        );
 
         // Time step from maxima over the fluid (a parallel maximum is exact, so the result
         // does not depend on the thread count).
@@ -487,6 +514,7 @@ mod tests {
             body_force: DVec2::ZERO,
             density_diffusion: 0.0,
             viscous_normalisation: 1.0,
+            full_viscous_stress: false,
             time_step: TimeStepFactors::default(),
             regularisation: Regularisation::None,
             density_tolerance: 0.5,

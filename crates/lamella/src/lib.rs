@@ -6,6 +6,7 @@ mod commands;
 pub mod failure;
 pub mod memory;
 pub mod output;
+pub mod reference;
 pub mod runner;
 pub mod setup;
 

@@ -1,8 +1,12 @@
 //! From a validated case to a ready solver: configuration and initial particles.
 
-use lamella_case::{Case, EquationOfState, Kernel as CaseKernel, PairViscosity as CasePair};
+use lamella_case::{
+    Case, EquationOfState, InitialVelocity, Kernel as CaseKernel, PairViscosity as CasePair,
+};
 use lamella_cells::{Domain, Vector};
 use lamella_sph::forces::lattice_viscous_normalisation;
+
+use crate::reference::channel_reference;
 use lamella_sph::{
     Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation, SetupError, Simulation,
     SolverConfig, StateLaw, TimeStepFactors,
@@ -78,6 +82,9 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         body_force,
         density_diffusion: DENSITY_DIFFUSION,
         viscous_normalisation: lattice_viscous_normalisation(&kernel, dx, dim),
+        // ∇·(μ ∇uᵀ) vanishes for one viscosity (incompressible flow) and is needed across a
+        // viscosity jump.
+        full_viscous_stress: case.viscosity_contrast() > 1.0,
         time_step: TimeStepFactors {
             acoustic: case.time_step.acoustic,
             viscous: case.time_step.viscous,
@@ -98,7 +105,9 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
 }
 
 /// The particles of a case at time zero: the generated lattice (fluid, then walls) with mass
-/// ρ0 dx^d, the phase's viscosity, density ρ0, ids 0, 1, 2, … in generation order.
+/// ρ0 dx^d, the phase's viscosity, density ρ0, ids 0, 1, 2, … in generation order; with
+/// `initial_velocity: SteadyChannel` the fluid velocity is the analytical steady profile
+/// ([`channel_reference`]), each layer's own profile for its particles.
 pub fn initial_particles<V: Vector>(case: &Case) -> Particles<V> {
     let generated = lamella_case::generate::<V>(case);
     let dx = case.particles.spacing;
@@ -116,13 +125,25 @@ pub fn initial_particles<V: Vector>(case: &Case) -> Particles<V> {
         id: (0..n as u64).collect(),
         initial_position: generated.position,
     };
+    let steady = match case.initial_velocity {
+        InitialVelocity::SteadyChannel => channel_reference(case),
+        _ => None,
+    };
+    let upper_phase = case.tracked_interface().map(|pair| pair.upper as u16);
+    let bottom = case.domain.lower[1];
     for i in 0..n {
         let phase = &case.phases[generated.phase[i] as usize];
         let wall = generated.is_wall[i];
-        p.velocity.push(if wall {
-            generated.wall_velocity[i]
-        } else {
-            generated.velocity[i]
+        p.velocity.push(match (&steady, wall) {
+            (_, true) => generated.wall_velocity[i],
+            (None, false) => generated.velocity[i],
+            (Some(reference), false) => {
+                let y = p.position[i].get(1) - bottom;
+                let upper = upper_phase == Some(generated.phase[i]);
+                let mut v = V::ZERO;
+                v.set(0, reference.steady_velocity_in_layer(y, upper));
+                v
+            }
         });
         p.density.push(phase.density);
         p.mass.push(phase.density * volume);
@@ -135,4 +156,98 @@ pub fn initial_particles<V: Vector>(case: &Case) -> Particles<V> {
 /// A simulation of `case` at time zero.
 pub fn simulation<V: Vector>(case: &Case) -> Result<Simulation<V>, SetupError> {
     Simulation::new(solver_config(case)?, initial_particles(case))
+}
+
+/// The particles of `source`, the state of another run of a case with the same particles (the
+/// same ids, kinds and phases as `case` generates), prepared to start `case` from: the
+/// initial positions become the current ones and the fluid particles are moved by the case's
+/// interface seed ([`lamella_case::Seed`]); velocities, densities and the rest are kept. The
+/// error says what differs.
+pub fn developed_particles<V: Vector>(
+    case: &Case,
+    mut source: Particles<V>,
+) -> Result<Particles<V>, String> {
+    let fresh = initial_particles::<V>(case);
+    if source.len() != fresh.len() {
+        return Err(format!(
+            "it holds {} particles, the case makes {}",
+            source.len(),
+            fresh.len()
+        ));
+    }
+    for i in 0..source.len() {
+        let Some(j) = usize::try_from(source.id[i])
+            .ok()
+            .filter(|&j| j < fresh.len())
+        else {
+            return Err(format!(
+                "particle id {} is not one the case makes",
+                source.id[i]
+            ));
+        };
+        if source.kind[i] != fresh.kind[j] || source.phase[i] != fresh.phase[j] {
+            return Err(format!(
+                "particle {} is a {:?} of phase {} there but a {:?} of phase {} in the case",
+                source.id[i], source.kind[i], source.phase[i], fresh.kind[j], fresh.phase[j]
+            ));
+        }
+    }
+    if let Some(seed) = lamella_case::Seed::of(case) {
+        let domain = solver_config::<V>(case)
+            .map_err(|err| format!("cannot set up the solver: {err}"))?
+            .search_domain;
+        for i in (0..source.len()).filter(|&i| source.kind[i] == Kind::Fluid) {
+            let p = source.position[i];
+            let moved =
+                seed.displace([p.get(0), p.get(1), if V::DIM == 3 { p.get(2) } else { 0.0 }]);
+            source.position[i] = domain.wrap(V::from_fn(|a| moved[a]));
+        }
+    }
+    source.initial_position.clone_from(&source.position);
+    Ok(source)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::output::InterfaceTracker;
+    use glam::DVec2;
+
+    fn bundled(name: &str) -> Case {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../../cases")
+            .join(name);
+        lamella_case::load(&path).expect("bundled case")
+    }
+
+    #[test]
+    fn a_steady_start_is_the_analytical_layered_profile() {
+        // Bird, Stewart & Lightfoot §2.5, through `lamella_post::reference::layered`.
+        let mut case = bundled("interface-growth.ron");
+        case.interface_perturbation = None;
+        let reference = channel_reference(&case).expect("a two-layer channel");
+        let p = initial_particles::<DVec2>(&case);
+        let mut fluid = 0;
+        for i in (0..p.len()).filter(|&i| p.kind[i] == Kind::Fluid) {
+            let expected = reference.velocity(p.position[i].y, 0.0);
+            assert!((p.velocity[i].x - expected).abs() <= 1e-15 * expected.abs().max(1e-3));
+            assert_eq!(p.velocity[i].y, 0.0);
+            fluid += 1;
+        }
+        assert_eq!(fluid, 900);
+    }
+
+    #[test]
+    fn a_sub_spacing_seed_moves_the_interface_by_its_amplitude() {
+        // A = 8e-6 m, a fifth of the 4e-5 m spacing, η = A sin(kx) = A cos(kx − π/2).
+        let case = bundled("interface-growth.ron");
+        let p = initial_particles::<DVec2>(&case);
+        let wave = InterfaceTracker::of(&case).expect("recorded").measure(&p);
+        assert!((wave.amplitude / 8.0e-6 - 1.0).abs() < 0.01, "{wave:?}");
+        assert!(
+            (wave.phase + 0.5 * std::f64::consts::PI).abs() < 0.01,
+            "{wave:?}"
+        );
+        assert!(wave.noise < 0.01 * wave.amplitude, "{wave:?}");
+    }
 }

@@ -62,12 +62,18 @@ impl LayeredChannel {
         if !(0.0..=h).contains(&y) {
             return 0.0;
         }
-        let c = self.lower_wall_stress();
-        let f = self.force_density;
-        if y <= self.lower_width {
-            (c * y - 0.5 * f * y * y) / self.lower_viscosity
-        } else {
+        self.velocity_in_layer(y, y > self.lower_width)
+    }
+
+    /// Velocity u(y) (m/s) of one layer's parabola (`upper` picks layer 2), continued past the
+    /// interface: the base flow a particle of that layer carries when a seeded wave has moved
+    /// it a little across the undisturbed interface height.
+    pub fn velocity_in_layer(&self, y: f64, upper: bool) -> f64 {
+        let (c, f, h) = (self.lower_wall_stress(), self.force_density, self.gap());
+        if upper {
             (c * (y - h) - 0.5 * f * (y * y - h * h)) / self.upper_viscosity
+        } else {
+            (c * y - 0.5 * f * y * y) / self.lower_viscosity
         }
     }
 

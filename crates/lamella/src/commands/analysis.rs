@@ -1,12 +1,9 @@
 //! What the analysis commands (`profile`, `growth`, `mix`) share: opening a run folder,
-//! choosing snapshots, the analytical reference of a case, and writing result files
-//! atomically.
+//! choosing snapshots and writing result files atomically.
 
 use std::path::{Path, PathBuf};
 
 use lamella_case::Case;
-use lamella_post::reference::layered::LayeredChannel;
-use lamella_post::reference::startup::PlateGap;
 
 use crate::Failure;
 use crate::output::atomic::write_atomically;
@@ -88,121 +85,6 @@ impl Run {
 pub fn write_file(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
     write_atomically(path, |w| std::io::Write::write_all(w, bytes))
         .map_err(|e| Failure::RunFailed(e.to_string()))
-}
-
-/// The analytical profile u_x(y, t) a case is validated against, when it has one.
-pub enum Reference {
-    /// Two stacked layers driven by a body force (Bird, Stewart & Lightfoot §2.5), steady.
-    Layered(LayeredChannel),
-    /// One fluid driven by a body force between fixed plates, from rest (Morris et al. 1997).
-    Poiseuille {
-        /// Plate gap and kinematic viscosity.
-        gap: PlateGap,
-        /// Body force per unit mass (m/s²).
-        force: f64,
-    },
-    /// One fluid between a fixed and a moving plate, from rest (Morris et al. 1997).
-    Couette {
-        /// Plate gap and kinematic viscosity.
-        gap: PlateGap,
-        /// Speed of the upper plate (m/s).
-        wall_speed: f64,
-    },
-}
-
-impl Reference {
-    /// Streamwise velocity at height `y` above the lower wall and time `t` (m/s).
-    pub fn velocity(&self, y: f64, t: f64) -> f64 {
-        match self {
-            Reference::Layered(c) => c.velocity(y),
-            Reference::Poiseuille { gap, force } => gap.poiseuille_startup(*force, y, t),
-            Reference::Couette { gap, wall_speed } => gap.couette_startup(*wall_speed, y, t),
-        }
-    }
-
-    /// Short name for titles and messages.
-    pub fn name(&self) -> &'static str {
-        match self {
-            Reference::Layered(_) => "layered Poiseuille (Bird, Stewart & Lightfoot §2.5)",
-            Reference::Poiseuille { .. } => "start-up Poiseuille (Morris, Fox & Zhu 1997)",
-            Reference::Couette { .. } => "start-up Couette (Morris, Fox & Zhu 1997)",
-        }
-    }
-}
-
-/// Recognises a channel across y, walled at the bottom and top and periodic along x, flowing
-/// along x: two layers of equal density under a body force, one fluid under a body force, or
-/// one fluid under a moving top wall. `None` for anything else.
-pub fn channel_reference(case: &Case) -> Option<Reference> {
-    use lamella_case::schema::{Axis, Side};
-    // A 3D channel periodic in z with nothing driving along z has the 2D profile.
-    let plane = case.dimension == 2
-        || (case.dimension == 3
-            && case.is_periodic(Axis::Z)
-            && case
-                .body_force
-                .as_ref()
-                .is_none_or(|f| f.get(2).is_none_or(|&g| g == 0.0))
-            && case.walls.iter().all(|w| {
-                w.velocity
-                    .as_ref()
-                    .is_none_or(|v| v.get(2).is_none_or(|&u| u == 0.0))
-            }));
-    if !plane || !case.is_periodic(Axis::X) {
-        return None;
-    }
-    let wall = |side: Side| case.walls.iter().find(|w| w.side == side);
-    let (bottom, top) = (wall(Side::Bottom)?, wall(Side::Top)?);
-    let speed =
-        |w: &lamella_case::schema::Wall| w.velocity.as_ref().map_or([0.0, 0.0], |v| [v[0], v[1]]);
-    if speed(bottom) != [0.0, 0.0] || speed(top)[1] != 0.0 {
-        return None;
-    }
-    let force = case
-        .body_force
-        .as_ref()
-        .map_or([0.0, 0.0], |f| [f[0], f[1]]);
-    if force[1] != 0.0 {
-        return None;
-    }
-    let (lo, hi) = (case.domain.lower[1], case.domain.upper[1]);
-    let mu = |p: usize| case.phases[p].viscosity_law.reference_viscosity();
-    let bands = case.layer_bands();
-    let pairs = case.layer_pairs();
-    if pairs.len() == 1 && bands.len() == 2 && speed(top)[0] == 0.0 {
-        let (a, b) = (&bands[0], &bands[1]);
-        let tol = 1e-9 * (hi - lo);
-        let covers = (a.bottom - lo).abs() <= tol && (b.top - hi).abs() <= tol;
-        let rho = case.phases[a.phase].density;
-        if !covers || case.phases[b.phase].density != rho {
-            return None;
-        }
-        return Some(Reference::Layered(LayeredChannel {
-            lower_width: a.top - a.bottom,
-            upper_width: b.top - b.bottom,
-            lower_viscosity: mu(a.phase),
-            upper_viscosity: mu(b.phase),
-            force_density: rho * force[0],
-        }));
-    }
-    if case.phases.len() != 1 {
-        return None;
-    }
-    let gap = PlateGap {
-        gap: hi - lo,
-        nu: mu(0) / case.phases[0].density,
-    };
-    match (force[0] != 0.0, speed(top)[0] != 0.0) {
-        (true, false) => Some(Reference::Poiseuille {
-            gap,
-            force: force[0],
-        }),
-        (false, true) => Some(Reference::Couette {
-            gap,
-            wall_speed: speed(top)[0],
-        }),
-        _ => None,
-    }
 }
 
 /// Parses "a,b,c" into numbers, naming the option on failure.

@@ -14,9 +14,10 @@ use lamella_post::table::csv_document;
 
 use crate::Failure;
 use crate::cli::Globals;
-use crate::commands::analysis::{channel_reference, parse_list, write_file};
+use crate::commands::analysis::{parse_list, write_file};
 use crate::commands::check::load_case;
 use crate::commands::profile::profile;
+use crate::reference::channel_reference;
 
 /// Options of `lamella converge`.
 #[derive(Debug, clap::Args)]

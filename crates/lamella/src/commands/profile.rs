@@ -11,7 +11,8 @@ use lamella_sph::Kind;
 
 use crate::Failure;
 use crate::cli::Globals;
-use crate::commands::analysis::{Reference, Run, channel_reference, write_file};
+use crate::commands::analysis::{Run, write_file};
+use crate::reference::{Reference, channel_reference};
 
 /// Options of `lamella profile`.
 #[derive(Debug, clap::Args)]

@@ -28,6 +28,19 @@ pub struct Args {
     /// The run folder written by `lamella run --out DIR`.
     #[arg(value_name = "DIR")]
     pub folder: PathBuf,
+    /// Run on to this simulated time (s) instead of the case's end time: extends a finished
+    /// or stopped run (snapshots and samples go on at the case's intervals). Give it again if
+    /// an extended run is interrupted and resumed.
+    #[arg(long, value_name = "SECONDS", value_parser = parse_end_time)]
+    pub until: Option<f64>,
+}
+
+/// A finite, positive end time.
+fn parse_end_time(text: &str) -> Result<f64, String> {
+    match text.trim().parse::<f64>() {
+        Ok(t) if t.is_finite() && t > 0.0 => Ok(t),
+        _ => Err(format!("{text:?} is not a positive time in seconds")),
+    }
 }
 
 /// Restores the newest valid checkpoint of the run folder and runs on to the end time.
@@ -39,8 +52,8 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     })?;
     let stop = interrupt_flag()?;
     match case.dimension {
-        2 => resume_case::<DVec2>(folder, &case, &case_text, &stop, globals),
-        3 => resume_case::<DVec3>(folder, &case, &case_text, &stop, globals),
+        2 => resume_case::<DVec2>(folder, &case, &case_text, args.until, &stop, globals),
+        3 => resume_case::<DVec3>(folder, &case, &case_text, args.until, &stop, globals),
         other => Err(Failure::BadInput(format!(
             "{}: dimension {other} is not supported; use 2 or 3",
             folder.case().display()
@@ -69,10 +82,19 @@ fn resume_case<V: Vector>(
     folder: RunFolder,
     case: &Case,
     case_text: &str,
+    until: Option<f64>,
     stop: &AtomicBool,
     globals: Globals,
 ) -> Result<(), Failure> {
     let restored = CheckpointStore::new(folder.checkpoints()).newest_valid::<V>()?;
+    let end = until.unwrap_or(case.time.end);
+    if end < restored.checkpoint.time {
+        return Err(Failure::BadInput(format!(
+            "--until {end:e} s is before the newest checkpoint ({:e} s, {}); give a later time",
+            restored.checkpoint.time,
+            restored.path.display()
+        )));
+    }
     for skipped in &restored.skipped {
         eprintln!("warning: skipping a damaged checkpoint: {skipped}");
     }
@@ -103,9 +125,12 @@ fn resume_case<V: Vector>(
             restored.path.display()
         ))
     })?;
+    if until.is_some() {
+        recorder.note(&format!("run on to t = {end:e} s (--until)"))?;
+    }
     let summary = run_to_end(
         &mut sim,
-        case.time.end,
+        end,
         &mut recorder,
         stop,
         ProgressMode::from_quiet(globals.quiet),

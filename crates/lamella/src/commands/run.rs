@@ -9,12 +9,13 @@ use std::sync::atomic::AtomicBool;
 use glam::{DVec2, DVec3};
 use lamella_case::Case;
 use lamella_cells::Vector;
+use lamella_sph::{SetupError, Simulation};
 
 use crate::Failure;
 use crate::cli::Globals;
 use crate::commands::check::load_case;
 use crate::commands::resume::interrupt_flag;
-use crate::output::Recorder;
+use crate::output::{CheckpointStore, Recorder, RunFolder};
 use crate::runner::{ProgressMode, run_to_end};
 use crate::setup;
 
@@ -36,6 +37,12 @@ pub struct Args {
     /// are deleted).
     #[arg(long)]
     pub force: bool,
+    /// Start from the newest state of another run folder instead of the case's initial
+    /// particles (e.g. a developed, unperturbed run of the same channel): its positions,
+    /// velocities and densities at time zero, with this case's interface seed applied. The
+    /// case must make the same particles (same spacing, domain, walls and layers).
+    #[arg(long, value_name = "RUN")]
+    pub start_from: Option<PathBuf>,
 }
 
 /// Validates the case and the run folder, runs the case to its end time and writes snapshots.
@@ -60,9 +67,13 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         .map_err(|err| Failure::BadInput(format!("cannot read {}: {err}", args.case.display())))?;
     let stop = interrupt_flag()?;
     let name = case_name(&args.case);
+    let start = Start {
+        from: args.start_from.as_deref(),
+        force: args.force,
+    };
     match case.dimension {
-        2 => run_case::<DVec2>(&case, &case_text, &name, &out, args.force, &stop, globals),
-        3 => run_case::<DVec3>(&case, &case_text, &name, &out, args.force, &stop, globals),
+        2 => run_case::<DVec2>(&case, &case_text, &name, &out, start, &stop, globals),
+        3 => run_case::<DVec3>(&case, &case_text, &name, &out, start, &stop, globals),
         other => Err(Failure::BadInput(format!(
             "{}: dimension {other} is not supported; use 2 or 3",
             args.case.display()
@@ -75,17 +86,58 @@ fn case_name(path: &Path) -> String {
         .map_or_else(|| "case".to_string(), |s| s.to_string_lossy().into_owned())
 }
 
+/// Where a new run starts from.
+#[derive(Clone, Copy)]
+struct Start<'a> {
+    /// Another run folder whose newest state to start from.
+    from: Option<&'a Path>,
+    /// Replace an existing run folder.
+    force: bool,
+}
+
+/// The simulation at time zero: the case's particles, or the newest state of the run folder
+/// `from` prepared by [`setup::developed_particles`]; with a note for the run log.
+fn initial_simulation<V: Vector>(
+    case: &Case,
+    from: Option<&Path>,
+) -> Result<(Simulation<V>, Option<String>), Failure> {
+    let setup_failed =
+        |err: SetupError| Failure::BadInput(format!("cannot set up the solver: {err}"));
+    let Some(source) = from else {
+        return Ok((setup::simulation::<V>(case).map_err(setup_failed)?, None));
+    };
+    let folder = RunFolder::open(source)?;
+    let restored = CheckpointStore::new(folder.checkpoints()).newest_valid::<V>()?;
+    let particles =
+        setup::developed_particles(case, restored.checkpoint.particles).map_err(|why| {
+            Failure::BadInput(format!(
+                "--start-from {}: the state in {} does not fit the case: {why}; start from a run \
+             of a case with the same spacing, domain, walls and layers",
+                source.display(),
+                restored.path.display()
+            ))
+        })?;
+    let config = setup::solver_config::<V>(case).map_err(setup_failed)?;
+    let sim = Simulation::new(config, particles).map_err(setup_failed)?;
+    let note = format!(
+        "started from the state of {} at t = {:e} s ({})",
+        source.display(),
+        restored.checkpoint.time,
+        restored.path.display()
+    );
+    Ok((sim, Some(note)))
+}
+
 fn run_case<V: Vector>(
     case: &Case,
     case_text: &str,
     name: &str,
     out: &Path,
-    force: bool,
+    start: Start<'_>,
     stop: &AtomicBool,
     globals: Globals,
 ) -> Result<(), Failure> {
-    let mut sim = setup::simulation::<V>(case)
-        .map_err(|err| Failure::BadInput(format!("cannot set up the solver: {err}")))?;
+    let (mut sim, note) = initial_simulation::<V>(case, start.from)?;
     if !globals.quiet {
         eprintln!(
             "{name}: {} particles, sound speed {:.4e} m/s, end time {:.4e} s",
@@ -94,7 +146,13 @@ fn run_case<V: Vector>(
             case.time.end
         );
     }
-    let mut observer = Recorder::<V>::start(out, force, case, case_text, name)?;
+    let mut observer = Recorder::<V>::start(out, start.force, case, case_text, name)?;
+    if let Some(note) = note {
+        if !globals.quiet {
+            eprintln!("{name}: {note}");
+        }
+        observer.note(&note)?;
+    }
     let summary = run_to_end(
         &mut sim,
         case.time.end,

@@ -16,4 +16,5 @@ pub use checkpoint::{Checkpoint, CheckpointStore};
 pub use error::OutputError;
 pub use folder::RunFolder;
 pub use recorder::Recorder;
+pub use series::InterfaceTracker;
 pub use snapshot::{Snapshot, SnapshotMeta, read_snapshot, write_snapshot};

@@ -13,7 +13,7 @@ use super::checkpoint::{Checkpoint, CheckpointStore, Value, checksum};
 use super::collection::Collection;
 use super::folder::{RunFolder, RunLog};
 use super::probes::{Probe, ProbeFiles};
-use super::series::{FlowStatistics, SeriesFile, SeriesRow};
+use super::series::{FlowStatistics, InterfaceTracker, SeriesFile, SeriesRow};
 use super::snapshot::shear_rate_field;
 use super::{OutputError, SnapshotMeta, write_snapshot};
 use crate::Failure;
@@ -40,6 +40,8 @@ pub struct Recorder<V: Vector> {
     next_sample: u64,
     collection: Collection,
     series: SeriesFile,
+    /// Measures the tracked interface wave for the series, when the case records it.
+    interface: Option<InterfaceTracker>,
     probes: ProbeFiles<V>,
     checkpoints: CheckpointStore,
     checkpoint_every: Duration,
@@ -63,7 +65,9 @@ impl<V: Vector> Recorder<V> {
         let folder = RunFolder::create(root, force)?;
         folder.save_case(case_text)?;
         let phase_names: Vec<String> = case.phases.iter().map(|p| p.name.clone()).collect();
-        let series = SeriesFile::create(&folder.series(), &phase_names, V::DIM)?;
+        let interface = InterfaceTracker::of(case);
+        let series =
+            SeriesFile::create(&folder.series(), &phase_names, V::DIM, interface.is_some())?;
         let probes = ProbeFiles::create(&folder.probes(), probes_of(case))?;
         let mut log = RunLog::open(&folder.log())?;
         log.line(&format!("run of {case_name} started"))?;
@@ -78,6 +82,7 @@ impl<V: Vector> Recorder<V> {
             next_snapshot: 0,
             next_sample: 0,
             series,
+            interface,
             probes,
             checkpoint_every: checkpoint_every(case),
             last_checkpoint: Instant::now(),
@@ -112,7 +117,13 @@ impl<V: Vector> Recorder<V> {
         };
         let count = |name: &str| checkpoint.u64_value(name).ok_or_else(|| missing(name));
         let phase_names: Vec<String> = case.phases.iter().map(|p| p.name.clone()).collect();
-        let series = SeriesFile::reopen(&folder.series(), count(SERIES_BYTES)?, phase_names.len())?;
+        let interface = InterfaceTracker::of(case);
+        let series = SeriesFile::reopen(
+            &folder.series(),
+            count(SERIES_BYTES)?,
+            phase_names.len(),
+            interface.is_some(),
+        )?;
         let probe_lengths = (0..count(PROBE_COUNT)?)
             .map(|k| count(&probe_bytes_name(k as usize)))
             .collect::<Result<Vec<u64>, _>>()?;
@@ -147,6 +158,7 @@ impl<V: Vector> Recorder<V> {
             next_snapshot: count(NEXT_SNAPSHOT)?,
             next_sample: count(NEXT_SAMPLE)?,
             series,
+            interface,
             probes,
             checkpoint_every: checkpoint_every(case),
             last_checkpoint: Instant::now(),
@@ -242,6 +254,7 @@ impl<V: Vector> Recorder<V> {
             &config.reference_density,
             config.search_domain,
             config.kernel.support_radius(),
+            self.interface.as_ref(),
         )?;
         debug_assert_eq!(statistics.kinetic_energy.len(), self.phase_names.len());
         self.series.append(&SeriesRow {

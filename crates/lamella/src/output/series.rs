@@ -7,13 +7,22 @@
 //! kernel support, across periodic seams too) and `interface_rms_displacement_m` (root mean
 //! square of those particles' displacement from their initial position across the layers,
 //! along y, minimum image on a periodic y).
+//! When the case records `InterfaceAmplitude` and has a tracked interface
+//! ([`lamella_case::Case::tracked_interface`]), three more columns follow:
+//! `interface_mode_amplitude_m` and `interface_mode_phase_rad`, the amplitude A and phase φ
+//! of the tracked Fourier mode of the interface height (η ≈ A cos(k (x − x_lower) + φ),
+//! k = 2π/λ with λ = [`lamella_case::Case::tracked_wavelength`]; see
+//! [`lamella_post::interface`]), and `interface_noise_m`, the root mean square of the other
+//! resolved modes' amplitudes.
 //! Numbers are written in the shortest form that reads back to the same bits.
 
 use std::fs::{File, OpenOptions};
 use std::io::{BufWriter, Write};
 use std::path::{Path, PathBuf};
 
+use lamella_case::{Analysis, Axis, Case};
 use lamella_cells::{CellError, Domain, Vector};
+use lamella_post::interface::{InterfaceWave, Strip, interface_wave};
 use lamella_sph::{Kind, Particles};
 use rayon::prelude::*;
 
@@ -36,6 +45,84 @@ pub struct FlowStatistics {
     pub interface_particles: u64,
     /// RMS displacement of the interface particles along [`LAYER_NORMAL_AXIS`] (m).
     pub interface_rms_displacement: f64,
+    /// The tracked interface wave, when the case records it.
+    pub interface_wave: Option<InterfaceWave>,
+}
+
+/// Most Fourier modes of the interface height a sample resolves (the noise measure's reach).
+const MAX_INTERFACE_MODES: usize = 64;
+
+/// Which particles lie below the tracked interface, and which of its modes to record.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct InterfaceTracker {
+    /// Phase of the layer under the interface.
+    lower_phase: u16,
+    /// A particle of that phase counts when its initial height is below this (m): halfway to
+    /// the next layer boundary above, so a third layer of the same phase does not count.
+    below_height: f64,
+    strip: Strip,
+    /// Mode number of the tracked wave (wavelengths per period).
+    tracked: usize,
+    /// Modes resolved for the noise: up to one per two spacings, at most 64.
+    modes: usize,
+}
+
+impl InterfaceTracker {
+    /// The tracker of a case that lists `InterfaceAmplitude` in `output.analyses`, has a
+    /// tracked interface and is periodic along x; `None` otherwise.
+    pub fn of(case: &Case) -> Option<Self> {
+        if !case.output.analyses.contains(&Analysis::InterfaceAmplitude) {
+            return None;
+        }
+        let pair = case.tracked_interface()?;
+        if !case.is_periodic(Axis::X) {
+            return None;
+        }
+        let below_height = case
+            .interior_layer_boundaries()
+            .into_iter()
+            .find(|&y| y > pair.interface * (1.0 + 1e-12) + 1e-12 * case.extent(1))
+            .map_or(f64::INFINITY, |next| 0.5 * (pair.interface + next));
+        let length = case.extent(0);
+        let tracked = (length / case.tracked_wavelength()).round().max(1.0) as usize;
+        let columns = (length / case.particles.spacing).round() as usize;
+        let modes = (columns / 2).clamp(tracked, MAX_INTERFACE_MODES.max(tracked));
+        Some(InterfaceTracker {
+            lower_phase: pair.lower as u16,
+            below_height,
+            strip: Strip {
+                x0: case.domain.lower[0],
+                length,
+                depth: if case.dimension == 3 {
+                    case.extent(2)
+                } else {
+                    1.0
+                },
+            },
+            tracked,
+            modes,
+        })
+    }
+
+    /// The tracked wave of `particles`.
+    pub fn measure<V: Vector>(&self, particles: &Particles<V>) -> InterfaceWave {
+        let axis = LAYER_NORMAL_AXIS.min(V::DIM - 1);
+        let below: Vec<bool> = (0..particles.len())
+            .map(|i| {
+                particles.kind[i] == Kind::Fluid
+                    && particles.phase[i] == self.lower_phase
+                    && particles.initial_position[i].get(axis) < self.below_height
+            })
+            .collect();
+        let x: Vec<f64> = particles.position.iter().map(|p| p.get(0)).collect();
+        let volume: Vec<f64> = particles
+            .mass
+            .iter()
+            .zip(&particles.density)
+            .map(|(m, rho)| m / rho)
+            .collect();
+        interface_wave(&x, &volume, &below, self.strip, self.tracked, self.modes)
+    }
 }
 
 impl FlowStatistics {
@@ -49,6 +136,7 @@ impl FlowStatistics {
         reference_density: &[f64],
         domain: Domain<V>,
         radius: f64,
+        tracker: Option<&InterfaceTracker>,
     ) -> Result<Self, CellError> {
         let mut kinetic_energy = vec![0.0; reference_density.len()];
         let mut max_speed: f64 = 0.0;
@@ -87,6 +175,7 @@ impl FlowStatistics {
             max_density_deviation,
             interface_particles,
             interface_rms_displacement,
+            interface_wave: tracker.map(|t| t.measure(particles)),
         })
     }
 }
@@ -137,22 +226,27 @@ pub struct SeriesFile {
     path: PathBuf,
     writer: BufWriter<File>,
     phases: usize,
+    /// True when the interface wave columns are written.
+    interface: bool,
 }
 
 impl SeriesFile {
-    /// Creates `path` with the header for `phase_names` in `dimension` 2 or 3.
+    /// Creates `path` with the header for `phase_names` in `dimension` 2 or 3, with the
+    /// interface wave columns when `interface` is true.
     pub fn create(
         path: &Path,
         phase_names: &[String],
         dimension: usize,
+        interface: bool,
     ) -> Result<Self, OutputError> {
         let file = File::create(path).map_err(|err| OutputError::write(path, err))?;
         let mut series = SeriesFile {
             path: path.to_path_buf(),
             writer: BufWriter::new(file),
             phases: phase_names.len(),
+            interface,
         };
-        let header = header(phase_names, dimension);
+        let header = header(phase_names, dimension, interface);
         series
             .writer
             .write_all(header.as_bytes())
@@ -163,12 +257,18 @@ impl SeriesFile {
 
     /// Reopens `path` for appending after cutting it back to `length` bytes (the length it
     /// had at the checkpoint a run resumes from, so no row is doubled).
-    pub fn reopen(path: &Path, length: u64, phases: usize) -> Result<Self, OutputError> {
+    pub fn reopen(
+        path: &Path,
+        length: u64,
+        phases: usize,
+        interface: bool,
+    ) -> Result<Self, OutputError> {
         let file = reopen_at(path, length)?;
         Ok(SeriesFile {
             path: path.to_path_buf(),
             writer: BufWriter::new(file),
             phases,
+            interface,
         })
     }
 
@@ -191,12 +291,27 @@ impl SeriesFile {
             line.push_str(&format!(",{energy:e}"));
         }
         line.push_str(&format!(
-            ",{:e},{:e},{},{:e}\n",
+            ",{:e},{:e},{},{:e}",
             s.max_speed,
             s.max_density_deviation,
             s.interface_particles,
             s.interface_rms_displacement
         ));
+        match (self.interface, &s.interface_wave) {
+            (false, _) => {}
+            (true, Some(wave)) => line.push_str(&format!(
+                ",{:e},{:e},{:e}",
+                wave.amplitude, wave.phase, wave.noise
+            )),
+            (true, None) => {
+                return Err(OutputError::invalid(
+                    &self.path,
+                    "series row",
+                    "no interface wave for the interface columns".to_string(),
+                ));
+            }
+        }
+        line.push('\n');
         self.writer
             .write_all(line.as_bytes())
             .map_err(|err| OutputError::write(&self.path, err))
@@ -248,7 +363,7 @@ pub(crate) fn flush_and_sync(
         .len())
 }
 
-fn header(phase_names: &[String], dimension: usize) -> String {
+fn header(phase_names: &[String], dimension: usize, interface: bool) -> String {
     let energy_unit = if dimension == 2 { "J_per_m" } else { "J" };
     let mut header = String::from("time_s,step,dt_s,dt_limit");
     for name in phase_names {
@@ -258,8 +373,12 @@ fn header(phase_names: &[String], dimension: usize) -> String {
         ));
     }
     header.push_str(
-        ",max_speed_m_per_s,max_density_deviation,interface_particles,interface_rms_displacement_m\n",
+        ",max_speed_m_per_s,max_density_deviation,interface_particles,interface_rms_displacement_m",
     );
+    if interface {
+        header.push_str(",interface_mode_amplitude_m,interface_mode_phase_rad,interface_noise_m");
+    }
+    header.push('\n');
     header
 }
 
@@ -312,8 +431,14 @@ mod tests {
 
     #[test]
     fn statistics_count_fluid_only_and_find_the_interface_pair() {
-        let s =
-            FlowStatistics::of(&two_phases(), &[1000.0, 1000.0], domain([false; 3]), 1.1).unwrap();
+        let s = FlowStatistics::of(
+            &two_phases(),
+            &[1000.0, 1000.0],
+            domain([false; 3]),
+            1.1,
+            None,
+        )
+        .unwrap();
         // ½·2·(1² + 2²) and ½·2·(3² + 4²); the wall particle's 100 m/s is ignored.
         assert_eq!(s.kinetic_energy, vec![5.0, 25.0]);
         assert_eq!(s.max_speed, 4.0);
@@ -329,14 +454,20 @@ mod tests {
         // x periodic with period 4: x = 3 (phase 1) and x = 0 (phase 0) are 1 apart across the
         // seam, so every fluid particle now touches the other phase.
         let mut p = two_phases();
-        let s =
-            FlowStatistics::of(&p, &[1000.0, 1000.0], domain([true, false, false]), 1.1).unwrap();
+        let s = FlowStatistics::of(
+            &p,
+            &[1000.0, 1000.0],
+            domain([true, false, false]),
+            1.1,
+            None,
+        )
+        .unwrap();
         assert_eq!(s.interface_particles, 4);
         // y periodic on [−0.05, 2.95): a particle that left through the top (2.9 → 0) has
         // moved 0.1, not −2.9. Displacements along y: 0.1, −0.5, 0, 0.
         p.initial_position[0].y = 2.9;
         let both = Domain::new(DVec2::new(-0.5, -0.05), DVec2::new(3.5, 2.95), [true; 3]).unwrap();
-        let s = FlowStatistics::of(&p, &[1000.0, 1000.0], both, 1.1).unwrap();
+        let s = FlowStatistics::of(&p, &[1000.0, 1000.0], both, 1.1, None).unwrap();
         assert_eq!(s.interface_particles, 4);
         let expected = ((0.01 + 0.25) / 4.0f64).sqrt();
         assert!(
@@ -350,7 +481,7 @@ mod tests {
     fn a_particle_outside_the_domain_is_an_error_not_a_panic() {
         let mut p = two_phases();
         p.position[2].y = 5.0;
-        assert!(FlowStatistics::of(&p, &[1000.0, 1000.0], domain([false; 3]), 1.1).is_err());
+        assert!(FlowStatistics::of(&p, &[1000.0, 1000.0], domain([false; 3]), 1.1, None).is_err());
     }
 
     #[test]
@@ -368,16 +499,17 @@ mod tests {
                 &[1000.0, 1000.0],
                 domain([false; 3]),
                 1.1,
+                None,
             )
             .unwrap(),
         };
-        let mut series = SeriesFile::create(&path, &names, 2).unwrap();
+        let mut series = SeriesFile::create(&path, &names, 2, false).unwrap();
         series.append(&row(1)).unwrap();
         let at_checkpoint = series.flush().unwrap();
         series.append(&row(2)).unwrap();
         series.flush().unwrap();
         drop(series);
-        let mut resumed = SeriesFile::reopen(&path, at_checkpoint, 2).unwrap();
+        let mut resumed = SeriesFile::reopen(&path, at_checkpoint, 2, false).unwrap();
         resumed.append(&row(2)).unwrap();
         resumed.flush().unwrap();
         let text = std::fs::read_to_string(&path).unwrap();
@@ -391,6 +523,6 @@ mod tests {
             "{}",
             lines[2]
         );
-        assert!(SeriesFile::reopen(&path, 1 << 20, 2).is_err());
+        assert!(SeriesFile::reopen(&path, 1 << 20, 2, false).is_err());
     }
 }

@@ -1,0 +1,134 @@
+//! The analytical channel profile of a case: what `profile` and `converge` compare with, and
+//! what a run started with `initial_velocity: SteadyChannel` starts from.
+
+use lamella_case::{Case, ChannelFlow, InitialVelocity};
+use lamella_post::reference::layered::LayeredChannel;
+use lamella_post::reference::startup::PlateGap;
+
+/// The analytical profile u_x(y, t) a case is validated against, when it has one.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Reference {
+    /// Two stacked layers driven by a body force (Bird, Stewart & Lightfoot §2.5), steady.
+    Layered(LayeredChannel),
+    /// One fluid driven by a body force between fixed plates (Morris et al. 1997).
+    Poiseuille {
+        /// Plate gap and kinematic viscosity.
+        gap: PlateGap,
+        /// Body force per unit mass (m/s²).
+        force: f64,
+        /// True when the run starts from rest (start-up series), false when it starts steady.
+        from_rest: bool,
+    },
+    /// One fluid between a fixed and a moving plate (Morris et al. 1997).
+    Couette {
+        /// Plate gap and kinematic viscosity.
+        gap: PlateGap,
+        /// Speed of the upper plate (m/s).
+        wall_speed: f64,
+        /// True when the run starts from rest (start-up series), false when it starts steady.
+        from_rest: bool,
+    },
+}
+
+impl Reference {
+    /// Streamwise velocity at height `y` above the lower wall and time `t` (m/s).
+    pub fn velocity(&self, y: f64, t: f64) -> f64 {
+        match *self {
+            Reference::Layered(c) => c.velocity(y),
+            Reference::Poiseuille {
+                gap,
+                force,
+                from_rest,
+            } => {
+                if from_rest {
+                    gap.poiseuille_startup(force, y, t)
+                } else {
+                    gap.poiseuille_steady(force, y)
+                }
+            }
+            Reference::Couette {
+                gap,
+                wall_speed,
+                from_rest,
+            } => {
+                if from_rest {
+                    gap.couette_startup(wall_speed, y, t)
+                } else {
+                    wall_speed * y / gap.gap
+                }
+            }
+        }
+    }
+
+    /// The steady velocity (m/s) of a fluid particle of the lower (`upper` false) or upper
+    /// layer at height `y` above the lower wall: each layer's own profile, continued past the
+    /// interface for a particle a seeded wave has moved across it.
+    pub fn steady_velocity_in_layer(&self, y: f64, upper: bool) -> f64 {
+        match *self {
+            Reference::Layered(c) => c.velocity_in_layer(y, upper),
+            Reference::Poiseuille { gap, force, .. } => gap.poiseuille_steady(force, y),
+            Reference::Couette {
+                gap, wall_speed, ..
+            } => wall_speed * y / gap.gap,
+        }
+    }
+
+    /// Short name for titles and messages.
+    pub fn name(&self) -> &'static str {
+        match self {
+            Reference::Layered(_) => "layered Poiseuille (Bird, Stewart & Lightfoot §2.5)",
+            Reference::Poiseuille {
+                from_rest: true, ..
+            } => "start-up Poiseuille (Morris, Fox & Zhu 1997)",
+            Reference::Poiseuille { .. } => "steady Poiseuille (Morris, Fox & Zhu 1997)",
+            Reference::Couette {
+                from_rest: true, ..
+            } => "start-up Couette (Morris, Fox & Zhu 1997)",
+            Reference::Couette { .. } => "steady Couette (Morris, Fox & Zhu 1997)",
+        }
+    }
+}
+
+/// The reference of a channel case ([`Case::channel_flow`]); `None` for anything else.
+pub fn channel_reference(case: &Case) -> Option<Reference> {
+    let from_rest = !matches!(case.initial_velocity, InitialVelocity::SteadyChannel);
+    Some(match case.channel_flow()? {
+        ChannelFlow::TwoLayers {
+            lower_width,
+            upper_width,
+            lower_viscosity,
+            upper_viscosity,
+            force_density,
+        } => Reference::Layered(LayeredChannel {
+            lower_width,
+            upper_width,
+            lower_viscosity,
+            upper_viscosity,
+            force_density,
+        }),
+        ChannelFlow::Poiseuille {
+            gap,
+            kinematic_viscosity,
+            force,
+        } => Reference::Poiseuille {
+            gap: PlateGap {
+                gap,
+                nu: kinematic_viscosity,
+            },
+            force,
+            from_rest,
+        },
+        ChannelFlow::Couette {
+            gap,
+            kinematic_viscosity,
+            wall_speed,
+        } => Reference::Couette {
+            gap: PlateGap {
+                gap,
+                nu: kinematic_viscosity,
+            },
+            wall_speed,
+            from_rest,
+        },
+    })
+}
