@@ -299,7 +299,8 @@ pub fn report(measured: &Measurement, fit: &ModeFit) -> String {
 }
 
 /// Amplitude against time on a log axis, with the noise floor, the fitted exponential over the
-/// window and, when given, a predicted rate (1/s) anchored at the fit's start.
+/// window and, when given, the exponential of a predicted rate (1/s) from the fitted amplitude
+/// at the start of the window to the end of the record.
 pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>) -> Chart {
     let mut series = vec![
         Series {
@@ -332,13 +333,16 @@ pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>)
         heading = format!("{title}: growth rate {:.3e} 1/s", fit.rate);
         if let Some(rate) = predicted {
             let anchor = fit.amplitude(fit.start);
+            let (x, y): (Vec<f64>, Vec<f64>) = measured
+                .time
+                .iter()
+                .filter(|&&t| t >= fit.start)
+                .map(|&t| (t, anchor * (rate * (t - fit.start)).exp()))
+                .unzip();
             series.push(Series {
                 label: format!("theory, {rate:.3e} 1/s"),
-                x: inside.clone(),
-                y: inside
-                    .iter()
-                    .map(|&t| anchor * (rate * (t - fit.start)).exp())
-                    .collect(),
+                x,
+                y,
                 style: Style::Line,
             });
             heading = format!("{title}: measured against predicted growth");
