@@ -34,10 +34,16 @@ pub const COLUMNS: [&str; 4] = [
 #[derive(Debug, clap::Args)]
 #[command(
     after_help = "Reads DIR/series.csv (the case must list InterfaceAmplitude in \
-    output.analyses) and DIR/case.ron. Writes growth.csv and growth.png into --out [default: \
-    DIR/analysis], also when the fit refuses. Exit codes: 0 done, 1 a file could not be \
-    written, 2 bad input, or the fit refuses (inside the start-up, near the noise floor, past \
-    the linear stage, R² under the minimum, too few samples)."
+    output.analyses) and DIR/case.ron. The growth rate is the slope of ln(amplitude) against \
+    time, the wave speed -(d phase/dt)/k from the unwrapped phase, both with 95 % intervals \
+    (Student t).\n\nThe automatic window starts after the start-up, keeps the samples whose \
+    amplitude lies between 3 times the noise floor and the linear limit (k·A <= 0.1 and at \
+    most a tenth of the thinner layer), may skip a settling transient in the first third of \
+    them, and grows while R² >= --min-r2. A fit under the minimum R² is never accepted.\n\n\
+    Writes growth.csv and growth.png into --out [default: DIR/analysis], also when the fit \
+    refuses. Exit codes: 0 done, 1 a file could not be written, 2 bad input, or the fit \
+    refuses (inside the start-up, near the noise floor, past the linear stage, R² under the \
+    minimum, too few samples)."
 )]
 pub struct Args {
     /// The run folder written by `lamella run`.
@@ -53,7 +59,8 @@ pub struct Args {
 /// The options of the growth fit, shared with `lamella stability --run`.
 #[derive(Debug, clap::Args)]
 pub struct FitArgs {
-    /// Fit window START,END (s) [default: chosen from the data, see `lamella growth --help`].
+    /// Fit window START,END (s) [default: chosen from the data, see `lamella growth --help`];
+    /// refused if it starts inside the start-up or reaches under 3 times the noise floor.
     #[arg(long, value_name = "START,END")]
     pub window: Option<String>,
     /// Smallest R² of ln(amplitude) against time, in (0, 1] (common practice: 0.98).
@@ -264,8 +271,8 @@ fn output_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf, Fail
     Ok(dir)
 }
 
-/// The lines `lamella growth` prints for a fit (also used by `lamella stability --run`).
-pub fn report(measured: &Measurement, fit: &ModeFit) -> String {
+/// The lines `lamella growth` prints for a fit.
+fn report(measured: &Measurement, fit: &ModeFit) -> String {
     let k = growth::wavenumber(measured.wavelength);
     format!(
         "interface mode in {}: wavelength {:.4e} m (k = {k:.4e} 1/m), {} samples, t = {:.4}..{:.4} s\n\
