@@ -259,7 +259,15 @@ fn growth_fits_rate_and_wave_speed_of_a_recorded_mode_and_refuses_bad_records() 
     let grows = grows.to_str().unwrap();
     let quiet = dir.path().join("quiet");
     synthetic_run(&quiet, 0.1, 4e-3, 2e-9, 1e-9); // at most 2.7 times the floor
-    let refusals: [(&[&str], &str); 4] = [
+    // A case that lists InterfaceAmplitude with a series.csv that lacks the mode.
+    let old = dir.path().join("old");
+    synthetic_run(&old, 2.5, 4e-3, 1e-7, 1e-9);
+    std::fs::write(old.join("series.csv"), "time_s,step\n0e0,0\n1e-2,1\n").unwrap();
+    let refusals: [(&[&str], &str); 5] = [
+        (
+            &["growth", old.to_str().unwrap()],
+            "lists InterfaceAmplitude",
+        ),
         (
             &["growth", grows, "--window", "0.2,0.6"],
             "inside the start-up",

@@ -142,11 +142,23 @@ pub fn measure(folder: &RunFolder, case: &Case, fit: &FitArgs) -> Result<Measure
         None => (case.start_up_time(), "the case"),
     };
     let series = folder.series();
-    let hint = format!(
-        "the run did not record the interface mode: add InterfaceAmplitude to output.analyses \
-         in {} and run the case again",
-        case_path.display()
-    );
+    let listed = case
+        .output
+        .analyses
+        .contains(&lamella_case::Analysis::InterfaceAmplitude);
+    let hint = if listed {
+        format!(
+            "the run did not record the interface mode although {} lists InterfaceAmplitude \
+             (a run made by an older Lamella?); run the case again",
+            case_path.display()
+        )
+    } else {
+        format!(
+            "the run did not record the interface mode: add InterfaceAmplitude to \
+             output.analyses in {} and run the case again",
+            case_path.display()
+        )
+    };
     let columns = read_columns(&series, &COLUMNS, &hint)?;
     let [time, amplitude, phase, noise] = <[Vec<f64>; 4]>::try_from(columns)
         .map_err(|_| Failure::BadInput(format!("{}: columns missing", series.display())))?;
