@@ -52,7 +52,7 @@ pub enum Command {
     Profile(commands::profile::Args),
     /// Run a case at several spacings and fit the observed order of convergence.
     Converge(commands::converge::Args),
-    /// Growth rate and wavelength of the interface disturbance of a run.
+    /// Growth rate and wave speed of the interface mode a run recorded, with 95 % intervals.
     Growth(commands::growth::Args),
     /// Mixing measures of a run: segregation, Lacey index, mixing entropy, FTLE.
     Mix(commands::mix::Args),

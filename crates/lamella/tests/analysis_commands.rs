@@ -3,7 +3,10 @@
 //! - `profile` on a finished layered channel reproduces the error that the solver validation
 //!   (`tests/validation_layered.rs`) computes from the in-memory particles of the same case,
 //!   against Bird, Stewart & Lightfoot, Transport Phenomena, 2nd ed., §2.5.
-//! - `growth` refuses, with exit code 2 and a clear message, a run whose interface never moves.
+//! - `growth` refuses, with exit code 2 and a clear message, a run that did not record the
+//!   interface mode; on synthetic records of a travelling wave it recovers the growth rate and
+//!   wave speed (growing and decaying), writes growth.csv and growth.png, and refuses a window
+//!   inside the start-up, a record near the noise floor and a minimum R² out of range.
 //! - `mix` on a low-resolution two-phase cavity run writes every output, each chart and map a
 //!   real PNG of the expected size and more than one colour, each value in its range.
 
@@ -76,7 +79,7 @@ fn layered_case() -> (Case, LayeredChannel) {
 }
 
 #[test]
-fn profile_reproduces_the_validation_error_and_growth_refuses_a_still_interface() {
+fn profile_reproduces_the_validation_error_and_growth_refuses_a_run_without_the_mode() {
     let dir = tempfile::tempdir().unwrap();
     let (case, exact) = layered_case();
     let case_path = dir.path().join("layered.ron");
@@ -150,11 +153,151 @@ fn profile_reproduces_the_validation_error_and_growth_refuses_a_still_interface(
     assert!(csv.starts_with("y_m,u_m_per_s,u_reference_m_per_s,particles\n"));
     assert_eq!(csv.lines().count(), 16);
 
-    // Layers without a seeded disturbance stay flat: no onset to fit, said clearly.
+    // The case does not list InterfaceAmplitude: no mode recorded, and the fix is named.
     let out = lamella(&["growth", run_dir.to_str().unwrap()]);
     assert_eq!(out.status.code(), Some(2));
     let err = String::from_utf8_lossy(&out.stderr);
-    assert!(err.contains("no instability onset"), "{err}");
+    assert!(
+        err.contains("interface_mode_amplitude_m")
+            && err.contains("add InterfaceAmplitude to output.analyses"),
+        "{err}"
+    );
+}
+
+/// A run folder with the bundled seeded case as case.ron (it records InterfaceAmplitude) and a
+/// series.csv of the interface mode A = a0 exp(σ t) (1 % deterministic ripple),
+/// φ = 0.3 − k c t wrapped to (−π, π], noise floor `floor`, every 0.01 s over 3 s.
+fn synthetic_run(dir: &Path, sigma: f64, speed: f64, a0: f64, floor: f64) -> Case {
+    let case = lamella_case::load(&cases_dir().join("two-layer-channel-seeded.ron")).unwrap();
+    std::fs::create_dir_all(dir).unwrap();
+    write_case(&case, &dir.join("case.ron"));
+    let k = 2.0 * std::f64::consts::PI / case.tracked_wavelength();
+    let mut csv = String::from(
+        "time_s,step,interface_mode_amplitude_m,interface_mode_phase_rad,interface_noise_m\n",
+    );
+    for i in 0..=300 {
+        let t = i as f64 * 0.01;
+        let a = a0 * (sigma * t).exp() * (1.0 + 0.01 * (7.3 * i as f64).sin());
+        let phase = (0.3 - k * speed * t + std::f64::consts::PI)
+            .rem_euclid(2.0 * std::f64::consts::PI)
+            - std::f64::consts::PI;
+        csv.push_str(&format!("{t:e},{i},{a:e},{phase:e},{floor:e}\n"));
+    }
+    std::fs::write(dir.join("series.csv"), csv).unwrap();
+    case
+}
+
+/// Number after `key` in `text`, up to the next space.
+fn number_after(text: &str, key: &str) -> f64 {
+    text.split(key)
+        .nth(1)
+        .and_then(|rest| rest.split_whitespace().next())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no number after {key:?} in: {text}"))
+}
+
+#[test]
+fn growth_fits_rate_and_wave_speed_of_a_recorded_mode_and_refuses_bad_records() {
+    let dir = tempfile::tempdir().unwrap();
+    // Growing at 2.5 1/s, travelling at 4e-3 m/s (the phase wraps about every 0.9 s).
+    let grows = dir.path().join("grows");
+    let case = synthetic_run(&grows, 2.5, 4e-3, 1e-7, 1e-9);
+    // The seeded case starts from rest: its start-up lasts ln(100) H²/(π² ν) (Morris, Fox & Zhu
+    // 1997), 0.67 s for water over 1.2 mm.
+    let start_up = case.start_up_time();
+    assert!((start_up - 0.672).abs() < 1e-3, "{start_up}");
+    let out = lamella(&["growth", grows.to_str().unwrap()]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let rate = number_after(&text, "growth rate ");
+    let interval = number_after(&text, "± ");
+    assert!((rate - 2.5).abs() < 0.01 * 2.5 && interval < 0.05, "{text}");
+    let speed = number_after(&text, "wave speed ");
+    assert!((speed - 4e-3).abs() < 1e-3 * 4e-3, "{text}");
+    // The automatic window starts after the start-up.
+    let window = text.split("fit window t = ").nth(1).unwrap();
+    let first: f64 = window.split("..").next().unwrap().parse().unwrap();
+    assert!(first >= start_up, "{text}");
+    assert!(number_after(&text, "R² = ") >= 0.98, "{text}");
+    let csv = std::fs::read_to_string(grows.join("analysis/growth.csv")).unwrap();
+    assert!(
+        csv.starts_with("time_s,amplitude_m,phase_unwrapped_rad,noise_m,fitted_amplitude_m\n"),
+        "{csv}"
+    );
+    assert_eq!(csv.lines().count(), 302);
+    // The unwrapped phase falls steadily: no jump of 2π is left.
+    let phase: Vec<f64> = csv
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').nth(2).unwrap().parse().unwrap())
+        .collect();
+    assert!(phase.windows(2).all(|w| w[1] < w[0] && w[0] - w[1] < 0.5));
+    assert!(is_png(&grows.join("analysis/growth.png")));
+
+    // Decaying at 3 1/s: a negative rate.
+    let decays = dir.path().join("decays");
+    synthetic_run(&decays, -3.0, -2e-3, 1e-5, 1e-9);
+    let out = lamella(&["growth", decays.to_str().unwrap()]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    let rate = number_after(&text, "growth rate ");
+    assert!((rate + 3.0).abs() < 0.01 * 3.0, "{text}");
+    assert!(
+        (number_after(&text, "wave speed ") + 2e-3).abs() < 1e-3 * 2e-3,
+        "{text}"
+    );
+
+    // Refusals: exit code 2 with the reason.
+    let grows = grows.to_str().unwrap();
+    let quiet = dir.path().join("quiet");
+    synthetic_run(&quiet, 0.1, 4e-3, 2e-9, 1e-9); // at most 2.7 times the floor
+    // A case that lists InterfaceAmplitude with a series.csv that lacks the mode.
+    let old = dir.path().join("old");
+    synthetic_run(&old, 2.5, 4e-3, 1e-7, 1e-9);
+    std::fs::write(old.join("series.csv"), "time_s,step\n0e0,0\n1e-2,1\n").unwrap();
+    let refusals: [(&[&str], &str); 5] = [
+        (
+            &["growth", old.to_str().unwrap()],
+            "lists InterfaceAmplitude",
+        ),
+        (
+            &["growth", grows, "--window", "0.2,0.6"],
+            "inside the start-up",
+        ),
+        (&["growth", quiet.to_str().unwrap()], "near the noise floor"),
+        (&["growth", grows, "--min-r2", "0"], "(0, 1]"),
+        (&["growth", grows, "--min-r2", "1.01"], "(0, 1]"),
+    ];
+    for (args, reason) in refusals {
+        let out = lamella(args);
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(reason), "{args:?}: {err}");
+    }
+    // --start-up overrides the case: the same early window is then accepted.
+    let out = lamella(&["growth", grows, "--window", "0.2,0.6", "--start-up", "0"]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(
+        text.contains("given by --window") && text.contains("from --start-up"),
+        "{text}"
+    );
+    assert!(
+        (number_after(&text, "growth rate ") - 2.5).abs() < 0.02 * 2.5,
+        "{text}"
+    );
 }
 
 /// Width and height of a PNG file from its IHDR chunk (PNG specification, ISO/IEC 15948 §11.2.2),

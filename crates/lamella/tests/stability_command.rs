@@ -160,74 +160,155 @@ fn number_after(text: &str, key: &str) -> f64 {
         .unwrap_or_else(|| panic!("no number after {key:?} in: {text}"))
 }
 
-#[test]
-fn a_run_folder_prints_the_measured_rate_beside_the_prediction() {
-    // A coarse, short run of the seeded two-layer case (12 particles across, 0.3 s): the
-    // measured number is whatever `lamella growth` fits; the test checks that `stability
-    // --run` reports that same fit beside the prediction for the run's case copy, and says
-    // so clearly when the fit refuses.
-    let dir = tempfile::tempdir().unwrap();
-    let mut seeded = lamella_case::load(Path::new(&case("two-layer-channel-seeded.ron"))).unwrap();
-    seeded.particles.spacing = 1.0e-4;
-    if let Some(p) = seeded.interface_perturbation.as_mut() {
-        p.amplitude = 1.5e-4;
+/// The seeded two-layer case made unstable enough for a short synthetic record: μ 20e-3 below
+/// 1e-3 Pa·s, equal layers (m = 20, n = 1), body force 0.5 m/s², wavelength 1.2 mm; it starts
+/// from rest, so its start-up lasts ln(100) H²/(π² ν) = 0.67 s.
+fn unstable_case() -> lamella_case::Case {
+    let mut case = lamella_case::load(Path::new(&case("two-layer-channel-seeded.ron"))).unwrap();
+    case.phases[0].viscosity_law = lamella_case::ViscosityLaw::Newtonian { viscosity: 2.0e-2 };
+    case.regions = vec![
+        lamella_case::Region::Layer {
+            phase: "syrup".into(),
+            bottom: 0.0,
+            top: 0.6e-3,
+        },
+        lamella_case::Region::Layer {
+            phase: "water".into(),
+            bottom: 0.6e-3,
+            top: 1.2e-3,
+        },
+    ];
+    case.body_force = Some(vec![0.5, 0.0]);
+    case.scales.expected_max_speed = 5.0e-2;
+    if let Some(p) = case.interface_perturbation.as_mut() {
+        p.wavelength = 1.2e-3;
     }
-    seeded.time.end = 0.3;
-    let case_path = dir.path().join("seeded.ron");
-    std::fs::write(&case_path, lamella_case::to_ron(&seeded)).unwrap();
-    let case_path = case_path.to_str().unwrap();
-    let run_dir = dir.path().join("run");
-    let run_dir = run_dir.to_str().unwrap();
-    let out = lamella(&["--quiet", "run", case_path, "--out", run_dir]);
-    assert!(out.status.success(), "run: {}", text(&out.stderr));
+    case
+}
 
-    // A window over the whole run and a tiny onset threshold, so that the fit is made.
-    let fit_options = ["--onset", "1e-9", "--window", "0,0.3"];
-    let out = lamella(&[&["growth", run_dir][..], &fit_options].concat());
+/// A run folder holding `case` as case.ron and a series.csv of the interface mode
+/// A = 1e-7 exp(σ t) (1 % deterministic ripple), φ = 0.3 − k c t wrapped to (−π, π], noise
+/// floor 1e-9 m, sampled every 0.01 s over 3 s.
+fn synthetic_run(dir: &Path, case: &lamella_case::Case, sigma: f64, speed: f64) {
+    std::fs::create_dir_all(dir).unwrap();
+    std::fs::write(dir.join("case.ron"), lamella_case::to_ron(case)).unwrap();
+    let k = 2.0 * std::f64::consts::PI / case.tracked_wavelength();
+    let mut csv = String::from(
+        "time_s,step,interface_mode_amplitude_m,interface_mode_phase_rad,interface_noise_m\n",
+    );
+    for i in 0..=300 {
+        let t = i as f64 * 0.01;
+        let a = 1e-7 * (sigma * t).exp() * (1.0 + 0.01 * (7.3 * i as f64).sin());
+        let phase = (0.3 - k * speed * t + std::f64::consts::PI)
+            .rem_euclid(2.0 * std::f64::consts::PI)
+            - std::f64::consts::PI;
+        csv.push_str(&format!("{t:e},{i},{a:e},{phase:e},1e-9\n"));
+    }
+    std::fs::write(dir.join("series.csv"), csv).unwrap();
+}
+
+/// Predicted growth rate (1/s) and wave speed (m/s) of `case`, from `lamella stability CASE`.
+fn prediction(dir: &Path, case: &lamella_case::Case) -> (f64, f64) {
+    let path = dir.join("predict.ron");
+    std::fs::write(&path, lamella_case::to_ron(case)).unwrap();
+    let out = lamella(&["stability", path.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let stdout = text(&out.stdout);
+    let units = stdout.split("case units:").nth(1).expect("case units");
+    (
+        number_after(units, "growth rate "),
+        number_after(units, "wave speed "),
+    )
+}
+
+#[test]
+fn a_run_folder_is_compared_with_theory_and_given_a_verdict() {
+    // Synthetic records made from the predicted exponential agree; made from twice the
+    // predicted rate they disagree (ratio 2, far outside the 15 % tolerance and the interval).
+    let dir = tempfile::tempdir().unwrap();
+    let case = unstable_case();
+    let (rate, speed) = prediction(dir.path(), &case);
+    assert!(rate > 1.0 && speed > 0.0, "{rate} {speed}");
+
+    let agree = dir.path().join("agree");
+    synthetic_run(&agree, &case, rate, speed);
+    let agree = agree.to_str().unwrap();
+    let out = lamella(&["growth", agree]);
     assert!(out.status.success(), "growth: {}", text(&out.stderr));
     let growth = text(&out.stdout);
     let measured = number_after(&growth, "growth rate ");
     let interval = number_after(&growth, "± ");
+    assert!((measured - rate).abs() < 0.01 * rate, "{growth}");
 
-    let out = lamella(&["stability", case_path]);
-    assert!(out.status.success(), "{}", text(&out.stderr));
-    let stdout = text(&out.stdout);
-    let in_case_units = stdout.split("case units:").nth(1).expect("case units");
-    let predicted = number_after(in_case_units, "growth rate ");
-
-    let out = lamella(&[&["stability", "--run", run_dir][..], &fit_options].concat());
+    let out = lamella(&["stability", "--run", agree]);
     let report = text(&out.stdout);
     assert!(out.status.success(), "{}", text(&out.stderr));
     assert!(report.contains("case units:"), "{report}");
     let beside = report.split("measured in").nth(1).expect("a measured line");
-    assert_eq!(number_after(beside, "growth rate "), measured, "{report}");
-    assert_eq!(number_after(beside, "± "), interval, "{report}");
-    let printed_prediction = number_after(beside, "predicted ");
-    assert!(
-        (printed_prediction - predicted).abs() <= 1e-4 * predicted.abs(),
-        "{printed_prediction} vs {predicted}"
-    );
+    // The same fit as `lamella growth`, and the same prediction as `lamella stability CASE`.
+    assert_eq!(number_after(beside, "growth rate: measured "), measured);
+    assert_eq!(number_after(beside, "± "), interval);
+    let printed = number_after(beside, "1/s (95 %), predicted ");
+    assert!((printed - rate).abs() <= 1e-4 * rate, "{report}");
+    let printed_speed = number_after(beside, "m/s (95 %), predicted ");
+    assert!((printed_speed - speed).abs() <= 1e-4 * speed, "{report}");
     let ratio = number_after(beside, "measured / predicted = ");
+    assert!((ratio - 1.0).abs() < 0.01, "{report}");
+    let measured_speed = number_after(beside, "wave speed: measured ");
+    assert!((measured_speed - speed).abs() < 1e-3 * speed, "{report}");
     assert!(
-        (ratio - measured / predicted).abs() <= 1e-3 * (measured / predicted).abs(),
+        report.contains("verdict: agrees (growth rate and wave speed)"),
         "{report}"
     );
+    let png = std::fs::read(Path::new(agree).join("analysis/growth_vs_theory.png")).unwrap();
+    assert_eq!(&png[1..4], b"PNG");
 
-    // An onset threshold of 1 m is never reached: the prediction, then why there is no
-    // measured rate, and success.
-    let out = lamella(&["stability", "--run", run_dir, "--onset", "1"]);
+    let twice = dir.path().join("twice");
+    synthetic_run(&twice, &case, 2.0 * rate, speed);
+    let out = lamella(&["stability", "--run", twice.to_str().unwrap()]);
     let report = text(&out.stdout);
     assert!(out.status.success(), "{}", text(&out.stderr));
-    assert!(report.contains("leading eigenvalue:"), "{report}");
+    let beside = report.split("measured in").nth(1).expect("a measured line");
+    let ratio = number_after(beside, "measured / predicted = ");
+    assert!((ratio - 2.0).abs() < 0.02, "{report}");
     assert!(
-        report.contains("no growth rate to compare with: no instability onset"),
+        report.contains("verdict: disagrees (growth rate)"),
         "{report}"
     );
+    assert!(!report.contains("verdict: agrees"), "{report}");
+}
 
-    // Fit options without a run folder, and a folder that is not a run: exit code 2.
+#[test]
+fn a_refused_fit_prints_the_prediction_and_the_reason_and_exits_with_code_2() {
+    let dir = tempfile::tempdir().unwrap();
+    let case = unstable_case();
+    let (rate, speed) = prediction(dir.path(), &case);
+    let run = dir.path().join("run");
+    synthetic_run(&run, &case, rate, speed);
+    let run = run.to_str().unwrap();
+    // A window inside the start-up (the case starts from rest: 0.67 s).
+    let out = lamella(&["stability", "--run", run, "--window", "0.1,0.5"]);
+    let report = text(&out.stdout);
+    assert_eq!(out.status.code(), Some(2), "{report}");
+    assert!(report.contains("leading eigenvalue:"), "{report}");
+    assert!(report.contains("the growth fit refuses"), "{report}");
+    assert!(report.contains("start-up"), "{report}");
+    assert!(!report.contains("measured / predicted"), "{report}");
+    assert!(!report.contains("verdict: agrees") && !report.contains("verdict: disagrees"));
+    assert!(
+        text(&out.stderr).contains("start-up"),
+        "{}",
+        text(&out.stderr)
+    );
+
+    // Fit options without a run folder, a folder that is not a run, --min-r2 out of range:
+    // exit code 2.
+    let case_path = dir.path().join("predict.ron");
+    let case_path = case_path.to_str().unwrap();
     for args in [
-        &["stability", case_path, "--onset", "1e-4"][..],
+        &["stability", case_path, "--window", "1,2"][..],
         &["stability", "--run", case_path][..],
+        &["stability", "--run", run, "--min-r2", "1.5"][..],
     ] {
         let out = lamella(args);
         assert_eq!(

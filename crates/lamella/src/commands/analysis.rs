@@ -1,5 +1,6 @@
-//! What the analysis commands (`profile`, `growth`, `mix`) share: opening a run folder,
-//! choosing snapshots and writing result files atomically.
+//! What the analysis commands (`profile`, `growth`, `mix`, `stability --run`) share: opening a
+//! run folder, choosing snapshots, reading columns of `series.csv`, and writing result files
+//! atomically.
 
 use std::path::{Path, PathBuf};
 
@@ -79,6 +80,72 @@ impl Run {
         })?;
         Ok(dir)
     }
+}
+
+/// Opens the run folder `dir` and reads its case copy; unlike [`Run::open`] it needs no
+/// snapshot (for the analyses of `series.csv`).
+pub fn open_case(dir: &Path) -> Result<(RunFolder, Case), Failure> {
+    let folder = RunFolder::open(dir).map_err(|e| Failure::BadInput(e.to_string()))?;
+    let case = lamella_case::load(&folder.case()).map_err(|e| Failure::BadInput(e.to_string()))?;
+    Ok((folder, case))
+}
+
+/// Reads the columns `names` of the CSV table `path` (header row, numbers in the rows; an empty
+/// cell is NaN). A column missing from the header is bad input whose message ends with `hint`.
+pub fn read_columns(path: &Path, names: &[&str], hint: &str) -> Result<Vec<Vec<f64>>, Failure> {
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| Failure::BadInput(format!("cannot read {}: {e}", path.display())))?;
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines
+        .next()
+        .unwrap_or_default()
+        .split(',')
+        .map(str::trim)
+        .collect();
+    let missing: Vec<&str> = names
+        .iter()
+        .copied()
+        .filter(|n| !header.contains(n))
+        .collect();
+    if !missing.is_empty() {
+        return Err(Failure::BadInput(format!(
+            "{} has no column {}; {hint}",
+            path.display(),
+            missing.join(", ")
+        )));
+    }
+    let index: Vec<usize> = names
+        .iter()
+        .map(|n| header.iter().position(|h| h == n).unwrap_or(0))
+        .collect();
+    let mut columns = vec![Vec::new(); names.len()];
+    for (row, line) in lines.enumerate().filter(|(_, l)| !l.trim().is_empty()) {
+        let cells: Vec<&str> = line.split(',').map(str::trim).collect();
+        for ((column, &i), name) in columns.iter_mut().zip(&index).zip(names) {
+            let value = match cells.get(i) {
+                Some(&"") => f64::NAN,
+                Some(cell) => cell.parse::<f64>().map_err(|_| {
+                    Failure::BadInput(format!(
+                        "{} line {}, column {name}: cannot read {cell:?} as a number; the file \
+                         is damaged, or was not written by `lamella run`",
+                        path.display(),
+                        row + 2
+                    ))
+                })?,
+                None => {
+                    return Err(Failure::BadInput(format!(
+                        "{} line {} has {} cells, the header {}; the file is cut short or damaged",
+                        path.display(),
+                        row + 2,
+                        cells.len(),
+                        header.len()
+                    )));
+                }
+            };
+            column.push(value);
+        }
+    }
+    Ok(columns)
 }
 
 /// Writes `bytes` to `path` atomically (never a half-written file).

@@ -1,272 +1,378 @@
-//! `lamella growth DIR`: growth of the interface disturbance from the marker particles next to
-//! the initial interface: displacement normal to it over time, onset, exponential growth rate
-//! with a 95 % confidence interval, and the dominant wavelength of the interface shape.
+//! `lamella growth DIR`: growth rate and wave speed of the interface mode a run recorded in
+//! `series.csv` (amplitude, phase and noise floor of the tracked interface's Fourier mode at the
+//! seeded wavelength), fitted by `lamella_post::growth::fit_mode`, with 95 % intervals.
 
 // Negated comparisons are deliberate: a NaN must fail every check.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
-use std::collections::HashSet;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
-use glam::{DVec2, DVec3};
+use lamella_case::Case;
 use lamella_post::growth::{
-    DominantMode, FitWindow, GrowthError, GrowthFit, detect_onset, displacement_measures,
-    dominant_wavelength, fit_growth,
+    self, FitOptions, GrowthError, ModeFit, ModeSeries, Window, linear_amplitude_limit,
 };
 use lamella_post::plot::{Chart, Series, Style};
 use lamella_post::table::csv_document;
 
 use crate::Failure;
 use crate::cli::Globals;
-use crate::commands::analysis::{Run, parse_list, write_file};
+use crate::commands::analysis::{open_case, parse_list, read_columns, write_file};
+use crate::output::RunFolder;
 
-/// Smallest R² of the automatic fit window (common practice).
+/// Smallest R² of ln A against t (common practice: 0.98).
 pub const DEFAULT_MIN_R2: f64 = 0.98;
+
+/// The `series.csv` columns the fit reads: time, and the recorded mode of the interface.
+pub const COLUMNS: [&str; 4] = [
+    "time_s",
+    "interface_mode_amplitude_m",
+    "interface_mode_phase_rad",
+    "interface_noise_m",
+];
 
 /// Options of `lamella growth`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "Writes growth.csv and growth.png into --out [default: DIR/analysis]. \
-    Exit codes: 0 done, 1 a file could not be written, 2 bad input or no onset to fit."
+    after_help = "Reads DIR/series.csv (the case must list InterfaceAmplitude in \
+    output.analyses) and DIR/case.ron. The growth rate is the slope of ln(amplitude) against \
+    time, the wave speed -(d phase/dt)/k from the unwrapped phase, both with 95 % intervals \
+    (Student t).\n\nThe automatic window starts after the start-up, keeps the samples whose \
+    amplitude lies between 3 times the noise floor and the linear limit (k·A <= 0.1 and at \
+    most a tenth of the thinner layer), may skip a settling transient in the first third of \
+    them, and grows while R² >= --min-r2. A fit under the minimum R² is never accepted.\n\n\
+    Writes growth.csv and growth.png into --out [default: DIR/analysis], also when the fit \
+    refuses. Exit codes: 0 done, 1 a file could not be written, 2 bad input, or the fit \
+    refuses (inside the start-up, near the noise floor, past the linear stage, R² under the \
+    minimum, too few samples)."
 )]
 pub struct Args {
     /// The run folder written by `lamella run`.
     #[arg(value_name = "DIR")]
     pub dir: PathBuf,
-    /// Onset threshold: the first time the largest marker displacement exceeds it (m)
-    /// [default: one particle spacing].
-    #[arg(long, value_name = "M")]
-    pub onset: Option<f64>,
-    /// Fit window START,END (s) [default: from the onset while the growth stays log-linear].
-    #[arg(long, value_name = "START,END")]
-    pub window: Option<String>,
-    /// Smallest R² for the automatic window (common practice: 0.98).
-    #[arg(long, default_value_t = DEFAULT_MIN_R2, value_name = "R2")]
-    pub min_r2: f64,
+    #[command(flatten)]
+    pub fit: FitArgs,
     /// Folder for the results [default: DIR/analysis].
     #[arg(long, value_name = "OUT")]
     pub out: Option<PathBuf>,
 }
 
+/// The options of the growth fit, shared with `lamella stability --run`.
+#[derive(Debug, clap::Args)]
+pub struct FitArgs {
+    /// Fit window START,END (s) [default: chosen from the data, see `lamella growth --help`];
+    /// refused if it starts inside the start-up or reaches under 3 times the noise floor.
+    #[arg(long, value_name = "START,END")]
+    pub window: Option<String>,
+    /// Smallest R² of ln(amplitude) against time, in (0, 1] (common practice: 0.98).
+    #[arg(long, value_name = "R2", value_parser = parse_min_r2, default_value_t = DEFAULT_MIN_R2)]
+    pub min_r2: f64,
+    /// How long the base flow takes to settle (s); no fit starts before it [default: from the
+    /// case, 0 when it starts from the steady profile].
+    #[arg(long, value_name = "SECONDS")]
+    pub start_up: Option<f64>,
+}
+
+/// `--min-r2` must lie in (0, 1].
+fn parse_min_r2(text: &str) -> Result<f64, String> {
+    let value: f64 = text
+        .trim()
+        .parse()
+        .map_err(|_| format!("cannot read {text:?} as a number"))?;
+    if value > 0.0 && value <= 1.0 {
+        Ok(value)
+    } else {
+        Err(format!("R² lies in (0, 1]; got {value}"))
+    }
+}
+
+/// The recorded mode of a run and the fit of its growth.
+pub struct Measurement {
+    /// `series.csv` of the run.
+    pub series: PathBuf,
+    /// Sample times (s).
+    pub time: Vec<f64>,
+    /// Mode amplitude (m).
+    pub amplitude: Vec<f64>,
+    /// Unwrapped mode phase (rad).
+    pub phase: Vec<f64>,
+    /// Noise floor (m).
+    pub noise: Vec<f64>,
+    /// Wavelength of the recorded mode (m).
+    pub wavelength: f64,
+    /// End of the start-up used (s).
+    pub start_up: f64,
+    /// Where the start-up time came from.
+    pub start_up_source: &'static str,
+    /// Whether the window was given (`--window`).
+    pub window_given: bool,
+    /// The fit, or why there is none.
+    pub fit: Result<ModeFit, GrowthError>,
+}
+
+/// Reads the recorded mode of the run in `folder` (case copy `case`) and fits its growth. The
+/// error is bad input (no interface, no recorded mode, bad options); a refusal of the fit is
+/// in [`Measurement::fit`].
+pub fn measure(folder: &RunFolder, case: &Case, fit: &FitArgs) -> Result<Measurement, Failure> {
+    let case_path = folder.case();
+    let Some(pair) = case.tracked_interface() else {
+        return Err(Failure::BadInput(format!(
+            "{}: the case has no interface between two layers, so there is no interface mode to \
+             fit",
+            case_path.display()
+        )));
+    };
+    let window = match fit.window.as_deref() {
+        None => Window::Automatic,
+        Some(text) => match parse_list::<f64>(text, "--window").map_err(Failure::BadInput)?[..] {
+            [start, end] if start < end => Window::Times { start, end },
+            _ => {
+                return Err(Failure::BadInput(format!(
+                    "--window {text}: give START,END in seconds with START < END"
+                )));
+            }
+        },
+    };
+    let (start_up, start_up_source) = match fit.start_up {
+        Some(t) if t >= 0.0 && t.is_finite() => (t, "--start-up"),
+        Some(t) => {
+            return Err(Failure::BadInput(format!(
+                "--start-up {t}: give zero or a positive time in seconds"
+            )));
+        }
+        None => (case.start_up_time(), "the case"),
+    };
+    let series = folder.series();
+    let listed = case
+        .output
+        .analyses
+        .contains(&lamella_case::Analysis::InterfaceAmplitude);
+    let hint = if listed {
+        format!(
+            "the run did not record the interface mode although {} lists InterfaceAmplitude \
+             (a run made by an older Lamella?); run the case again",
+            case_path.display()
+        )
+    } else {
+        format!(
+            "the run did not record the interface mode: add InterfaceAmplitude to \
+             output.analyses in {} and run the case again",
+            case_path.display()
+        )
+    };
+    let columns = read_columns(&series, &COLUMNS, &hint)?;
+    let [time, amplitude, phase, noise] = <[Vec<f64>; 4]>::try_from(columns)
+        .map_err(|_| Failure::BadInput(format!("{}: columns missing", series.display())))?;
+    if time.is_empty() {
+        return Err(Failure::BadInput(format!(
+            "{} holds no samples yet",
+            series.display()
+        )));
+    }
+    let wavelength = case.tracked_wavelength();
+    let wavenumber = growth::wavenumber(wavelength);
+    let bands = case.layer_bands();
+    let tol = 1e-9 * case.extent(1);
+    let thinner = bands
+        .iter()
+        .filter(|b| {
+            (b.top - pair.interface).abs() <= tol || (b.bottom - pair.interface).abs() <= tol
+        })
+        .map(|b| b.top - b.bottom)
+        .fold(f64::INFINITY, f64::min);
+    let options = FitOptions {
+        wavenumber,
+        start_up,
+        min_r_squared: fit.min_r2,
+        linear_limit: linear_amplitude_limit(wavenumber, thinner),
+        window,
+    };
+    let result = growth::fit_mode(
+        &ModeSeries {
+            time: &time,
+            amplitude: &amplitude,
+            phase: &phase,
+            noise: &noise,
+        },
+        &options,
+    );
+    if let Err(GrowthError::Malformed(why) | GrowthError::InvalidOption(why)) = &result {
+        return Err(Failure::BadInput(format!("{}: {why}", series.display())));
+    }
+    let phase = growth::unwrap_phase(&phase);
+    Ok(Measurement {
+        series,
+        time,
+        amplitude,
+        phase,
+        noise,
+        wavelength,
+        start_up,
+        start_up_source,
+        window_given: fit.window.is_some(),
+        fit: result,
+    })
+}
+
 /// Runs `lamella growth`.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    let run = Run::open(&args.dir)?;
-    let window = fit_window(args.window.as_deref(), args.min_r2)?;
-    let measured =
-        measure(&run, args.onset, window)?.map_err(|e| Failure::BadInput(e.to_string()))?;
-    let Measurement {
-        time,
-        max,
-        rms,
-        threshold,
-        onset,
-        fit,
-        mode,
-    } = &measured;
-    let case = &run.case;
-    let period = case.extent(0);
-
-    let fitted: Vec<f64> = time
-        .iter()
-        .map(|&t| {
-            if t >= fit.start && t <= fit.end {
-                fit.amplitude(t)
-            } else {
-                f64::NAN
-            }
-        })
-        .collect();
+    let (folder, case) = open_case(&args.dir)?;
+    let measured = measure(&folder, &case, &args.fit)?;
+    let out_dir = output_folder(&folder, args.out.as_deref())?;
+    let fitted: Vec<f64> = match &measured.fit {
+        Ok(fit) => measured
+            .time
+            .iter()
+            .map(|&t| {
+                if t >= fit.start && t <= fit.end {
+                    fit.amplitude(t)
+                } else {
+                    f64::NAN
+                }
+            })
+            .collect(),
+        Err(_) => vec![f64::NAN; measured.time.len()],
+    };
     let csv = csv_document(
         &[
             "time_s",
-            "max_displacement_m",
-            "rms_displacement_m",
-            "fit_m",
+            "amplitude_m",
+            "phase_unwrapped_rad",
+            "noise_m",
+            "fitted_amplitude_m",
         ],
-        &[time, max, rms, &fitted],
+        &[
+            &measured.time,
+            &measured.amplitude,
+            &measured.phase,
+            &measured.noise,
+            &fitted,
+        ],
     )
     .map_err(Failure::RunFailed)?;
-    let out_dir = run.output_folder(args.out.as_deref())?;
-    write_file(&out_dir.join("growth.csv"), csv.as_bytes())?;
-    let chart = growth_chart(&case.title, time, max, rms, fit);
-    let png = chart
+    let csv_path = out_dir.join("growth.csv");
+    write_file(&csv_path, csv.as_bytes())?;
+    let png_path = out_dir.join("growth.png");
+    let png = growth_chart(&case.title, &measured, None)
         .to_png(900, 600)
-        .map_err(|e| Failure::RunFailed(e.to_string()))?;
-    write_file(&out_dir.join("growth.png"), &png)?;
+        .map_err(|e| Failure::RunFailed(format!("cannot draw {}: {e}", png_path.display())))?;
+    write_file(&png_path, &png)?;
+    let fit = measured.fit.as_ref().map_err(|refused| {
+        Failure::BadInput(format!(
+            "{}: the growth fit refuses: {refused} (wrote {} and {} to look at the record)",
+            measured.series.display(),
+            csv_path.display(),
+            png_path.display()
+        ))
+    })?;
     if !globals.quiet {
-        println!(
-            "onset at t = {:.4} s (max displacement > {threshold:.3e} m); {}; dominant wavelength \
-             {:.4e} m (mode {} of {:.4e} m)",
-            time[*onset],
-            fit.summary(),
-            mode.wavelength,
-            mode.mode,
-            period
-        );
+        print!("{}", report(&measured, fit));
+        println!("wrote {} and {}", csv_path.display(), png_path.display());
     }
     Ok(())
 }
 
-/// The fit window from `--window START,END`, or the automatic log-linear window with the R²
-/// floor `min_r2`.
-pub fn fit_window(window: Option<&str>, min_r2: f64) -> Result<FitWindow, Failure> {
-    match window {
-        None => Ok(FitWindow::LogLinear {
-            min_r_squared: min_r2,
-        }),
-        Some(text) => match parse_list::<f64>(text, "--window").map_err(Failure::BadInput)?[..] {
-            [start, end] if end > start => Ok(FitWindow::Times { start, end }),
-            _ => Err(Failure::BadInput(
-                "--window needs START,END with END > START (s)".into(),
-            )),
+/// Where the results go: `out`, or `DIR/analysis` (created).
+fn output_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf, Failure> {
+    let dir = out.map_or_else(|| folder.root().join("analysis"), Path::to_path_buf);
+    std::fs::create_dir_all(&dir).map_err(|e| {
+        Failure::RunFailed(format!(
+            "cannot create the output folder {}: {e}",
+            dir.display()
+        ))
+    })?;
+    Ok(dir)
+}
+
+/// The lines `lamella growth` prints for a fit.
+fn report(measured: &Measurement, fit: &ModeFit) -> String {
+    let k = growth::wavenumber(measured.wavelength);
+    format!(
+        "interface mode in {}: wavelength {:.4e} m (k = {k:.4e} 1/m), {} samples, t = {:.4}..{:.4} s\n\
+         start-up until t = {:.4} s (from {})\n\
+         fit window t = {:.4}..{:.4} s ({} samples, {}), R² = {:.4}\n\
+         growth rate {:.4e} ± {:.2e} 1/s (95 %)\n\
+         wave speed {:.4e} ± {:.2e} m/s (95 %)\n\
+         noise floor {:.3e} m (mean over the window)\n",
+        measured.series.display(),
+        measured.wavelength,
+        measured.time.len(),
+        measured.time[0],
+        measured.time[measured.time.len() - 1],
+        measured.start_up,
+        measured.start_up_source,
+        fit.start,
+        fit.end,
+        fit.points,
+        if measured.window_given {
+            "given by --window"
+        } else {
+            "automatic"
         },
-    }
+        fit.r_squared,
+        fit.rate,
+        fit.rate_ci95,
+        fit.wave_speed,
+        fit.wave_speed_ci95,
+        fit.noise_floor,
+    )
 }
 
-/// The interface growth measured in a run folder.
-pub struct Measurement {
-    /// Snapshot times (s).
-    pub time: Vec<f64>,
-    /// Largest marker displacement normal to the interface at each time (m).
-    pub max: Vec<f64>,
-    /// RMS marker displacement at each time (m).
-    pub rms: Vec<f64>,
-    /// Onset threshold used (m).
-    pub threshold: f64,
-    /// Index of the onset snapshot.
-    pub onset: usize,
-    /// Exponential fit of the largest displacement.
-    pub fit: GrowthFit,
-    /// Strongest Fourier mode of the interface shape at the end of the fit window.
-    pub mode: DominantMode,
-}
-
-/// Measures the interface growth of `run` (onset threshold `onset`, default one particle
-/// spacing). The outer error is bad input (no interface, unreadable snapshots); the inner one
-/// says why the series holds no growth to fit (no onset, too few points).
-pub fn measure(
-    run: &Run,
-    onset: Option<f64>,
-    window: FitWindow,
-) -> Result<Result<Measurement, GrowthError>, Failure> {
-    let case = &run.case;
-    let pairs = case.layer_pairs();
-    if pairs.is_empty() {
-        return Err(Failure::BadInput(format!(
-            "{}: the case has no interface between two layers, so there is nothing to grow",
-            run.folder.case().display()
-        )));
-    }
-    let markers = marker_ids(case)?;
-    let threshold = onset.unwrap_or(case.particles.spacing);
-    if !(threshold > 0.0) {
-        return Err(Failure::BadInput(
-            "--onset must be a positive length (m)".into(),
-        ));
-    }
-    let (mut time, mut max, mut rms) = (Vec::new(), Vec::new(), Vec::new());
-    let mut shapes = Vec::new();
-    for entry in &run.entries {
-        let snap = run.read(entry)?;
-        let (mut y0, mut y, mut x) = (Vec::new(), Vec::new(), Vec::new());
-        for i in 0..snap.len() {
-            if markers.contains(&snap.id[i]) {
-                y0.push(snap.initial_position[i][1]);
-                y.push(snap.position[i][1]);
-                x.push(snap.position[i][0]);
-            }
+/// Amplitude against time on a log axis, with the noise floor, the fitted exponential over the
+/// window and, when given, the exponential of a predicted rate (1/s) from the fitted amplitude
+/// at the start of the window to the end of the record.
+pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>) -> Chart {
+    let mut series = vec![
+        Series {
+            label: "mode amplitude".into(),
+            x: measured.time.clone(),
+            y: measured.amplitude.clone(),
+            style: Style::Points,
+        },
+        Series {
+            label: "noise floor".into(),
+            x: measured.time.clone(),
+            y: measured.noise.clone(),
+            style: Style::Line,
+        },
+    ];
+    let mut heading = format!("{title}: no fit");
+    if let Ok(fit) = &measured.fit {
+        let inside: Vec<f64> = measured
+            .time
+            .iter()
+            .copied()
+            .filter(|&t| t >= fit.start && t <= fit.end)
+            .collect();
+        series.push(Series {
+            label: format!("fit, {:.3e} ± {:.1e} 1/s", fit.rate, fit.rate_ci95),
+            x: inside.clone(),
+            y: inside.iter().map(|&t| fit.amplitude(t)).collect(),
+            style: Style::Dashed,
+        });
+        heading = format!("{title}: growth rate {:.3e} 1/s", fit.rate);
+        if let Some(rate) = predicted {
+            let anchor = fit.amplitude(fit.start);
+            let (x, y): (Vec<f64>, Vec<f64>) = measured
+                .time
+                .iter()
+                .filter(|&&t| t >= fit.start)
+                .map(|&t| (t, anchor * (rate * (t - fit.start)).exp()))
+                .unzip();
+            series.push(Series {
+                label: format!("theory, {rate:.3e} 1/s"),
+                x,
+                y,
+                style: Style::Line,
+            });
+            heading = format!("{title}: measured against predicted growth");
         }
-        let (m, r) = displacement_measures(&y0, &y)
-            .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
-        time.push(snap.meta.time);
-        max.push(m);
-        rms.push(r);
-        let d: Vec<f64> = y.iter().zip(&y0).map(|(a, b)| a - b).collect();
-        shapes.push((x, d));
     }
-    let onset = match detect_onset(&time, &max, threshold) {
-        Ok(onset) => onset,
-        Err(e) => return Ok(Err(e)),
-    };
-    let fit = match fit_growth(&time, &max, onset, window) {
-        Ok(fit) => fit,
-        Err(e) => return Ok(Err(e)),
-    };
-    // Interface shape at the end of the fit window.
-    let last = time
-        .iter()
-        .rposition(|&t| t <= fit.end)
-        .unwrap_or(time.len() - 1);
-    let period = case.extent(0);
-    let samples = ((period / case.particles.spacing).round() as usize).max(4);
-    let mode = dominant_wavelength(&shapes[last].0, &shapes[last].1, period, samples)
-        .map_err(|e| Failure::BadInput(e.to_string()))?;
-    Ok(Ok(Measurement {
-        time,
-        max,
-        rms,
-        threshold,
-        onset,
-        fit,
-        mode,
-    }))
-}
-
-/// Ids of the interface markers: the generator's `interface_marker` flags (ids are the
-/// generation order).
-fn marker_ids(case: &lamella_case::Case) -> Result<HashSet<u64>, Failure> {
-    let flags = match case.dimension {
-        2 => lamella_case::generate::<DVec2>(case).interface_marker,
-        _ => lamella_case::generate::<DVec3>(case).interface_marker,
-    };
-    let ids: HashSet<u64> = flags
-        .iter()
-        .enumerate()
-        .filter(|(_, m)| **m)
-        .map(|(i, _)| i as u64)
-        .collect();
-    if ids.is_empty() {
-        return Err(Failure::BadInput(
-            "the case generates no interface marker particles".into(),
-        ));
-    }
-    Ok(ids)
-}
-
-fn growth_chart(title: &str, time: &[f64], max: &[f64], rms: &[f64], fit: &GrowthFit) -> Chart {
-    let (ft, fa): (Vec<f64>, Vec<f64>) = time
-        .iter()
-        .filter(|&&t| t >= fit.start && t <= fit.end)
-        .map(|&t| (t, fit.amplitude(t)))
-        .unzip();
     Chart {
-        title: format!(
-            "{title}: growth rate {:.3e} ± {:.1e} 1/s",
-            fit.rate, fit.rate_ci95
-        ),
+        title: heading,
         x_label: "time (s)".into(),
-        y_label: "displacement normal to the interface (m)".into(),
+        y_label: "interface mode amplitude (m)".into(),
         log_x: false,
         log_y: true,
-        series: vec![
-            Series {
-                label: "max".into(),
-                x: time.to_vec(),
-                y: max.to_vec(),
-                style: Style::Points,
-            },
-            Series {
-                label: "RMS".into(),
-                x: time.to_vec(),
-                y: rms.to_vec(),
-                style: Style::Line,
-            },
-            Series {
-                label: "exponential fit".into(),
-                x: ft,
-                y: fa,
-                style: Style::Dashed,
-            },
-        ],
+        series,
     }
 }

@@ -4,8 +4,8 @@
 //! `lamella_post::stability`), a case file, from which the two layers, their viscosities,
 //! the channel height, the body force and the seeded wavelength are taken and the results
 //! are printed in the case's units as well, or a run folder (`--run`), whose case copy is
-//! used the same way and whose measured growth rate (as `lamella growth` fits it) is printed
-//! beside the prediction.
+//! used the same way at the wavelength the run recorded, and whose measured growth rate and
+//! wave speed (as `lamella growth` fits them) are printed beside the prediction with a verdict.
 
 use std::fmt::Write as _;
 use std::fs;
@@ -20,9 +20,9 @@ use lamella_post::stability::{
 
 use crate::Failure;
 use crate::cli::Globals;
-use crate::commands::analysis::Run;
+use crate::commands::analysis::open_case;
 use crate::commands::check::load_case;
-use crate::commands::growth::{self, DEFAULT_MIN_R2, Measurement};
+use crate::commands::growth::{self, FitArgs, Measurement};
 
 /// Width and height of the PNG charts (pixels).
 const PNG_SIZE: (u32, u32) = (800, 560);
@@ -33,8 +33,11 @@ const PNG_SIZE: (u32, u32) = (800, 560);
     after_help = "Scaled units: lengths by the channel half-width h, velocities by the \
     peak velocity U_max of the steady profile, Re = rho U_max h / mu_lower, m = mu_lower/mu_upper, \
     n = d_lower/d_upper, growth rate = wavenumber x Im(c) in U_max/h, tension S = gamma/(rho \
-    U_max^2 h).\n\nExit codes: 0 done (also when a run holds no growth to fit), 1 a solve or a \
-    file write failed, 2 bad options, case or run folder."
+    U_max^2 h).\n\nWith --run: the verdict is \"agrees\" when the prediction lies within the \
+    measured 95 % interval, or the measured growth rate within 15 % of the prediction (the wave \
+    speed within 5 %), \"disagrees\" otherwise. Exit codes: 0 done (whatever the verdict), 1 a solve or a file write \
+    failed, 2 bad options, case or run folder, or the growth fit of the run refuses (the \
+    prediction and the reason are printed first)."
 )]
 pub struct Args {
     /// A two-layer channel case: m, n, Re and the wavenumber come from it.
@@ -78,28 +81,32 @@ pub struct Args {
     /// Chebyshev collocation points per layer.
     #[arg(long, value_name = "P", default_value_t = DEFAULT_POINTS_PER_LAYER)]
     pub points: usize,
-    /// Folder for the CSV and PNG files (created if missing).
-    #[arg(long, value_name = "DIR", default_value = ".")]
-    pub out: PathBuf,
-    /// A run folder of a two-layer channel case: predicts from its case copy and prints the
-    /// growth rate measured in the run (as `lamella growth DIR`) beside the prediction.
+    /// Folder for the CSV and PNG files (created if missing) [default: the current folder;
+    /// DIR/analysis with --run].
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// A run folder of a two-layer channel case that recorded InterfaceAmplitude: predicts from
+    /// its case copy at the recorded wavelength, prints the growth rate and wave speed measured
+    /// in the run (as `lamella growth DIR`) beside the prediction with a verdict, and writes
+    /// growth_vs_theory.png.
     #[arg(
         long,
         value_name = "DIR",
-        conflicts_with_all = ["case", "m", "n", "re", "scan", "map_m"]
+        conflicts_with_all = ["case", "m", "n", "re", "scan", "map_m", "wavenumber"]
     )]
     pub run: Option<PathBuf>,
-    /// With --run: onset threshold of the growth fit (m) [default: one particle spacing].
-    #[arg(long, value_name = "M")]
-    pub onset: Option<f64>,
-    /// With --run: fit window START,END (s) [default: from the onset while the growth stays
-    /// log-linear].
-    #[arg(long, value_name = "START,END")]
-    pub window: Option<String>,
-    /// With --run: smallest R² of the automatic fit window [default: 0.98, common practice].
-    #[arg(long, value_name = "R2")]
-    pub min_r2: Option<f64>,
+    /// With --run: the growth fit, as in `lamella growth`.
+    #[command(flatten)]
+    pub fit: FitArgs,
 }
+
+/// Tolerance on the growth rate for the verdict "agrees": the measured rate within 15 % of the
+/// prediction (the project's validation bound for growth rates).
+pub const RATE_TOLERANCE: f64 = 0.15;
+
+/// Tolerance on the wave speed for the verdict "agrees": within 5 % (the project's validation
+/// bound for wave speeds).
+pub const SPEED_TOLERANCE: f64 = 0.05;
 
 /// Dimensional scales of a case, to convert scaled results back.
 struct CaseUnits {
@@ -107,12 +114,19 @@ struct CaseUnits {
     half_width: f64,
     /// Peak velocity of the steady profile U_max (m/s).
     peak_velocity: f64,
+    /// Direction of the flow along x: the sign of the body force (±1).
+    direction: f64,
 }
 
 impl CaseUnits {
     /// Temporal growth rate α c_i U_max / h (1/s) of scaled wavenumber α and wave speed c.
     fn growth_rate(&self, wavenumber: f64, c: stability::c64) -> f64 {
         wavenumber * c.im * self.peak_velocity / self.half_width
+    }
+
+    /// Phase speed along x, direction · c_r U_max (m/s), of scaled wave speed c.
+    fn wave_speed(&self, c: stability::c64) -> f64 {
+        self.direction * c.re * self.peak_velocity
     }
 
     /// Wavelength 2π h / α (m) of scaled wavenumber α.
@@ -130,22 +144,29 @@ struct Setup {
 
 /// Solves and prints; writes the curve or map files when asked for.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    if args.run.is_none()
-        && (args.onset.is_some() || args.window.is_some() || args.min_r2.is_some())
-    {
+    let fit_given = args.fit.window.is_some()
+        || args.fit.start_up.is_some()
+        || args.fit.min_r2 != growth::DEFAULT_MIN_R2;
+    if args.run.is_none() && fit_given {
         return Err(Failure::BadInput(
-            "--onset, --window and --min-r2 set the growth fit of a run; give the run folder with --run DIR".into(),
+            "--window, --min-r2 and --start-up set the growth fit of a run; give the run folder with --run DIR".into(),
         ));
     }
     let (mut setup, run_folder) = match (&args.case, &args.run) {
-        (Some(path), _) => (from_case(&load_case(path)?, path, &args)?, None),
+        (Some(path), _) => (from_case(&load_case(path)?, path, &args, false)?, None),
         (None, Some(dir)) => {
-            let run_folder = Run::open(dir)?;
-            let setup = from_case(&run_folder.case, &run_folder.folder.case(), &args)?;
-            (setup, Some(run_folder))
+            let (folder, case) = open_case(dir)?;
+            let setup = from_case(&case, &folder.case(), &args, true)?;
+            (setup, Some((folder, case)))
         }
         (None, None) => (from_ratios(&args)?, None),
     };
+    let out_dir = match (&args.out, &run_folder) {
+        (Some(out), _) => out.clone(),
+        (None, Some((folder, _))) => folder.root().join("analysis"),
+        (None, None) => PathBuf::from("."),
+    };
+    let mut refusal = None;
     setup.problem.tension = args.tension;
     setup.problem.points_per_layer = args.points;
     let mut report = setup.description.clone();
@@ -167,8 +188,8 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         )
         .ok();
         describe(&mut report, best.wavenumber, best.speed, &setup.units);
-        let csv = args.out.join("stability_curve.csv");
-        let png = args.out.join("stability_curve.png");
+        let csv = out_dir.join("stability_curve.csv");
+        let png = out_dir.join("stability_curve.png");
         write_atomic(&csv, curve_csv(&curve, &setup.units).as_bytes())?;
         let chart = stability::growth_curve_chart(&curve);
         let bytes = chart
@@ -193,28 +214,34 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             setup.problem.points_per_layer
         )
         .ok();
-        if let (Some(run_folder), Some(units)) = (&run_folder, &setup.units) {
-            let window = growth::fit_window(
-                args.window.as_deref(),
-                args.min_r2.unwrap_or(DEFAULT_MIN_R2),
-            )?;
-            let predicted = units.growth_rate(setup.problem.wavenumber, checked.speed);
-            let wavelength = units.wavelength(setup.problem.wavenumber);
-            let dir = run_folder.folder.root().display();
-            match growth::measure(run_folder, args.onset, window)? {
-                Ok(measured) => compare(
-                    &mut report,
-                    &dir.to_string(),
-                    &measured,
-                    predicted,
-                    wavelength,
-                ),
+        if let (Some((folder, case)), Some(units)) = (&run_folder, &setup.units) {
+            let predicted = Prediction {
+                rate: units.growth_rate(setup.problem.wavenumber, checked.speed),
+                wave_speed: units.wave_speed(checked.speed),
+            };
+            let measured = growth::measure(folder, case, &args.fit)?;
+            let dir = folder.root().display().to_string();
+            match &measured.fit {
+                Ok(fit) => {
+                    compare(&mut report, &dir, &measured, fit, &predicted);
+                    let png = out_dir.join("growth_vs_theory.png");
+                    let bytes = growth::growth_chart(&case.title, &measured, Some(predicted.rate))
+                        .to_png(PNG_SIZE.0, PNG_SIZE.1)
+                        .map_err(|e| write_failure(&png, e))?;
+                    write_atomic(&png, &bytes)?;
+                    written.push(png);
+                }
                 Err(refused) => {
                     writeln!(
                         report,
-                        "measured in {dir}: no growth rate to compare with: {refused}"
+                        "measured in {dir}: the growth fit refuses: {refused}\n\
+                         verdict: no comparison, the run gives no growth rate to compare with"
                     )
                     .ok();
+                    refusal = Some(format!(
+                        "{}: the growth fit refuses: {refused}",
+                        measured.series.display()
+                    ));
                 }
             }
         }
@@ -232,8 +259,8 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             map.len()
         )
         .ok();
-        let csv = args.out.join("stability_map.csv");
-        let png = args.out.join("stability_map.png");
+        let csv = out_dir.join("stability_map.csv");
+        let png = out_dir.join("stability_map.png");
         write_atomic(&csv, map_csv(&map).as_bytes())?;
         let chart = stability::map_chart(&map, setup.problem.reynolds, setup.problem.wavenumber);
         let bytes = chart
@@ -248,7 +275,10 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     if !globals.quiet {
         print!("{report}");
     }
-    Ok(())
+    match refusal {
+        Some(reason) => Err(Failure::BadInput(reason)),
+        None => Ok(()),
+    }
 }
 
 fn solve_failure(err: StabilityError) -> Failure {
@@ -296,49 +326,110 @@ fn from_ratios(args: &Args) -> Result<Setup, Failure> {
     })
 }
 
-/// Prints the growth rate measured in a run beside the predicted one (both 1/s) and their
-/// ratio, with the ratio's range from the 95 % interval of the measured rate.
+/// The prediction for a run's case copy, in the case's units.
+struct Prediction {
+    /// Temporal growth rate (1/s).
+    rate: f64,
+    /// Phase speed along x (m/s).
+    wave_speed: f64,
+}
+
+/// Whether a prediction agrees with a measured value ± its 95 % half-width, and why: it lies
+/// within the measured interval, or the measured value lies within `tolerance` (relative) of
+/// the prediction.
+pub fn agreement(measured: f64, ci95: f64, predicted: f64, tolerance: f64) -> (bool, String) {
+    let off = (predicted - measured).abs();
+    let percent = 100.0 * tolerance;
+    if off <= ci95 {
+        (
+            true,
+            "agrees: the prediction lies within the measured 95 % interval".into(),
+        )
+    } else if off <= tolerance * predicted.abs() {
+        (
+            true,
+            format!("agrees: the measured value lies within {percent:.0} % of the prediction"),
+        )
+    } else {
+        (
+            false,
+            format!(
+                "disagrees: the prediction lies outside the measured 95 % interval and the \
+                 {percent:.0} % tolerance"
+            ),
+        )
+    }
+}
+
+/// measured / predicted with its range from the measured 95 % interval, or why there is none.
+fn ratio(measured: f64, ci95: f64, predicted: f64) -> String {
+    if predicted != 0.0 && predicted.is_finite() {
+        let (low, high) = ((measured - ci95) / predicted, (measured + ci95) / predicted);
+        format!(
+            "measured / predicted = {:.4} (95 %: {:.4}..{:.4})",
+            measured / predicted,
+            low.min(high),
+            low.max(high)
+        )
+    } else {
+        "no ratio: the prediction is zero".into()
+    }
+}
+
+/// Prints the growth rate and wave speed measured in a run beside the predicted ones, their
+/// ratios, and the verdict.
 fn compare(
     report: &mut String,
     dir: &str,
     measured: &Measurement,
-    predicted: f64,
-    predicted_wavelength: f64,
+    fit: &lamella_post::growth::ModeFit,
+    predicted: &Prediction,
 ) {
-    let fit = &measured.fit;
     writeln!(
         report,
-        "measured in {dir} (fit as `lamella growth`):\n  {}; dominant wavelength {:.4e} m",
-        fit.summary(),
-        measured.mode.wavelength
+        "measured in {dir} (fit as `lamella growth`): window t = {:.4}..{:.4} s ({} samples), \
+         R² = {:.4}, noise floor {:.3e} m, wavelength {:.4e} m",
+        fit.start, fit.end, fit.points, fit.r_squared, fit.noise_floor, measured.wavelength
     )
     .ok();
-    write!(
+    let (rate_ok, rate_why) = agreement(fit.rate, fit.rate_ci95, predicted.rate, RATE_TOLERANCE);
+    let (speed_ok, speed_why) = agreement(
+        fit.wave_speed,
+        fit.wave_speed_ci95,
+        predicted.wave_speed,
+        SPEED_TOLERANCE,
+    );
+    writeln!(
         report,
-        "  predicted {predicted:.4e} 1/s at wavelength {predicted_wavelength:.4e} m; "
+        "  growth rate: measured {:.4e} ± {:.2e} 1/s (95 %), predicted {:.4e} 1/s, {}; {rate_why}",
+        fit.rate,
+        fit.rate_ci95,
+        predicted.rate,
+        ratio(fit.rate, fit.rate_ci95, predicted.rate)
     )
     .ok();
-    if predicted != 0.0 && predicted.is_finite() {
-        let (low, high) = (
-            (fit.rate - fit.rate_ci95) / predicted,
-            (fit.rate + fit.rate_ci95) / predicted,
-        );
-        writeln!(
-            report,
-            "measured / predicted = {:.4} (95 %: {:.4}..{:.4})",
-            fit.rate / predicted,
-            low.min(high),
-            low.max(high)
-        )
-        .ok();
-    } else {
-        writeln!(report, "no ratio: the predicted rate is zero").ok();
-    }
+    writeln!(
+        report,
+        "  wave speed: measured {:.4e} ± {:.2e} m/s (95 %), predicted {:.4e} m/s, {}; {speed_why}",
+        fit.wave_speed,
+        fit.wave_speed_ci95,
+        predicted.wave_speed,
+        ratio(fit.wave_speed, fit.wave_speed_ci95, predicted.wave_speed)
+    )
+    .ok();
+    let verdict = match (rate_ok, speed_ok) {
+        (true, true) => "agrees (growth rate and wave speed)",
+        (false, true) => "disagrees (growth rate)",
+        (true, false) => "disagrees (wave speed)",
+        (false, false) => "disagrees (growth rate and wave speed)",
+    };
+    writeln!(report, "verdict: {verdict}").ok();
 }
 
 /// Reads m, n, Re, the drive and the seeded wavenumber from a two-layer channel case read
-/// from `path`.
-fn from_case(case: &Case, path: &Path, args: &Args) -> Result<Setup, Failure> {
+/// from `path`; with `recorded`, the wavenumber of the mode a run records
+/// (`Case::tracked_wavelength`).
+fn from_case(case: &Case, path: &Path, args: &Args, recorded: bool) -> Result<Setup, Failure> {
     let bad = |what: &str| Failure::BadInput(format!("{}: {what}", path.display()));
     let pairs = case.layer_pairs();
     let [pair] = pairs.as_slice() else {
@@ -373,6 +464,7 @@ fn from_case(case: &Case, path: &Path, args: &Args) -> Result<Setup, Failure> {
         channel.base_flow().peak_coefficient() * drive * half_width.powi(2) / mu_lower;
     let re = lower.density * peak_velocity * half_width / mu_lower;
     let wavenumber = match (args.wavenumber, &case.interface_perturbation, &args.scan) {
+        _ if recorded => 2.0 * std::f64::consts::PI / case.tracked_wavelength() * half_width,
         (Some(k), _, _) => k,
         (None, Some(p), _) => 2.0 * std::f64::consts::PI / p.wavelength * half_width,
         (None, None, Some(_)) => 1.0,
@@ -394,6 +486,7 @@ fn from_case(case: &Case, path: &Path, args: &Args) -> Result<Setup, Failure> {
         units: Some(CaseUnits {
             half_width,
             peak_velocity,
+            direction: force.signum(),
         }),
         description,
     })
@@ -447,7 +540,7 @@ fn describe(report: &mut String, wavenumber: f64, c: stability::c64, units: &Opt
             "  case units: wavenumber {:.6} 1/m (wavelength {:.6} m), wave speed {:.6e} {:+.6e}i m/s, growth rate {:.6e} 1/s",
             wavenumber / u.half_width,
             u.wavelength(wavenumber),
-            c.re * u.peak_velocity,
+            u.wave_speed(c),
             c.im * u.peak_velocity,
             u.growth_rate(wavenumber, c)
         )
