@@ -93,7 +93,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         let mut single_thread: Option<f64> = None;
         for &threads in &thread_counts {
             if !globals.quiet {
-                eprintln!(
+                crate::note!(
                     "timing {size:.0e} particles on {threads} thread(s): {} × {steps} steps",
                     args.repeats
                 );
@@ -126,7 +126,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     }
     if !globals.quiet {
         let machine = machine_name();
-        println!("{}", table(&rows, &machine, cores));
+        crate::report!("{}", table(&rows, &machine, cores))?;
         let report = Report {
             benchmark: STANDARD_TEMPLATE,
             lamella: env!("CARGO_PKG_VERSION"),
@@ -136,7 +136,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         };
         let json = serde_json::to_string(&report)
             .map_err(|err| Failure::RunFailed(format!("cannot write the JSON line: {err}")))?;
-        println!("{json}");
+        crate::report!("{json}")?;
     }
     Ok(())
 }

@@ -92,7 +92,8 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             .iter()
             .map(|(dx, path, dir)| {
                 if !globals.quiet {
-                    println!("running spacing {dx:e} m into {}", dir.display());
+                    // Progress only: the report at the end says whether stdout works.
+                    let _ = crate::report!("running spacing {dx:e} m into {}", dir.display());
                 }
                 let mut cmd = Command::new(&exe);
                 cmd.arg("--quiet")
@@ -176,9 +177,9 @@ fn summarise(
     write_file(&out.join("convergence.png"), &png)?;
     if !globals.quiet {
         for (d, e) in dx.iter().zip(l2) {
-            println!("spacing {d:e} m: relative L2 error {e:.4e}");
+            crate::report!("spacing {d:e} m: relative L2 error {e:.4e}")?;
         }
-        println!("{}", fit.verdict());
+        crate::report!("{}", fit.verdict())?;
     }
     Ok(())
 }

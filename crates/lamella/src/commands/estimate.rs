@@ -61,10 +61,10 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         }
     };
     if !globals.quiet {
-        print!(
+        crate::console::report_text(format_args!(
             "{}",
             estimate.describe(&args.case.display().to_string(), &case)
-        );
+        ))?;
     }
     Ok(())
 }
@@ -187,7 +187,7 @@ pub fn calibrate<V: Vector>(
             .map_err(|fault| Failure::RunFailed(format!("the calibration run went bad: {fault}")))
     };
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "calibrating on {} particles for about {seconds} s ...",
             sim.particles().len()
         );

@@ -94,7 +94,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         .map_err(|e| Failure::RunFailed(e.to_string()))?;
     write_file(&out_dir.join("growth.png"), &png)?;
     if !globals.quiet {
-        println!(
+        crate::report!(
             "onset at t = {:.4} s (max displacement > {threshold:.3e} m); {}; dominant wavelength \
              {:.4e} m (mode {} of {:.4e} m)",
             time[*onset],
@@ -102,7 +102,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             mode.wavelength,
             mode.mode,
             period
-        );
+        )?;
     }
     Ok(())
 }

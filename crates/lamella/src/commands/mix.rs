@@ -189,11 +189,11 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         }
     }
     for note in &notes {
-        eprintln!("note: {note}");
+        crate::note!("note: {note}");
     }
     if !globals.quiet {
         let (t, last) = rows.last().expect("a run has snapshots");
-        println!(
+        crate::report!(
             "t = {t:.4} s: intensity of segregation {:.4}, Lacey index {:.4}, mean mixing entropy {:.4}, mean FTLE {:.4e} 1/s ({} snapshots, results in {})",
             last.intensity,
             last.lacey,
@@ -201,7 +201,7 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
             last.ftle,
             rows.len(),
             out_dir.display()
-        );
+        )?;
     }
     Ok(())
 }

@@ -60,14 +60,14 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     )?;
     if !globals.quiet {
         match &result.comparison {
-            Some((c, name)) => println!(
+            Some((c, name)) => crate::report!(
                 "profile at t = {:.4} s against {name}: relative L2 error {:.4e}, max error {:.4e} m/s",
                 result.time, c.relative_l2, c.max_abs
-            ),
-            None => println!(
+            )?,
+            None => crate::report!(
                 "profile at t = {:.4} s (no analytical profile for this case)",
                 result.time
-            ),
+            )?,
         }
     }
     Ok(())

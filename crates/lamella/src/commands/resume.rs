@@ -32,7 +32,8 @@ pub struct Args {
 
 /// Restores the newest valid checkpoint of the run folder and runs on to the end time.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    let folder = RunFolder::open(&args.folder)?;
+    // Locked before anything is read: a second resume of the folder stops here (exit 2).
+    let folder = RunFolder::open(&args.folder)?.locked()?;
     let case = load_case(&folder.case())?;
     let case_text = std::fs::read_to_string(folder.case()).map_err(|err| {
         Failure::BadInput(format!("cannot read {}: {err}", folder.case().display()))
@@ -48,22 +49,30 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     }
 }
 
-/// A flag raised by SIGINT or SIGTERM; the run loop polls it each step, then checkpoints and
-/// stops with exit code 130. A second signal while the flag is up ends the process at once
-/// (exit code 130, no checkpoint), for a run that does not reach its next step.
+/// A flag raised by SIGINT, SIGTERM or SIGHUP; the run loop polls it each step, then
+/// checkpoints and stops with exit code 130.
+///
+/// Every later signal only raises the flag again: it never ends the process while the
+/// checkpoint is being written (GNU `timeout` sends SIGTERM twice, an impatient user presses
+/// Ctrl-C twice, a closed terminal sends SIGHUP and then SIGTERM). The step in progress
+/// finishes, the checkpoint is written, then the process exits. Only SIGKILL stops a run
+/// without saving, and a resume then starts from the previous checkpoint.
 pub(crate) fn interrupt_flag() -> Result<Arc<AtomicBool>, Failure> {
     let stop = Arc::new(AtomicBool::new(false));
-    let failed = |err: std::io::Error| {
-        Failure::RunFailed(format!("cannot install the interrupt handler: {err}"))
-    };
-    for signal in [signal_hook::consts::SIGINT, signal_hook::consts::SIGTERM] {
-        // Order matters: the shutdown check runs before the flag is raised by this signal.
-        signal_hook::flag::register_conditional_shutdown(signal, 130, Arc::clone(&stop))
-            .map_err(failed)?;
-        signal_hook::flag::register(signal, Arc::clone(&stop)).map_err(failed)?;
+    for signal in STOP_SIGNALS {
+        signal_hook::flag::register(signal, Arc::clone(&stop)).map_err(|err| {
+            Failure::RunFailed(format!("cannot install the interrupt handler: {err}"))
+        })?;
     }
     Ok(stop)
 }
+
+/// The signals that stop a run after saving: Ctrl-C, `kill`/`timeout`, a closed terminal.
+const STOP_SIGNALS: [std::ffi::c_int; 3] = [
+    signal_hook::consts::SIGINT,
+    signal_hook::consts::SIGTERM,
+    signal_hook::consts::SIGHUP,
+];
 
 fn resume_case<V: Vector>(
     folder: RunFolder,
@@ -74,7 +83,7 @@ fn resume_case<V: Vector>(
 ) -> Result<(), Failure> {
     let restored = CheckpointStore::new(folder.checkpoints()).newest_valid::<V>()?;
     for skipped in &restored.skipped {
-        eprintln!("warning: skipping a damaged checkpoint: {skipped}");
+        crate::note!("warning: skipping a damaged checkpoint: {skipped}");
     }
     let checkpoint = restored.checkpoint;
     let mut recorder = Recorder::resume(folder, case, case_text, &checkpoint)?;
@@ -82,7 +91,7 @@ fn resume_case<V: Vector>(
         recorder.note(&format!("skipped a damaged checkpoint: {skipped}"))?;
     }
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "resuming from {} at t = {:.6e} s, step {}",
             restored.path.display(),
             checkpoint.time,
@@ -111,7 +120,7 @@ fn resume_case<V: Vector>(
         ProgressMode::from_quiet(globals.quiet),
     )?;
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "finished at t = {:.6e} s after {} more steps in {:.1} s; results in {}",
             sim.time(),
             summary.steps,

@@ -87,7 +87,7 @@ fn run_case<V: Vector>(
     let mut sim = setup::simulation::<V>(case)
         .map_err(|err| Failure::BadInput(format!("cannot set up the solver: {err}")))?;
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "{name}: {} particles, sound speed {:.4e} m/s, end time {:.4e} s",
             sim.particles().len(),
             sim.config().state_law.sound_speed,
@@ -103,7 +103,7 @@ fn run_case<V: Vector>(
         ProgressMode::from_quiet(globals.quiet),
     )?;
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "{name}: finished at t = {:.4e} s after {} steps in {:.1} s; time step mostly \
              limited by the {} criterion (acoustic {}, viscous {}, force {} steps); results in {}",
             sim.time(),

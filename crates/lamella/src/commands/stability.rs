@@ -246,7 +246,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         writeln!(report, "wrote {}", path.display()).ok();
     }
     if !globals.quiet {
-        print!("{report}");
+        crate::console::report_text(format_args!("{report}"))?;
     }
     Ok(())
 }
