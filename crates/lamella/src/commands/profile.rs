@@ -62,7 +62,9 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         match &result.comparison {
             Some((c, name)) => crate::report!(
                 "profile at t = {:.4} s against {name}: relative L2 error {:.4e}, max error {:.4e} m/s",
-                result.time, c.relative_l2, c.max_abs
+                result.time,
+                c.relative_l2,
+                c.max_abs
             )?,
             None => crate::report!(
                 "profile at t = {:.4} s (no analytical profile for this case)",

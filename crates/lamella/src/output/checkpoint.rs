@@ -37,7 +37,8 @@ pub const FORMAT_VERSION: u32 = 1;
 /// How many checkpoints a run folder keeps.
 pub const KEPT: usize = 2;
 /// Test hook: when set to `n`, the n-th checkpoint this process writes stops for a minute after
-/// half of its temporary file is on disk, so a test can kill the process in mid-write.
+/// half of its temporary file is on disk, so a test can kill the process in mid-write; `n:ms`
+/// stops for `ms` milliseconds instead (a test signals the process in mid-write).
 pub const PAUSE_HOOK_ENV: &str = "LAMELLA_TEST_PAUSE_IN_CHECKPOINT";
 
 /// Checkpoints written by this process (for [`PAUSE_HOOK_ENV`]).
@@ -463,6 +464,16 @@ impl Reader<'_> {
     }
 }
 
+/// The pause [`PAUSE_HOOK_ENV`] asks of the `ordinal`-th checkpoint of this process, if any.
+fn pause_in_checkpoint(ordinal: u64) -> Option<std::time::Duration> {
+    let hook = std::env::var(PAUSE_HOOK_ENV).ok()?;
+    let (n, millis) = match hook.split_once(':') {
+        Some((n, ms)) => (n, ms.parse::<u64>().ok()?),
+        None => (hook.as_str(), 60_000),
+    };
+    (n.parse::<u64>().ok()? == ordinal).then(|| std::time::Duration::from_millis(millis))
+}
+
 /// Reads and validates one checkpoint file.
 pub fn read_checkpoint<V: Vector>(path: &Path) -> Result<Checkpoint<V>, OutputError> {
     let bytes = fs::read(path).map_err(|err| OutputError::read(path, err))?;
@@ -529,16 +540,13 @@ impl CheckpointStore {
         let path = self.folder.join(format!("checkpoint_{number:06}.bin"));
         let bytes = encode(checkpoint);
         let ordinal = WRITTEN_BY_PROCESS.fetch_add(1, Ordering::Relaxed) + 1;
-        let pause = std::env::var(PAUSE_HOOK_ENV)
-            .ok()
-            .and_then(|n| n.parse::<u64>().ok())
-            == Some(ordinal);
+        let pause = pause_in_checkpoint(ordinal);
         write_atomically(&path, |w| {
             let (first, second) = bytes.split_at(bytes.len() / 2);
             w.write_all(first)?;
-            if pause {
+            if let Some(pause) = pause {
                 w.flush()?;
-                std::thread::sleep(std::time::Duration::from_secs(60));
+                std::thread::sleep(pause);
             }
             w.write_all(second)
         })?;

@@ -278,7 +278,10 @@ mod tests {
             .to_string();
         let pid = format!("process {}", std::process::id());
         assert!(err.contains("is in use") && err.contains(&pid), "{err}");
-        assert_eq!(Failure::from(RunFolder::create(&root, true).unwrap_err()).exit_code(), 2);
+        assert_eq!(
+            Failure::from(RunFolder::create(&root, true).unwrap_err()).exit_code(),
+            2
+        );
         drop(first);
         RunFolder::open(&root).unwrap().locked().unwrap();
     }
