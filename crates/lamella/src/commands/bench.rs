@@ -30,7 +30,7 @@ const PARTICLE_STEPS_PER_REPEAT: f64 = 2.0e6;
 )]
 pub struct Args {
     /// Fluid particle counts, separated by commas (e.g. 1e4,1e5,1e6).
-    #[arg(long, value_name = "N,N,...", default_value = "1e4,1e5,1e6")]
+    #[arg(long, value_name = "N,N,...", default_value = "1e4,1e5,1e6", value_parser = super::values::bench_particles)]
     pub particles: String,
     /// Timed steps per repeat [default: about 2 million particle-steps, 5 to 200 steps].
     #[arg(long, value_name = "STEPS")]

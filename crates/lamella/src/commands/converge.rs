@@ -33,7 +33,7 @@ pub struct Args {
     #[arg(long, value_name = "DX,DX,...")]
     pub spacings: String,
     /// Runs at once [default: 1]; the cores are shared between them.
-    #[arg(long, value_name = "N", default_value_t = 1)]
+    #[arg(long, value_name = "N", default_value_t = 1, value_parser = super::values::jobs)]
     pub jobs: usize,
     /// Folder for the runs and the results [default: convergence-<case name>].
     #[arg(long, value_name = "DIR")]

@@ -34,7 +34,7 @@ pub struct Args {
     #[arg(value_name = "CASE")]
     pub case: PathBuf,
     /// Wall-clock seconds to calibrate for.
-    #[arg(long, value_name = "SECONDS", default_value_t = 10.0)]
+    #[arg(long, value_name = "SECONDS", default_value_t = 10.0, value_parser = super::values::calibration_seconds)]
     pub calibration: f64,
 }
 

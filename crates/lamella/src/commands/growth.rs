@@ -35,13 +35,13 @@ pub struct Args {
     pub dir: PathBuf,
     /// Onset threshold: the first time the largest marker displacement exceeds it (m)
     /// [default: one particle spacing].
-    #[arg(long, value_name = "M")]
+    #[arg(long, value_name = "M", value_parser = super::values::positive)]
     pub onset: Option<f64>,
     /// Fit window START,END (s) [default: from the onset while the growth stays log-linear].
     #[arg(long, value_name = "START,END")]
     pub window: Option<String>,
     /// Smallest R² for the automatic window (common practice: 0.98).
-    #[arg(long, default_value_t = DEFAULT_MIN_R2, value_name = "R2")]
+    #[arg(long, default_value_t = DEFAULT_MIN_R2, value_name = "R2", value_parser = super::values::r_squared)]
     pub min_r2: f64,
     /// Folder for the results [default: DIR/analysis].
     #[arg(long, value_name = "OUT")]

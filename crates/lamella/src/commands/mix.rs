@@ -44,11 +44,11 @@ pub struct Args {
     #[arg(value_name = "DIR")]
     pub dir: PathBuf,
     /// Grid cells per axis, NX,NY[,NZ] [default: one cell per two particle spacings].
-    #[arg(long, value_name = "NX,NY")]
+    #[arg(long, value_name = "NX,NY", value_parser = super::values::grid)]
     pub grid: Option<String>,
     /// Time of the snapshot whose fields and maps are written (s); the closest is taken
     /// [default: the last].
-    #[arg(long, value_name = "T")]
+    #[arg(long, value_name = "T", value_parser = super::values::time)]
     pub time: Option<f64>,
     /// Folder for the results [default: DIR/analysis].
     #[arg(long, value_name = "OUT")]

@@ -24,13 +24,13 @@ pub struct Args {
     #[arg(value_name = "DIR")]
     pub dir: PathBuf,
     /// Time of the snapshot to use (s); the closest snapshot is taken [default: the last].
-    #[arg(long, value_name = "T")]
+    #[arg(long, value_name = "T", value_parser = super::values::time)]
     pub time: Option<f64>,
     /// Axis across which to bin: x, y or z.
     #[arg(long, default_value = "y", value_parser = ["x", "y", "z"])]
     pub axis: String,
     /// Number of bins [default: one per particle row].
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = super::values::profile_bins)]
     pub bins: Option<usize>,
     /// Folder for the results [default: DIR/analysis].
     #[arg(long, value_name = "OUT")]
