@@ -360,3 +360,72 @@ fn a_run_folder_in_use_is_refused_naming_its_holder_and_a_killed_holder_frees_it
         "series.csv has rows twice or out of order"
     );
 }
+
+#[test]
+fn a_foreign_or_impossible_newest_checkpoint_is_named_and_the_older_valid_one_used() {
+    use lamella::output::checkpoint::{decode, encode};
+    let dir = tempfile::tempdir().unwrap();
+    let case = write_case(dir.path(), 8.0);
+    let other_dir = dir.path().join("other");
+    fs::create_dir_all(&other_dir).unwrap();
+    let other_case = other_dir.join("layers.ron");
+    fs::write(
+        &other_case,
+        fs::read_to_string(&case)
+            .unwrap()
+            .replace("body_force: [0.5", "body_force: [0.25"),
+    )
+    .unwrap();
+    let other = dir.path().join("other_run");
+    assert_success(
+        &run_command(&other_case, &other).output().unwrap(),
+        "the other run",
+    );
+    let foreign = fs::read(&checkpoint_files(&other)[0]).unwrap();
+
+    let ours = |out: &Path| {
+        assert_success(&run_command(&case, out).output().unwrap(), "the run");
+        decode::<DVec2>(&fs::read(&checkpoint_files(out)[0]).unwrap()).unwrap()
+    };
+    let variants: [(&str, Box<dyn Fn(&Path) -> Vec<u8>>, &str); 3] = [
+        (
+            "foreign",
+            Box::new(|_| foreign.clone()),
+            "with another text",
+        ),
+        (
+            "nan_time",
+            Box::new(|out| {
+                let mut c = ours(out);
+                c.time = f64::NAN;
+                encode(&c)
+            }),
+            "time is NaN",
+        ),
+        (
+            "far_particle",
+            Box::new(|out| {
+                let mut c = ours(out);
+                c.particles.position[3].x = 1e6;
+                encode(&c)
+            }),
+            "outside the case's domain",
+        ),
+    ];
+    for (name, bad, reason) in variants {
+        let out = dir.path().join(name);
+        let bytes = bad(&out);
+        if !out.exists() {
+            ours(&out);
+        }
+        fs::write(out.join("checkpoints/checkpoint_000002.bin"), bytes).unwrap();
+        let output = lamella().arg("resume").arg(&out).output().unwrap();
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert_success(&output, name);
+        assert!(
+            stderr.contains("checkpoint_000002.bin") && stderr.contains(reason),
+            "{name}: {stderr}"
+        );
+        assert!(stderr.contains("checkpoint_000001.bin"), "{name}: {stderr}");
+    }
+}

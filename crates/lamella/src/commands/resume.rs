@@ -14,7 +14,8 @@ use lamella_sph::Simulation;
 use crate::Failure;
 use crate::cli::Globals;
 use crate::commands::check::load_case;
-use crate::output::{CheckpointStore, Recorder, RunFolder};
+use crate::output::checkpoint::{checksum, outside_by};
+use crate::output::{Checkpoint, CheckpointStore, Recorder, RunFolder};
 use crate::runner::{ProgressMode, run_to_end};
 use crate::setup;
 
@@ -81,14 +82,38 @@ fn resume_case<V: Vector>(
     stop: &AtomicBool,
     globals: Globals,
 ) -> Result<(), Failure> {
-    let restored = CheckpointStore::new(folder.checkpoints()).newest_valid::<V>()?;
+    let config = setup::solver_config::<V>(case)
+        .map_err(|err| Failure::BadInput(format!("cannot set up the solver: {err}")))?;
+    let case_checksum = checksum(case_text.as_bytes());
+    let domain = config.search_domain;
+    let margin = config.kernel.support_radius();
+    let restored = CheckpointStore::new(folder.checkpoints()).newest_accepted(
+        |checkpoint: &Checkpoint<V>| {
+            if checkpoint.case_checksum != case_checksum {
+                return Err(format!(
+                    "it was written for the case `{}` with another text: another run's \
+                     checkpoint, or {} was changed after it was written",
+                    checkpoint.case_name,
+                    folder.case().display()
+                ));
+            }
+            match outside_by(&checkpoint.particles, domain.lower, domain.upper, margin) {
+                Some((id, at)) => Err(format!(
+                    "particle {id} is at {at:?} m, outside the case's domain"
+                )),
+                None => Ok(()),
+            }
+        },
+    )?;
     for skipped in &restored.skipped {
-        crate::note!("warning: skipping a damaged checkpoint: {skipped}");
+        crate::note!("warning: skipping a checkpoint that cannot be used: {skipped}");
     }
     let checkpoint = restored.checkpoint;
     let mut recorder = Recorder::resume(folder, case, case_text, &checkpoint)?;
     for skipped in &restored.skipped {
-        recorder.note(&format!("skipped a damaged checkpoint: {skipped}"))?;
+        recorder.note(&format!(
+            "skipped a checkpoint that cannot be used: {skipped}"
+        ))?;
     }
     if !globals.quiet {
         crate::note!(
@@ -98,8 +123,6 @@ fn resume_case<V: Vector>(
             checkpoint.step
         );
     }
-    let config = setup::solver_config::<V>(case)
-        .map_err(|err| Failure::BadInput(format!("cannot set up the solver: {err}")))?;
     let mut sim = Simulation::from_parts(
         config,
         checkpoint.particles,
