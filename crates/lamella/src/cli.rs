@@ -98,6 +98,6 @@ fn start_thread_pool(threads: &[NonZeroUsize]) -> Result<(), Failure> {
 }
 
 fn report(failure: Failure) -> ExitCode {
-    eprintln!("error: {failure}");
+    crate::note!("error: {failure}");
     failure.into()
 }

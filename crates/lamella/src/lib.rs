@@ -3,6 +3,7 @@
 pub mod benchmark;
 pub mod cli;
 mod commands;
+pub mod console;
 pub mod failure;
 pub mod memory;
 pub mod output;

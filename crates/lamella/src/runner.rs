@@ -255,7 +255,7 @@ impl Progress {
             } else {
                 "unknown".to_string()
             };
-            eprintln!("{:5.1} % {status}, ETA {eta}", 100.0 * fraction);
+            crate::note!("{:5.1} % {status}, ETA {eta}", 100.0 * fraction);
         }
     }
 

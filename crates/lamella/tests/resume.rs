@@ -312,7 +312,8 @@ fn a_damaged_newest_checkpoint_is_detected_and_the_previous_one_used() {
         assert_success(&output, "the resume");
         let stderr = String::from_utf8_lossy(&output.stderr);
         assert!(
-            stderr.contains("damaged checkpoint") && stderr.contains("checksum mismatch"),
+            stderr.contains("checkpoint that cannot be used")
+                && stderr.contains("checksum mismatch"),
             "{damage}: {stderr}"
         );
         assert_same_results(&straight, &out);

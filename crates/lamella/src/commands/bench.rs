@@ -30,7 +30,7 @@ const PARTICLE_STEPS_PER_REPEAT: f64 = 2.0e6;
 )]
 pub struct Args {
     /// Fluid particle counts, separated by commas (e.g. 1e4,1e5,1e6).
-    #[arg(long, value_name = "N,N,...", default_value = "1e4,1e5,1e6")]
+    #[arg(long, value_name = "N,N,...", default_value = "1e4,1e5,1e6", value_parser = super::values::bench_particles)]
     pub particles: String,
     /// Timed steps per repeat [default: about 2 million particle-steps, 5 to 200 steps].
     #[arg(long, value_name = "STEPS")]
@@ -93,7 +93,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         let mut single_thread: Option<f64> = None;
         for &threads in &thread_counts {
             if !globals.quiet {
-                eprintln!(
+                crate::note!(
                     "timing {size:.0e} particles on {threads} thread(s): {} × {steps} steps",
                     args.repeats
                 );
@@ -126,7 +126,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     }
     if !globals.quiet {
         let machine = machine_name();
-        println!("{}", table(&rows, &machine, cores));
+        crate::report!("{}", table(&rows, &machine, cores))?;
         let report = Report {
             benchmark: STANDARD_TEMPLATE,
             lamella: env!("CARGO_PKG_VERSION"),
@@ -136,7 +136,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         };
         let json = serde_json::to_string(&report)
             .map_err(|err| Failure::RunFailed(format!("cannot write the JSON line: {err}")))?;
-        println!("{json}");
+        crate::report!("{json}")?;
     }
     Ok(())
 }

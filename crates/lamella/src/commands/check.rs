@@ -29,7 +29,7 @@ pub struct Args {
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let case = load_case(&args.case)?;
     if !globals.quiet {
-        print!("{}", summary(&args.case, &case));
+        crate::console::report_text(format_args!("{}", summary(&args.case, &case)))?;
     }
     Ok(())
 }

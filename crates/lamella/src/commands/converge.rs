@@ -34,7 +34,7 @@ pub struct Args {
     #[arg(long, value_name = "DX,DX,...")]
     pub spacings: String,
     /// Runs at once [default: 1]; the cores are shared between them.
-    #[arg(long, value_name = "N", default_value_t = 1)]
+    #[arg(long, value_name = "N", default_value_t = 1, value_parser = super::values::jobs)]
     pub jobs: usize,
     /// Folder for the runs and the results [default: convergence-<case name>].
     #[arg(long, value_name = "DIR")]
@@ -93,7 +93,8 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             .iter()
             .map(|(dx, path, dir)| {
                 if !globals.quiet {
-                    println!("running spacing {dx:e} m into {}", dir.display());
+                    // Progress only: the report at the end says whether stdout works.
+                    let _ = crate::report!("running spacing {dx:e} m into {}", dir.display());
                 }
                 let mut cmd = Command::new(&exe);
                 cmd.arg("--quiet")
@@ -177,9 +178,9 @@ fn summarise(
     write_file(&out.join("convergence.png"), &png)?;
     if !globals.quiet {
         for (d, e) in dx.iter().zip(l2) {
-            println!("spacing {d:e} m: relative L2 error {e:.4e}");
+            crate::report!("spacing {d:e} m: relative L2 error {e:.4e}")?;
         }
-        println!("{}", fit.verdict());
+        crate::report!("{}", fit.verdict())?;
     }
     Ok(())
 }

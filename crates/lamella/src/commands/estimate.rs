@@ -34,7 +34,7 @@ pub struct Args {
     #[arg(value_name = "CASE")]
     pub case: PathBuf,
     /// Wall-clock seconds to calibrate for.
-    #[arg(long, value_name = "SECONDS", default_value_t = 10.0)]
+    #[arg(long, value_name = "SECONDS", default_value_t = 10.0, value_parser = super::values::calibration_seconds)]
     pub calibration: f64,
 }
 
@@ -61,10 +61,10 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         }
     };
     if !globals.quiet {
-        print!(
+        crate::console::report_text(format_args!(
             "{}",
             estimate.describe(&args.case.display().to_string(), &case)
-        );
+        ))?;
     }
     Ok(())
 }
@@ -187,7 +187,7 @@ pub fn calibrate<V: Vector>(
             .map_err(|fault| Failure::RunFailed(format!("the calibration run went bad: {fault}")))
     };
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "calibrating on {} particles for about {seconds} s ...",
             sim.particles().len()
         );

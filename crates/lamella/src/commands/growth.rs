@@ -63,26 +63,13 @@ pub struct FitArgs {
     /// refused if it starts inside the start-up or reaches under 3 times the noise floor.
     #[arg(long, value_name = "START,END")]
     pub window: Option<String>,
-    /// Smallest R² of ln(amplitude) against time, in (0, 1] (common practice: 0.98).
-    #[arg(long, value_name = "R2", value_parser = parse_min_r2, default_value_t = DEFAULT_MIN_R2)]
+    /// Smallest R² of ln(amplitude) against time, between 0 and 1 (common practice: 0.98).
+    #[arg(long, value_name = "R2", value_parser = super::values::r_squared, default_value_t = DEFAULT_MIN_R2)]
     pub min_r2: f64,
     /// How long the base flow takes to settle (s); no fit starts before it [default: from the
     /// case, 0 when it starts from the steady profile].
-    #[arg(long, value_name = "SECONDS")]
+    #[arg(long, value_name = "SECONDS", value_parser = super::values::time)]
     pub start_up: Option<f64>,
-}
-
-/// `--min-r2` must lie in (0, 1].
-fn parse_min_r2(text: &str) -> Result<f64, String> {
-    let value: f64 = text
-        .trim()
-        .parse()
-        .map_err(|_| format!("cannot read {text:?} as a number"))?;
-    if value > 0.0 && value <= 1.0 {
-        Ok(value)
-    } else {
-        Err(format!("R² lies in (0, 1]; got {value}"))
-    }
 }
 
 /// The recorded mode of a run and the fit of its growth.
@@ -265,8 +252,8 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         ))
     })?;
     if !globals.quiet {
-        print!("{}", report(&measured, fit));
-        println!("wrote {} and {}", csv_path.display(), png_path.display());
+        crate::report!("{}", report(&measured, fit).trim_end())?;
+        crate::report!("wrote {} and {}", csv_path.display(), png_path.display())?;
     }
     Ok(())
 }

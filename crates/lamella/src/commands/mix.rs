@@ -44,11 +44,11 @@ pub struct Args {
     #[arg(value_name = "DIR")]
     pub dir: PathBuf,
     /// Grid cells per axis, NX,NY[,NZ] [default: one cell per two particle spacings].
-    #[arg(long, value_name = "NX,NY")]
+    #[arg(long, value_name = "NX,NY", value_parser = super::values::grid)]
     pub grid: Option<String>,
     /// Time of the snapshot whose fields and maps are written (s); the closest is taken
     /// [default: the last].
-    #[arg(long, value_name = "T")]
+    #[arg(long, value_name = "T", value_parser = super::values::time)]
     pub time: Option<f64>,
     /// Folder for the results [default: DIR/analysis].
     #[arg(long, value_name = "OUT")]
@@ -189,11 +189,11 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         }
     }
     for note in &notes {
-        eprintln!("note: {note}");
+        crate::note!("note: {note}");
     }
     if !globals.quiet {
         let (t, last) = rows.last().expect("a run has snapshots");
-        println!(
+        crate::report!(
             "t = {t:.4} s: intensity of segregation {:.4}, Lacey index {:.4}, mean mixing entropy {:.4}, mean FTLE {:.4e} 1/s ({} snapshots, results in {})",
             last.intensity,
             last.lacey,
@@ -201,7 +201,7 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
             last.ftle,
             rows.len(),
             out_dir.display()
-        );
+        )?;
     }
     Ok(())
 }

@@ -12,6 +12,7 @@ pub mod profile;
 pub mod resume;
 pub mod run;
 pub mod stability;
+pub mod values;
 
 use crate::Failure;
 use crate::cli::{Command, Globals};

@@ -62,12 +62,12 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         ))
     })?;
     if !globals.quiet {
-        println!(
+        crate::report!(
             "wrote {} ({}); check it with: lamella check {}",
             path.display(),
             chosen.summary,
             path.display()
-        );
+        )?;
     }
     Ok(())
 }

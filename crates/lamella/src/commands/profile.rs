@@ -25,13 +25,13 @@ pub struct Args {
     #[arg(value_name = "DIR")]
     pub dir: PathBuf,
     /// Time of the snapshot to use (s); the closest snapshot is taken [default: the last].
-    #[arg(long, value_name = "T")]
+    #[arg(long, value_name = "T", value_parser = super::values::time)]
     pub time: Option<f64>,
     /// Axis across which to bin: x, y or z.
     #[arg(long, default_value = "y", value_parser = ["x", "y", "z"])]
     pub axis: String,
     /// Number of bins [default: one per particle row].
-    #[arg(long, value_name = "N")]
+    #[arg(long, value_name = "N", value_parser = super::values::profile_bins)]
     pub bins: Option<usize>,
     /// Folder for the results [default: DIR/analysis].
     #[arg(long, value_name = "OUT")]
@@ -61,14 +61,16 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     )?;
     if !globals.quiet {
         match &result.comparison {
-            Some((c, name)) => println!(
+            Some((c, name)) => crate::report!(
                 "profile at t = {:.4} s against {name}: relative L2 error {:.4e}, max error {:.4e} m/s",
-                result.time, c.relative_l2, c.max_abs
-            ),
-            None => println!(
+                result.time,
+                c.relative_l2,
+                c.max_abs
+            )?,
+            None => crate::report!(
                 "profile at t = {:.4} s (no analytical profile for this case)",
                 result.time
-            ),
+            )?,
         }
     }
     Ok(())

@@ -14,7 +14,8 @@ use lamella_sph::Simulation;
 use crate::Failure;
 use crate::cli::Globals;
 use crate::commands::check::load_case;
-use crate::output::{CheckpointStore, Recorder, RunFolder};
+use crate::output::checkpoint::{checksum, outside_by};
+use crate::output::{Checkpoint, CheckpointStore, Recorder, RunFolder};
 use crate::runner::{ProgressMode, run_to_end};
 use crate::setup;
 
@@ -31,21 +32,14 @@ pub struct Args {
     /// Run on to this simulated time (s) instead of the case's end time: extends a finished
     /// or stopped run (snapshots and samples go on at the case's intervals). Give it again if
     /// an extended run is interrupted and resumed.
-    #[arg(long, value_name = "SECONDS", value_parser = parse_end_time)]
+    #[arg(long, value_name = "SECONDS", value_parser = super::values::positive)]
     pub until: Option<f64>,
-}
-
-/// A finite, positive end time.
-fn parse_end_time(text: &str) -> Result<f64, String> {
-    match text.trim().parse::<f64>() {
-        Ok(t) if t.is_finite() && t > 0.0 => Ok(t),
-        _ => Err(format!("{text:?} is not a positive time in seconds")),
-    }
 }
 
 /// Restores the newest valid checkpoint of the run folder and runs on to the end time.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    let folder = RunFolder::open(&args.folder)?;
+    // Locked before anything is read: a second resume of the folder stops here (exit 2).
+    let folder = RunFolder::open(&args.folder)?.locked()?;
     let case = load_case(&folder.case())?;
     let case_text = std::fs::read_to_string(folder.case()).map_err(|err| {
         Failure::BadInput(format!("cannot read {}: {err}", folder.case().display()))
@@ -61,22 +55,30 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     }
 }
 
-/// A flag raised by SIGINT or SIGTERM; the run loop polls it each step, then checkpoints and
-/// stops with exit code 130. A second signal while the flag is up ends the process at once
-/// (exit code 130, no checkpoint), for a run that does not reach its next step.
+/// A flag raised by SIGINT, SIGTERM or SIGHUP; the run loop polls it each step, then
+/// checkpoints and stops with exit code 130.
+///
+/// Every later signal only raises the flag again: it never ends the process while the
+/// checkpoint is being written (GNU `timeout` sends SIGTERM twice, an impatient user presses
+/// Ctrl-C twice, a closed terminal sends SIGHUP and then SIGTERM). The step in progress
+/// finishes, the checkpoint is written, then the process exits. Only SIGKILL stops a run
+/// without saving, and a resume then starts from the previous checkpoint.
 pub(crate) fn interrupt_flag() -> Result<Arc<AtomicBool>, Failure> {
     let stop = Arc::new(AtomicBool::new(false));
-    let failed = |err: std::io::Error| {
-        Failure::RunFailed(format!("cannot install the interrupt handler: {err}"))
-    };
-    for signal in [signal_hook::consts::SIGINT, signal_hook::consts::SIGTERM] {
-        // Order matters: the shutdown check runs before the flag is raised by this signal.
-        signal_hook::flag::register_conditional_shutdown(signal, 130, Arc::clone(&stop))
-            .map_err(failed)?;
-        signal_hook::flag::register(signal, Arc::clone(&stop)).map_err(failed)?;
+    for signal in STOP_SIGNALS {
+        signal_hook::flag::register(signal, Arc::clone(&stop)).map_err(|err| {
+            Failure::RunFailed(format!("cannot install the interrupt handler: {err}"))
+        })?;
     }
     Ok(stop)
 }
+
+/// The signals that stop a run after saving: Ctrl-C, `kill`/`timeout`, a closed terminal.
+const STOP_SIGNALS: [std::ffi::c_int; 3] = [
+    signal_hook::consts::SIGINT,
+    signal_hook::consts::SIGTERM,
+    signal_hook::consts::SIGHUP,
+];
 
 fn resume_case<V: Vector>(
     folder: RunFolder,
@@ -86,7 +88,29 @@ fn resume_case<V: Vector>(
     stop: &AtomicBool,
     globals: Globals,
 ) -> Result<(), Failure> {
-    let restored = CheckpointStore::new(folder.checkpoints()).newest_valid::<V>()?;
+    let config = setup::solver_config::<V>(case)
+        .map_err(|err| Failure::BadInput(format!("cannot set up the solver: {err}")))?;
+    let case_checksum = checksum(case_text.as_bytes());
+    let domain = config.search_domain;
+    let margin = config.kernel.support_radius();
+    let restored = CheckpointStore::new(folder.checkpoints()).newest_accepted(
+        |checkpoint: &Checkpoint<V>| {
+            if checkpoint.case_checksum != case_checksum {
+                return Err(format!(
+                    "it was written for the case `{}` with another text: another run's \
+                     checkpoint, or {} was changed after it was written",
+                    checkpoint.case_name,
+                    folder.case().display()
+                ));
+            }
+            match outside_by(&checkpoint.particles, domain.lower, domain.upper, margin) {
+                Some((id, at)) => Err(format!(
+                    "particle {id} is at {at:?} m, outside the case's domain"
+                )),
+                None => Ok(()),
+            }
+        },
+    )?;
     let end = until.unwrap_or(case.time.end);
     if end < restored.checkpoint.time {
         return Err(Failure::BadInput(format!(
@@ -96,23 +120,23 @@ fn resume_case<V: Vector>(
         )));
     }
     for skipped in &restored.skipped {
-        eprintln!("warning: skipping a damaged checkpoint: {skipped}");
+        crate::note!("warning: skipping a checkpoint that cannot be used: {skipped}");
     }
     let checkpoint = restored.checkpoint;
     let mut recorder = Recorder::resume(folder, case, case_text, &checkpoint)?;
     for skipped in &restored.skipped {
-        recorder.note(&format!("skipped a damaged checkpoint: {skipped}"))?;
+        recorder.note(&format!(
+            "skipped a checkpoint that cannot be used: {skipped}"
+        ))?;
     }
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "resuming from {} at t = {:.6e} s, step {}",
             restored.path.display(),
             checkpoint.time,
             checkpoint.step
         );
     }
-    let config = setup::solver_config::<V>(case)
-        .map_err(|err| Failure::BadInput(format!("cannot set up the solver: {err}")))?;
     let mut sim = Simulation::from_parts(
         config,
         checkpoint.particles,
@@ -136,7 +160,7 @@ fn resume_case<V: Vector>(
         ProgressMode::from_quiet(globals.quiet),
     )?;
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "finished at t = {:.6e} s after {} more steps in {:.1} s; results in {}",
             sim.time(),
             summary.steps,

@@ -139,7 +139,7 @@ fn run_case<V: Vector>(
 ) -> Result<(), Failure> {
     let (mut sim, note) = initial_simulation::<V>(case, start.from)?;
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "{name}: {} particles, sound speed {:.4e} m/s, end time {:.4e} s",
             sim.particles().len(),
             sim.config().state_law.sound_speed,
@@ -149,7 +149,7 @@ fn run_case<V: Vector>(
     let mut observer = Recorder::<V>::start(out, start.force, case, case_text, name)?;
     if let Some(note) = note {
         if !globals.quiet {
-            eprintln!("{name}: {note}");
+            crate::note!("{name}: {note}");
         }
         observer.note(&note)?;
     }
@@ -161,7 +161,7 @@ fn run_case<V: Vector>(
         ProgressMode::from_quiet(globals.quiet),
     )?;
     if !globals.quiet {
-        eprintln!(
+        crate::note!(
             "{name}: finished at t = {:.4e} s after {} steps in {:.1} s; time step mostly \
              limited by the {} criterion (acoustic {}, viscous {}, force {} steps); results in {}",
             sim.time(),

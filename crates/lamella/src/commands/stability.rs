@@ -47,25 +47,26 @@ pub struct Args {
     #[arg(
         long,
         value_name = "M",
+        value_parser = super::values::positive,
         requires_all = ["n", "re"],
         required_unless_present_any = ["case", "run"]
     )]
     pub m: Option<f64>,
     /// Width ratio n = d_lower / d_upper.
-    #[arg(long, value_name = "N", requires_all = ["m", "re"])]
+    #[arg(long, value_name = "N", value_parser = super::values::positive, requires_all = ["m", "re"])]
     pub n: Option<f64>,
     /// Reynolds number rho U_max h / mu_lower.
-    #[arg(long, value_name = "RE", requires_all = ["m", "n"])]
+    #[arg(long, value_name = "RE", value_parser = super::values::positive, requires_all = ["m", "n"])]
     pub re: Option<f64>,
     /// Scaled wavenumber k h [case mode default: from the perturbation wavelength].
-    #[arg(long, value_name = "K", conflicts_with = "scan")]
+    #[arg(long, value_name = "K", value_parser = super::values::positive, conflicts_with = "scan")]
     pub wavenumber: Option<f64>,
     /// Scan scaled wavenumbers: first,last,steps; prints the most unstable and writes the
     /// growth-rate curve (CSV + PNG).
     #[arg(long, value_name = "K0,K1,STEPS")]
     pub scan: Option<String>,
     /// Scaled interfacial tension S = gamma / (rho U_max^2 h).
-    #[arg(long, value_name = "S", default_value_t = 0.0)]
+    #[arg(long, value_name = "S", default_value_t = 0.0, value_parser = super::values::finite)]
     pub tension: f64,
     /// Stability map over viscosity ratios: first,last,steps (log-spaced); needs --map-n.
     #[arg(
@@ -79,7 +80,7 @@ pub struct Args {
     #[arg(long, value_name = "N0,N1,STEPS", requires = "map_m")]
     pub map_n: Option<String>,
     /// Chebyshev collocation points per layer.
-    #[arg(long, value_name = "P", default_value_t = DEFAULT_POINTS_PER_LAYER)]
+    #[arg(long, value_name = "P", default_value_t = DEFAULT_POINTS_PER_LAYER, value_parser = super::values::stability_points)]
     pub points: usize,
     /// Folder for the CSV and PNG files (created if missing) [default: the current folder;
     /// DIR/analysis with --run].
@@ -273,7 +274,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         writeln!(report, "wrote {}", path.display()).ok();
     }
     if !globals.quiet {
-        print!("{report}");
+        crate::console::report_text(format_args!("{report}"))?;
     }
     match refusal {
         Some(reason) => Err(Failure::BadInput(reason)),
@@ -595,7 +596,8 @@ fn map_csv(map: &[MapPoint]) -> String {
 fn parse_range(text: &str, option: &str) -> Result<(f64, f64, usize), Failure> {
     let bad = || {
         Failure::BadInput(format!(
-            "{option} {text}: expected first,last,steps, e.g. 0.1,2,40 (first < last, steps >= 2)"
+            "{option} {text}: expected first,last,steps, e.g. 0.1,2,40 (first < last, \
+             2 <= steps <= 10000)"
         ))
     };
     let parts: Vec<&str> = text.split(',').map(str::trim).collect();
@@ -605,7 +607,7 @@ fn parse_range(text: &str, option: &str) -> Result<(f64, f64, usize), Failure> {
     let first: f64 = first.parse().map_err(|_| bad())?;
     let last: f64 = last.parse().map_err(|_| bad())?;
     let steps: usize = steps.parse().map_err(|_| bad())?;
-    if !(first.is_finite() && last.is_finite() && first < last && steps >= 2) {
+    if !(first.is_finite() && last.is_finite() && first < last && (2..=10_000).contains(&steps)) {
         return Err(bad());
     }
     Ok((first, last, steps))

@@ -37,7 +37,8 @@ pub const FORMAT_VERSION: u32 = 1;
 /// How many checkpoints a run folder keeps.
 pub const KEPT: usize = 2;
 /// Test hook: when set to `n`, the n-th checkpoint this process writes stops for a minute after
-/// half of its temporary file is on disk, so a test can kill the process in mid-write.
+/// half of its temporary file is on disk, so a test can kill the process in mid-write; `n:ms`
+/// stops for `ms` milliseconds instead (a test signals the process in mid-write).
 pub const PAUSE_HOOK_ENV: &str = "LAMELLA_TEST_PAUSE_IN_CHECKPOINT";
 
 /// Checkpoints written by this process (for [`PAUSE_HOOK_ENV`]).
@@ -270,6 +271,11 @@ pub fn decode<V: Vector>(bytes: &[u8]) -> Result<Checkpoint<V>, String> {
         ));
     }
     let time = f64::from_bits(reader.u64()?);
+    if !(time.is_finite() && time >= 0.0) {
+        return Err(format!(
+            "its time is {time}, not a finite time of 0 s or later"
+        ));
+    }
     let step = reader.u64()?;
     let name_len = reader.u32()? as usize;
     let case_name = reader.string(name_len)?;
@@ -302,6 +308,7 @@ pub fn decode<V: Vector>(bytes: &[u8]) -> Result<Checkpoint<V>, String> {
         ));
     }
     let particles = take_state::<V>(&mut arrays)?;
+    check_finite(&particles)?;
     Ok(Checkpoint {
         time,
         step,
@@ -388,6 +395,59 @@ fn take_state<V: Vector>(arrays: &mut Vec<(String, ArrayData)>) -> Result<Partic
     Ok(particles)
 }
 
+/// Refuses a state with a non-finite position, velocity, density, pressure, mass or
+/// viscosity: the solver never saves one (it stops at the last good state instead).
+fn check_finite<V: Vector>(p: &Particles<V>) -> Result<(), String> {
+    let vectors = [("position", &p.position), ("velocity", &p.velocity)];
+    for (name, values) in vectors {
+        if let Some(i) = values
+            .iter()
+            .position(|v| (0..V::DIM).any(|axis| !v.get(axis).is_finite()))
+        {
+            return Err(format!(
+                "the {name} of particle {} is not finite",
+                p.id.get(i).copied().unwrap_or(i as u64)
+            ));
+        }
+    }
+    let scalars = [
+        ("density", &p.density),
+        ("pressure", &p.pressure),
+        ("mass", &p.mass),
+        ("viscosity", &p.viscosity),
+    ];
+    for (name, values) in scalars {
+        if let Some(i) = values.iter().position(|x| !x.is_finite()) {
+            return Err(format!(
+                "the {name} of particle {} is not finite",
+                p.id.get(i).copied().unwrap_or(i as u64)
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// Where every particle of a checkpoint must lie: the solver's search box widened by a
+/// margin on each side (particles of a healthy run never leave it): the first particle outside,
+/// with its id and position, if any.
+pub fn outside_by<V: Vector>(
+    particles: &Particles<V>,
+    lower: V,
+    upper: V,
+    margin: f64,
+) -> Option<(u64, V)> {
+    particles
+        .position
+        .iter()
+        .zip(&particles.id)
+        .find(|(x, _)| {
+            (0..V::DIM).any(|axis| {
+                x.get(axis) < lower.get(axis) - margin || x.get(axis) > upper.get(axis) + margin
+            })
+        })
+        .map(|(x, id)| (*id, *x))
+}
+
 /// Bounds-checked little-endian reading.
 struct Reader<'a> {
     bytes: &'a [u8],
@@ -463,6 +523,16 @@ impl Reader<'_> {
     }
 }
 
+/// The pause [`PAUSE_HOOK_ENV`] asks of the `ordinal`-th checkpoint of this process, if any.
+fn pause_in_checkpoint(ordinal: u64) -> Option<std::time::Duration> {
+    let hook = std::env::var(PAUSE_HOOK_ENV).ok()?;
+    let (n, millis) = match hook.split_once(':') {
+        Some((n, ms)) => (n, ms.parse::<u64>().ok()?),
+        None => (hook.as_str(), 60_000),
+    };
+    (n.parse::<u64>().ok()? == ordinal).then(|| std::time::Duration::from_millis(millis))
+}
+
 /// Reads and validates one checkpoint file.
 pub fn read_checkpoint<V: Vector>(path: &Path) -> Result<Checkpoint<V>, OutputError> {
     let bytes = fs::read(path).map_err(|err| OutputError::read(path, err))?;
@@ -524,21 +594,27 @@ impl CheckpointStore {
     /// [`KEPT`] newest. On failure the earlier checkpoints are untouched.
     pub fn write<V: Vector>(&self, checkpoint: &Checkpoint<V>) -> Result<PathBuf, OutputError> {
         fs::create_dir_all(&self.folder).map_err(|err| OutputError::write(&self.folder, err))?;
-        let existing = self.list()?;
-        let number = existing.last().map_or(1, |(n, _)| n + 1);
+        let mut existing = self.list()?;
+        let number = match existing.last() {
+            None => 1,
+            Some((n, _)) => match n.checked_add(1) {
+                Some(next) => next,
+                None => {
+                    existing = self.renumber(&existing)?;
+                    existing.len() as u64 + 1
+                }
+            },
+        };
         let path = self.folder.join(format!("checkpoint_{number:06}.bin"));
         let bytes = encode(checkpoint);
         let ordinal = WRITTEN_BY_PROCESS.fetch_add(1, Ordering::Relaxed) + 1;
-        let pause = std::env::var(PAUSE_HOOK_ENV)
-            .ok()
-            .and_then(|n| n.parse::<u64>().ok())
-            == Some(ordinal);
+        let pause = pause_in_checkpoint(ordinal);
         write_atomically(&path, |w| {
             let (first, second) = bytes.split_at(bytes.len() / 2);
             w.write_all(first)?;
-            if pause {
+            if let Some(pause) = pause {
                 w.flush()?;
-                std::thread::sleep(std::time::Duration::from_secs(60));
+                std::thread::sleep(pause);
             }
             w.write_all(second)
         })?;
@@ -549,9 +625,48 @@ impl CheckpointStore {
         Ok(path)
     }
 
+    /// Renames the checkpoints `existing` (oldest first) to the numbers 1, 2, ... in order,
+    /// when the next number would pass the largest a `u64` holds. Each rename is atomic and
+    /// keeps the order, so a crash in between leaves a folder `newest_valid` still reads.
+    fn renumber(&self, existing: &[(u64, PathBuf)]) -> Result<Vec<(u64, PathBuf)>, OutputError> {
+        let mut renamed = Vec::new();
+        for (k, (number, path)) in existing.iter().enumerate() {
+            let target_number = k as u64 + 1;
+            let target = self
+                .folder
+                .join(format!("checkpoint_{target_number:06}.bin"));
+            if *number != target_number {
+                if target.exists() {
+                    return Err(OutputError::Folder(format!(
+                        "cannot renumber the checkpoints in {}: {} exists; keep only the two \
+                         newest checkpoint files there",
+                        self.folder.display(),
+                        target.display()
+                    )));
+                }
+                fs::rename(path, &target).map_err(|err| OutputError::write(&target, err))?;
+            }
+            renamed.push((target_number, target));
+        }
+        super::atomic::sync_folder(&self.folder)
+            .map_err(|err| OutputError::write(&self.folder, err))?;
+        Ok(renamed)
+    }
+
     /// The newest checkpoint that reads back whole. Damaged newer files are skipped and listed
     /// in [`Restored::skipped`]; when none is valid, the error names every file and its fault.
     pub fn newest_valid<V: Vector>(&self) -> Result<Restored<V>, OutputError> {
+        self.newest_accepted(|_: &Checkpoint<V>| Ok(()))
+    }
+
+    /// The newest checkpoint that reads back whole and that `accept` takes (it says why not:
+    /// written for another case, a particle outside the domain, ...). Refused and damaged
+    /// newer files are skipped and listed in [`Restored::skipped`], so an older valid
+    /// checkpoint is used; when none is left, the error names every file and its fault.
+    pub fn newest_accepted<V: Vector>(
+        &self,
+        accept: impl Fn(&Checkpoint<V>) -> Result<(), String>,
+    ) -> Result<Restored<V>, OutputError> {
         let files = self.list()?;
         if files.is_empty() {
             return Err(OutputError::Folder(format!(
@@ -562,13 +677,18 @@ impl CheckpointStore {
         let mut skipped = Vec::new();
         for (_, path) in files.iter().rev() {
             match read_checkpoint::<V>(path) {
-                Ok(checkpoint) => {
-                    return Ok(Restored {
-                        checkpoint,
-                        path: path.clone(),
-                        skipped,
-                    });
-                }
+                Ok(checkpoint) => match accept(&checkpoint) {
+                    Ok(()) => {
+                        return Ok(Restored {
+                            checkpoint,
+                            path: path.clone(),
+                            skipped,
+                        });
+                    }
+                    Err(reason) => skipped.push(
+                        OutputError::invalid(path, "checkpoint of this run", reason).to_string(),
+                    ),
+                },
                 Err(err) => skipped.push(err.to_string()),
             }
         }
@@ -668,6 +788,93 @@ mod tests {
         newer.extend_from_slice(&crc.to_le_bytes());
         assert!(decode::<DVec2>(&newer).unwrap_err().contains("version 2"));
         assert!(decode::<glam::DVec3>(&bytes).unwrap_err().contains("2D"));
+    }
+
+    #[test]
+    fn a_time_or_state_that_is_not_finite_is_refused_despite_a_valid_checksum() {
+        let mut nan_time = small();
+        nan_time.time = f64::NAN;
+        let err = decode::<DVec2>(&encode(&nan_time)).unwrap_err();
+        assert!(err.contains("time is NaN"), "{err}");
+        let mut inf_velocity = small();
+        inf_velocity.particles.velocity[1].x = f64::INFINITY;
+        let err = decode::<DVec2>(&encode(&inf_velocity)).unwrap_err();
+        assert!(err.contains("velocity of particle 3"), "{err}");
+        let mut far = small();
+        far.particles.position[0].x = 1e6;
+        let found = outside_by(&far.particles, DVec2::ZERO, DVec2::splat(4.0), 0.1);
+        assert_eq!(found.map(|(id, _)| id), Some(7));
+        assert_eq!(
+            outside_by(
+                &small().particles,
+                DVec2::splat(-1.0),
+                DVec2::splat(4.0),
+                0.0
+            ),
+            None
+        );
+    }
+
+    #[test]
+    fn numbering_at_the_u64_limit_renumbers_and_keeps_the_new_checkpoint() {
+        let dir = tempfile::tempdir().unwrap();
+        let folder = dir.path().join("checkpoints");
+        fs::create_dir_all(&folder).unwrap();
+        let mut checkpoint = small();
+        for (step, number) in [(1, u64::MAX - 1), (2, u64::MAX)] {
+            checkpoint.step = step;
+            fs::write(
+                folder.join(format!("checkpoint_{number:06}.bin")),
+                encode(&checkpoint),
+            )
+            .unwrap();
+        }
+        let store = CheckpointStore::new(&folder);
+        checkpoint.step = 3;
+        let path = store.write(&checkpoint).unwrap();
+        assert!(
+            path.ends_with("checkpoint_000003.bin"),
+            "{}",
+            path.display()
+        );
+        let numbers: Vec<u64> = store.list().unwrap().iter().map(|(n, _)| *n).collect();
+        assert_eq!(numbers, [2, 3]);
+        let restored = store.newest_valid::<DVec2>().unwrap();
+        assert_eq!(restored.checkpoint.step, 3);
+        assert_eq!(
+            read_checkpoint::<DVec2>(&folder.join("checkpoint_000002.bin"))
+                .unwrap()
+                .step,
+            2
+        );
+    }
+
+    #[test]
+    fn a_refused_newest_checkpoint_falls_back_to_the_older_one() {
+        let dir = tempfile::tempdir().unwrap();
+        let store = CheckpointStore::new(dir.path().join("checkpoints"));
+        let mut checkpoint = small();
+        store.write(&checkpoint).unwrap();
+        checkpoint.case_checksum ^= 1;
+        checkpoint.step = 18;
+        store.write(&checkpoint).unwrap();
+        let ours = small().case_checksum;
+        let restored = store
+            .newest_accepted(|c: &Checkpoint<DVec2>| {
+                if c.case_checksum == ours {
+                    Ok(())
+                } else {
+                    Err("written for another case".into())
+                }
+            })
+            .unwrap();
+        assert_eq!(restored.checkpoint.step, 17);
+        assert_eq!(restored.skipped.len(), 1);
+        assert!(
+            restored.skipped[0].contains("another case"),
+            "{:?}",
+            restored.skipped
+        );
     }
 
     #[test]

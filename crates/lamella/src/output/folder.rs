@@ -8,12 +8,20 @@
 //! DIR/snapshots/state_NNNNNN.vtp   VTK PolyData snapshots
 //! DIR/probes/<name>.csv            point and line probes
 //! DIR/checkpoints/checkpoint_NNNNNN.bin   the two newest checkpoints
+//! DIR/run.lock                     who writes the folder now (locked while a run or resume does)
 //! ```
+//!
+//! A run or resume holds an exclusive operating-system lock on `run.lock` for as long as it
+//! writes the folder, so a second one cannot interleave its rows with the first's. The lock
+//! belongs to the open file: the kernel releases it when the process ends, however it ends
+//! (even SIGKILL), so a lock is never left stale; the text in the file (process id, host,
+//! start time) only names the holder in the message a second run gets.
 
 use std::fs::{self, File, OpenOptions};
 use std::io::Write;
 use std::path::{Path, PathBuf};
-use std::time::Instant;
+use std::sync::Arc;
+use std::time::{Instant, SystemTime, UNIX_EPOCH};
 
 use super::OutputError;
 
@@ -27,17 +35,33 @@ const OWN_ENTRIES: [&str; 6] = [
     "checkpoints",
 ];
 
-/// The paths of one run folder.
+/// The lock file of a run folder (see the module documentation).
+pub const LOCK_FILE: &str = "run.lock";
+
+/// The paths of one run folder, and its lock while this process writes it.
 #[derive(Clone, Debug)]
 pub struct RunFolder {
     root: PathBuf,
+    /// The open, exclusively locked `run.lock` (released when the last clone is dropped).
+    lock: Option<Arc<File>>,
 }
 
 impl RunFolder {
-    /// Creates the folder for a new run. An existing non-empty folder is refused unless
-    /// `force`, which deletes Lamella's own entries in it (nothing else).
+    /// Creates the folder for a new run and locks it (see [`RunFolder::locked`]). An existing
+    /// non-empty folder is refused unless `force`, which deletes Lamella's own entries in it
+    /// (nothing else).
     pub fn create(root: &Path, force: bool) -> Result<Self, OutputError> {
-        let non_empty = fs::read_dir(root).is_ok_and(|mut entries| entries.next().is_some());
+        fs::create_dir_all(root).map_err(|err| OutputError::write(root, err))?;
+        let folder = RunFolder {
+            root: root.to_path_buf(),
+            lock: None,
+        }
+        .locked()?;
+        let non_empty = fs::read_dir(root).is_ok_and(|entries| {
+            entries
+                .filter_map(Result::ok)
+                .any(|entry| entry.file_name() != LOCK_FILE)
+        });
         if non_empty && !force {
             return Err(OutputError::Folder(format!(
                 "run folder {} exists and is not empty; choose a new folder, continue the run \
@@ -59,19 +83,66 @@ impl RunFolder {
                 removed.map_err(|err| OutputError::write(&path, err))?;
             }
         }
-        let folder = RunFolder {
-            root: root.to_path_buf(),
-        };
         for dir in [folder.snapshots(), folder.checkpoints()] {
             fs::create_dir_all(&dir).map_err(|err| OutputError::write(&dir, err))?;
         }
         Ok(folder)
     }
 
+    /// This folder, locked for writing by this process: takes the exclusive lock on
+    /// `run.lock` without waiting and writes the holder (process id, host, start time) into
+    /// it. When another process holds the lock, the error names it (exit code 2).
+    pub fn locked(mut self) -> Result<Self, OutputError> {
+        if self.lock.is_some() {
+            return Ok(self);
+        }
+        let path = self.root.join(LOCK_FILE);
+        let mut file = OpenOptions::new()
+            .read(true)
+            .write(true)
+            .create(true)
+            .truncate(false)
+            .open(&path)
+            .map_err(|err| OutputError::write(&path, err))?;
+        match file.try_lock() {
+            Ok(()) => {}
+            Err(fs::TryLockError::WouldBlock) => {
+                let holder = fs::read_to_string(&path).unwrap_or_default();
+                let holder = holder.trim();
+                let holder = if holder.is_empty() {
+                    "another process".to_string()
+                } else {
+                    holder.to_string()
+                };
+                return Err(OutputError::Folder(format!(
+                    "run folder {} is in use: {holder} is writing it (lock {}); wait for that \
+                     run to finish or stop it (Ctrl-C saves a checkpoint), then resume",
+                    self.root.display(),
+                    path.display()
+                )));
+            }
+            Err(fs::TryLockError::Error(err)) => return Err(OutputError::write(&path, err)),
+        }
+        let since = SystemTime::now()
+            .duration_since(UNIX_EPOCH)
+            .map_or(0, |d| d.as_secs());
+        let holder = format!(
+            "process {} on host {} (since {since} s after 1970-01-01 UTC)\n",
+            std::process::id(),
+            host_name()
+        );
+        file.set_len(0)
+            .and_then(|()| file.write_all(holder.as_bytes()))
+            .map_err(|err| OutputError::write(&path, err))?;
+        self.lock = Some(Arc::new(file));
+        Ok(self)
+    }
+
     /// An existing run folder (for `lamella resume`): it must hold the case copy.
     pub fn open(root: &Path) -> Result<Self, OutputError> {
         let folder = RunFolder {
             root: root.to_path_buf(),
+            lock: None,
         };
         if !folder.case().is_file() {
             return Err(OutputError::Folder(format!(
@@ -126,6 +197,17 @@ impl RunFolder {
     }
 }
 
+/// This machine's name, for the lock file ("unknown" where the system does not say).
+fn host_name() -> String {
+    fs::read_to_string("/proc/sys/kernel/hostname")
+        .or_else(|_| fs::read_to_string("/etc/hostname"))
+        .ok()
+        .map(|name| name.trim().to_string())
+        .filter(|name| !name.is_empty())
+        .or_else(|| std::env::var("COMPUTERNAME").ok())
+        .unwrap_or_else(|| "unknown".to_string())
+}
+
 /// The run log, appended line by line (each line flushed at once).
 #[derive(Debug)]
 pub struct RunLog {
@@ -160,6 +242,7 @@ impl RunLog {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::Failure;
 
     #[test]
     fn a_non_empty_folder_needs_force_and_force_keeps_foreign_files() {
@@ -168,15 +251,39 @@ mod tests {
         let folder = RunFolder::create(&root, false).unwrap();
         folder.save_case("(case)").unwrap();
         fs::write(root.join("notes.txt"), "mine").unwrap();
+        let case = folder.case();
+        drop(folder);
         let err = RunFolder::create(&root, false).unwrap_err().to_string();
         assert!(
             err.contains("--force") && err.contains("lamella resume"),
             "{err}"
         );
-        RunFolder::create(&root, true).unwrap();
-        assert!(!folder.case().exists());
+        let folder = RunFolder::create(&root, true).unwrap();
+        assert!(!case.exists());
         assert_eq!(fs::read_to_string(root.join("notes.txt")).unwrap(), "mine");
         assert!(folder.snapshots().is_dir() && folder.checkpoints().is_dir());
+    }
+
+    #[test]
+    fn a_locked_folder_is_refused_with_its_holder_and_freed_on_drop() {
+        let dir = tempfile::tempdir().unwrap();
+        let root = dir.path().join("run");
+        let first = RunFolder::create(&root, false).unwrap();
+        first.save_case("(case)").unwrap();
+        // A second open file description conflicts even within one process (flock semantics).
+        let err = RunFolder::open(&root)
+            .unwrap()
+            .locked()
+            .unwrap_err()
+            .to_string();
+        let pid = format!("process {}", std::process::id());
+        assert!(err.contains("is in use") && err.contains(&pid), "{err}");
+        assert_eq!(
+            Failure::from(RunFolder::create(&root, true).unwrap_err()).exit_code(),
+            2
+        );
+        drop(first);
+        RunFolder::open(&root).unwrap().locked().unwrap();
     }
 
     #[test]

@@ -378,7 +378,7 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         self.log
             .line("interrupted; resume with `lamella resume`")
             .map_err(failed)?;
-        eprintln!(
+        crate::note!(
             "interrupted: state saved in {}; continue with `lamella resume {}`",
             path.display(),
             self.folder.root().display()
