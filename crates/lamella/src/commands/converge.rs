@@ -1,6 +1,9 @@
 //! `lamella converge CASE --spacings a,b,c`: runs a case at several particle spacings (several
 //! runs at once when cores allow), measures the error of the final velocity profile against the
 //! case's analytical solution, and fits the observed order of convergence on log–log axes.
+//! A case that records its interface wave (`InterfaceAmplitude`) is a resolution study of the
+//! wave instead: the growth rate and wave speed each run gives (as `lamella growth` fits them)
+//! against linear theory (as `lamella stability` predicts them).
 
 // Negated comparisons are deliberate: a NaN must fail every check.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
@@ -16,14 +19,20 @@ use crate::Failure;
 use crate::cli::Globals;
 use crate::commands::analysis::{parse_list, write_file};
 use crate::commands::check::load_case;
+use crate::commands::growth::{DEFAULT_MIN_R2, FitArgs, measure};
 use crate::commands::profile::profile;
+use crate::commands::stability::predicted_mode;
+use crate::output::{InterfaceTracker, RunFolder};
 use crate::reference::channel_reference;
+use lamella_case::Case;
 
 /// Options of `lamella converge`.
 #[derive(Debug, clap::Args)]
 #[command(
     after_help = "Writes one run folder per spacing, convergence.csv and convergence.png \
-    into --out. Exit codes: 0 done, 1 a run failed, 2 bad input."
+    into --out; for a case that records InterfaceAmplitude, growth_convergence.csv: the growth \
+    rate and wave speed of each run against linear theory. Exit codes: 0 done, 1 a run failed \
+    or its growth fit refused, 2 bad input."
 )]
 pub struct Args {
     /// The case file (RON); it needs an analytical profile (layered channel, Poiseuille or
@@ -47,6 +56,7 @@ pub struct Args {
 /// Runs `lamella converge`.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let mut case = load_case(&args.case)?;
+    let wave_study = InterfaceTracker::of(&case).is_some();
     if channel_reference(&case).is_none() {
         return Err(Failure::BadInput(format!(
             "{}: no analytical profile for this case; a convergence study needs a layered channel, \
@@ -122,6 +132,9 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             }
         }
     }
+    if wave_study {
+        return summarise_waves(&out, &case, &args.case, &runs, globals);
+    }
     let mut l2 = Vec::new();
     let mut max = Vec::new();
     for (dx, _, dir) in &runs {
@@ -133,6 +146,77 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         max.push(c.max_abs);
     }
     summarise(&out, &case.title, &spacings, &l2, &max, globals)
+}
+
+/// The wave resolution study: growth rate and wave speed of each run against theory, into
+/// `growth_convergence.csv` and the report.
+fn summarise_waves(
+    out: &Path,
+    case: &Case,
+    case_path: &Path,
+    runs: &[(f64, PathBuf, PathBuf)],
+    globals: Globals,
+) -> Result<(), Failure> {
+    let (rate, speed) = predicted_mode(case, case_path)?;
+    let fit_options = FitArgs {
+        window: None,
+        min_r2: DEFAULT_MIN_R2,
+        start_up: None,
+    };
+    let mut columns = vec![Vec::new(); 7];
+    for (dx, path, dir) in runs {
+        let folder = RunFolder::open(dir)?;
+        let measured = measure(&folder, &load_case(path)?, &fit_options)?;
+        let fit = measured.fit.map_err(|why| {
+            Failure::RunFailed(format!(
+                "run at spacing {dx:e} m: the growth fit refuses: {why}"
+            ))
+        })?;
+        for (column, value) in columns.iter_mut().zip([
+            *dx,
+            fit.rate,
+            fit.rate_ci95,
+            fit.rate / rate - 1.0,
+            fit.wave_speed,
+            fit.wave_speed_ci95,
+            fit.wave_speed / speed - 1.0,
+        ]) {
+            column.push(value);
+        }
+        if !globals.quiet {
+            crate::report!(
+                "spacing {dx:e} m: growth rate {:.4e} ± {:.1e} 1/s ({:+.1} % from theory), wave \
+                 speed {:.4e} ± {:.1e} m/s ({:+.1} %)",
+                fit.rate,
+                fit.rate_ci95,
+                100.0 * (fit.rate / rate - 1.0),
+                fit.wave_speed,
+                fit.wave_speed_ci95,
+                100.0 * (fit.wave_speed / speed - 1.0)
+            )?;
+        }
+    }
+    let csv = csv_document(
+        &[
+            "spacing_m",
+            "growth_rate_per_s",
+            "growth_rate_ci95_per_s",
+            "growth_rate_relative_error",
+            "wave_speed_m_per_s",
+            "wave_speed_ci95_m_per_s",
+            "wave_speed_relative_error",
+        ],
+        &columns.iter().map(Vec::as_slice).collect::<Vec<_>>(),
+    )
+    .map_err(Failure::RunFailed)?;
+    write_file(&out.join("growth_convergence.csv"), csv.as_bytes())?;
+    if !globals.quiet {
+        crate::report!(
+            "theory: growth rate {rate:.4e} 1/s, wave speed {speed:.4e} m/s; wrote {}",
+            out.join("growth_convergence.csv").display()
+        )?;
+    }
+    Ok(())
 }
 
 fn summarise(

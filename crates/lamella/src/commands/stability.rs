@@ -154,10 +154,13 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         ));
     }
     let (mut setup, run_folder) = match (&args.case, &args.run) {
-        (Some(path), _) => (from_case(&load_case(path)?, path, &args, false)?, None),
+        (Some(path), _) => (
+            from_case(&load_case(path)?, path, Wavenumber::Asked(&args))?,
+            None,
+        ),
         (None, Some(dir)) => {
             let (folder, case) = open_case(dir)?;
-            let setup = from_case(&case, &folder.case(), &args, true)?;
+            let setup = from_case(&case, &folder.case(), Wavenumber::Recorded)?;
             (setup, Some((folder, case)))
         }
         (None, None) => (from_ratios(&args)?, None),
@@ -430,7 +433,28 @@ fn compare(
 /// Reads m, n, Re, the drive and the seeded wavenumber from a two-layer channel case read
 /// from `path`; with `recorded`, the wavenumber of the mode a run records
 /// (`Case::tracked_wavelength`).
-fn from_case(case: &Case, path: &Path, args: &Args, recorded: bool) -> Result<Setup, Failure> {
+/// Which wavenumber a case is analysed at.
+enum Wavenumber<'a> {
+    /// The one the options ask for, else the seeded one.
+    Asked(&'a Args),
+    /// The one a run records ([`Case::tracked_wavelength`]).
+    Recorded,
+}
+
+/// The predicted growth rate (1/s) and wave speed (m/s) of the interface mode a run of `case`
+/// (read from `path`) records, from linear theory.
+pub fn predicted_mode(case: &Case, path: &Path) -> Result<(f64, f64), Failure> {
+    let setup = from_case(case, path, Wavenumber::Recorded)?;
+    let mode = stability::leading_checked(&setup.problem).map_err(solve_failure)?;
+    let units = setup.units.expect("case mode has units");
+    let alpha = setup.problem.wavenumber;
+    Ok((
+        units.growth_rate(alpha, mode.speed),
+        units.wave_speed(mode.speed),
+    ))
+}
+
+fn from_case(case: &Case, path: &Path, wavenumber: Wavenumber<'_>) -> Result<Setup, Failure> {
     let bad = |what: &str| Failure::BadInput(format!("{}: {what}", path.display()));
     let pairs = case.layer_pairs();
     let [pair] = pairs.as_slice() else {
@@ -464,15 +488,20 @@ fn from_case(case: &Case, path: &Path, args: &Args, recorded: bool) -> Result<Se
     let peak_velocity =
         channel.base_flow().peak_coefficient() * drive * half_width.powi(2) / mu_lower;
     let re = lower.density * peak_velocity * half_width / mu_lower;
-    let wavenumber = match (args.wavenumber, &case.interface_perturbation, &args.scan) {
-        _ if recorded => 2.0 * std::f64::consts::PI / case.tracked_wavelength() * half_width,
-        (Some(k), _, _) => k,
-        (None, Some(p), _) => 2.0 * std::f64::consts::PI / p.wavelength * half_width,
-        (None, None, Some(_)) => 1.0,
-        (None, None, None) => {
-            return Err(bad(
-                "the case seeds no interface perturbation; give --wavenumber or --scan",
-            ));
+    let recorded = 2.0 * std::f64::consts::PI / case.tracked_wavelength() * half_width;
+    let wavenumber = match wavenumber {
+        Wavenumber::Recorded => recorded,
+        Wavenumber::Asked(args) => {
+            match (args.wavenumber, &case.interface_perturbation, &args.scan) {
+                (Some(k), _, _) => k,
+                (None, Some(p), _) => 2.0 * std::f64::consts::PI / p.wavelength * half_width,
+                (None, None, Some(_)) => 1.0,
+                (None, None, None) => {
+                    return Err(bad(
+                        "the case seeds no interface perturbation; give --wavenumber or --scan",
+                    ));
+                }
+            }
         }
     };
     let description = format!(
