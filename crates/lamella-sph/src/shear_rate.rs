@@ -8,6 +8,17 @@ use crate::kernel::Kernel;
 use crate::neighbours::Neighbourhood;
 use crate::particles::{Kind, Particles};
 
+/// The particle fields a velocity gradient is estimated from, in the neighbour search's order.
+#[derive(Clone, Copy, Debug)]
+pub struct Flow<'a, V> {
+    /// Positions (m).
+    pub position: &'a [V],
+    /// Velocities (m/s).
+    pub velocity: &'a [V],
+    /// Fluid or wall.
+    pub kind: &'a [Kind],
+}
+
 /// The velocity gradient G_ij = ∂u_i/∂x_j of fluid particle `a` (a 3 × 3 matrix whose z row
 /// and column are zero in 2D), or `None` for a wall particle or one with too few fluid
 /// neighbours to span every axis. `volume(b)` is the volume V_b of particle b (m³, m² in 2D);
@@ -27,14 +38,17 @@ use crate::particles::{Kind, Particles};
 pub fn velocity_gradient<V: Vector>(
     neighbours: &impl Neighbourhood<V>,
     a: usize,
-    position: &[V],
-    velocity: &[V],
+    flow: Flow<'_, V>,
     volume: impl Fn(usize) -> f64,
-    kind: &[Kind],
     kernel: &Kernel,
     takes_part: impl Fn(usize) -> bool,
     min_determinant: f64,
 ) -> Option<DMat3> {
+    let Flow {
+        position,
+        velocity,
+        kind,
+    } = flow;
     if kind[a] != Kind::Fluid {
         return None;
     }
@@ -85,7 +99,7 @@ pub const MIN_STRESS_DETERMINANT: f64 = 0.1;
 /// of a particle next to the interface would mix the two sides. The corrected gradient is exact
 /// for a linear field on a one-sided support as well.
 pub fn velocity_gradients<V: Vector>(
-    neighbours: &(impl Neighbourhood<V> + Sync),
+    neighbours: &impl Neighbourhood<V>,
     particles: &Particles<V>,
     volume: impl Fn(usize) -> f64 + Sync,
     kernel: &Kernel,
@@ -97,10 +111,12 @@ pub fn velocity_gradients<V: Vector>(
         *gradient = velocity_gradient(
             neighbours,
             a,
-            &p.position,
-            &p.velocity,
+            Flow {
+                position: &p.position,
+                velocity: &p.velocity,
+                kind: &p.kind,
+            },
             &volume,
-            &p.kind,
             kernel,
             same_phase,
             MIN_STRESS_DETERMINANT,
@@ -132,10 +148,12 @@ pub fn shear_rates<V: Vector>(
             velocity_gradient(
                 neighbours,
                 a,
-                position,
-                velocity,
+                Flow {
+                    position,
+                    velocity,
+                    kind,
+                },
                 |b| volume[b],
-                kind,
                 kernel,
                 |_| true,
                 0.0,

@@ -45,6 +45,9 @@ const CASE: &str = r#"
 /// Snapshot interval of [`CASE`] (s); about four steps each.
 const SNAPSHOT_INTERVAL: f64 = 1.0e-3;
 
+/// Bytes of a checkpoint made for a run folder.
+type CheckpointBytes<'a> = Box<dyn Fn(&Path) -> Vec<u8> + 'a>;
+
 fn write_case(dir: &Path, intervals: f64) -> PathBuf {
     let path = dir.join("layers.ron");
     let end = intervals * SNAPSHOT_INTERVAL;
@@ -387,7 +390,7 @@ fn a_foreign_or_impossible_newest_checkpoint_is_named_and_the_older_valid_one_us
         assert_success(&run_command(&case, out).output().unwrap(), "the run");
         decode::<DVec2>(&fs::read(&checkpoint_files(out)[0]).unwrap()).unwrap()
     };
-    let variants: [(&str, Box<dyn Fn(&Path) -> Vec<u8>>, &str); 3] = [
+    let variants: [(&str, CheckpointBytes<'_>, &str); 3] = [
         (
             "foreign",
             Box::new(|_| foreign.clone()),

@@ -63,7 +63,7 @@ pub struct FitArgs {
     /// refused if it starts inside the start-up or reaches under 3 times the noise floor.
     #[arg(long, value_name = "START,END")]
     pub window: Option<String>,
-    /// Smallest R² of ln(amplitude) against time, between 0 and 1 (common practice: 0.98).
+    /// Smallest R² of ln(amplitude) against time, in (0, 1] (common practice: 0.98).
     #[arg(long, value_name = "R2", value_parser = super::values::r_squared, default_value_t = DEFAULT_MIN_R2)]
     pub min_r2: f64,
     /// How long the base flow takes to settle (s); no fit starts before it [default: from the

@@ -52,14 +52,16 @@ pub fn time(text: &str) -> Result<f64, String> {
     }
 }
 
-/// A coefficient of determination floor: between 0 and 1 (1 only for an exact fit).
+/// A coefficient of determination floor: in (0, 1] (1 only for an exact fit; 0 would accept
+/// any fit).
 pub fn r_squared(text: &str) -> Result<f64, String> {
     let x = finite(text)?;
-    if (0.0..=1.0).contains(&x) {
+    if x > 0.0 && x <= 1.0 {
         Ok(x)
     } else {
         Err(format!(
-            "{text} is not between 0 and 1 (R² is at most 1; 0.98 is usual)"
+            "{text} is not in (0, 1] (R² is at most 1, and a floor of 0 accepts any fit; 0.98 \
+             is usual)"
         ))
     }
 }
