@@ -91,18 +91,24 @@ fn measured(name: &str) -> (f64, f64) {
     (growth.slope, -drift.slope / k)
 }
 
-#[test]
-fn a_growing_interface_wave_matches_linear_theory() {
-    let case = lamella_case::load(&lamella_suite::cases_dir().join("interface-growth.ron"))
-        .expect("bundled case");
+/// Theory and measurement of a bundled case, printed side by side: (rate, speed, measured
+/// rate, measured speed).
+fn against_theory(name: &str) -> (f64, f64, f64, f64) {
+    let case = lamella_case::load(&lamella_suite::cases_dir().join(name)).expect("bundled case");
     let (rate, speed) = theory(&case);
-    let (measured_rate, measured_speed) = measured("interface-growth.ron");
+    let (measured_rate, measured_speed) = measured(name);
     println!(
-        "growing wave: rate {measured_rate:.4} 1/s (theory {rate:.4}, {:+.1} %), wave speed \
+        "{name}: rate {measured_rate:.4} 1/s (theory {rate:.4}, {:+.1} %), wave speed \
          {measured_speed:.5} m/s (theory {speed:.5}, {:+.1} %)",
         100.0 * (measured_rate / rate - 1.0),
         100.0 * (measured_speed / speed - 1.0)
     );
+    (rate, speed, measured_rate, measured_speed)
+}
+
+#[test]
+fn a_growing_interface_wave_matches_linear_theory() {
+    let (rate, speed, measured_rate, measured_speed) = against_theory("interface-growth.ron");
     assert!(rate > 0.0, "theory predicts growth here: {rate}");
     assert!(
         (measured_rate / rate - 1.0).abs() <= 0.15,
@@ -116,16 +122,7 @@ fn a_growing_interface_wave_matches_linear_theory() {
 
 #[test]
 fn a_decaying_interface_wave_decays_at_the_theoretical_wave_speed() {
-    let case = lamella_case::load(&lamella_suite::cases_dir().join("interface-decay.ron"))
-        .expect("bundled case");
-    let (rate, speed) = theory(&case);
-    let (measured_rate, measured_speed) = measured("interface-decay.ron");
-    println!(
-        "decaying wave: rate {measured_rate:.4} 1/s (theory {rate:.4}, {:+.1} %), wave speed \
-         {measured_speed:.5} m/s (theory {speed:.5}, {:+.1} %)",
-        100.0 * (measured_rate / rate - 1.0),
-        100.0 * (measured_speed / speed - 1.0)
-    );
+    let (rate, speed, measured_rate, measured_speed) = against_theory("interface-decay.ron");
     assert!(rate < 0.0, "theory predicts decay here: {rate}");
     assert!(measured_rate < 0.0, "the wave must decay: {measured_rate}");
     assert!(

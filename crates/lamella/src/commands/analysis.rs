@@ -71,15 +71,21 @@ impl Run {
 
     /// Where analysis results go: `out`, or `DIR/analysis` (created).
     pub fn output_folder(&self, out: Option<&Path>) -> Result<PathBuf, Failure> {
-        let dir = out.map_or_else(|| self.folder.root().join("analysis"), Path::to_path_buf);
-        std::fs::create_dir_all(&dir).map_err(|e| {
-            Failure::BadInput(format!(
-                "cannot create the output folder {}: {e}",
-                dir.display()
-            ))
-        })?;
-        Ok(dir)
+        analysis_folder(&self.folder, out)
     }
+}
+
+/// Where the analysis results of the run in `folder` go: `out`, or `DIR/analysis` (created;
+/// a folder that cannot be created is bad input, exit code 2).
+pub fn analysis_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf, Failure> {
+    let dir = out.map_or_else(|| folder.root().join("analysis"), Path::to_path_buf);
+    std::fs::create_dir_all(&dir).map_err(|e| {
+        Failure::BadInput(format!(
+            "cannot create the output folder {}: {e}",
+            dir.display()
+        ))
+    })?;
+    Ok(dir)
 }
 
 /// Opens the run folder `dir` and reads its case copy; unlike [`Run::open`] it needs no

@@ -5,7 +5,7 @@
 // Negated comparisons are deliberate: a NaN must fail every check.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use lamella_case::Case;
 use lamella_post::growth::{
@@ -16,7 +16,7 @@ use lamella_post::table::csv_document;
 
 use crate::Failure;
 use crate::cli::Globals;
-use crate::commands::analysis::{open_case, parse_list, read_columns, write_file};
+use crate::commands::analysis::{analysis_folder, open_case, parse_list, read_columns, write_file};
 use crate::output::RunFolder;
 
 /// Smallest R² of ln A against t (common practice: 0.98).
@@ -204,7 +204,7 @@ pub fn measure(folder: &RunFolder, case: &Case, fit: &FitArgs) -> Result<Measure
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let (folder, case) = open_case(&args.dir)?;
     let measured = measure(&folder, &case, &args.fit)?;
-    let out_dir = output_folder(&folder, args.out.as_deref())?;
+    let out_dir = analysis_folder(&folder, args.out.as_deref())?;
     let fitted: Vec<f64> = match &measured.fit {
         Ok(fit) => measured
             .time
@@ -256,18 +256,6 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         crate::report!("wrote {} and {}", csv_path.display(), png_path.display())?;
     }
     Ok(())
-}
-
-/// Where the results go: `out`, or `DIR/analysis` (created).
-fn output_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf, Failure> {
-    let dir = out.map_or_else(|| folder.root().join("analysis"), Path::to_path_buf);
-    std::fs::create_dir_all(&dir).map_err(|e| {
-        Failure::RunFailed(format!(
-            "cannot create the output folder {}: {e}",
-            dir.display()
-        ))
-    })?;
-    Ok(dir)
 }
 
 /// The lines `lamella growth` prints for a fit.
