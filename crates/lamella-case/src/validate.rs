@@ -3,9 +3,8 @@
 
 use std::collections::HashSet;
 
-use crate::derived::ChannelFlow;
 use crate::error::{Problem, Warning, approx, num, vec_str};
-use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, SeedMode, Side};
+use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, Side};
 
 /// Accepted smoothing ratios h/dx (inclusive). Common practice is 1.2 … 1.5.
 pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
@@ -502,18 +501,6 @@ impl Case {
                         num(gap),
                         approx(limit)
                     ),
-                );
-            }
-        }
-        if p.mode == SeedMode::Eigenmode {
-            let two_layers = matches!(self.channel_flow(), Some(ChannelFlow::TwoLayers { .. }));
-            if !two_layers || self.initial_velocity != InitialVelocity::SteadyChannel {
-                c.bad(
-                    "interface_perturbation.mode",
-                    "Eigenmode".to_string(),
-                    "Displacement, or Eigenmode on a two-layer channel (periodic along x, walls \
-                     at the bottom and top, one density, driven by a body force along x) that \
-                     starts with initial_velocity: SteadyChannel",
                 );
             }
         }
