@@ -3,6 +3,7 @@
 //! Columns (units in the names): `time_s, step, dt_s, dt_limit`, the kinetic energy of each
 //! phase (`kinetic_energy_<phase>_J`, per metre of depth in 2D: `_J_per_m`),
 //! `max_speed_m_per_s`, `max_density_deviation` (largest |ρ − ρ0|/ρ0 of a fluid particle),
+//! `mean_density_deviation` (mean of (ρ − ρ0)/ρ0 over the fluid: the drift of the whole),
 //! `interface_particles` (fluid particles with a fluid neighbour of another phase within the
 //! kernel support, across periodic seams too) and `interface_rms_displacement_m` (root mean
 //! square of those particles' displacement from their initial position across the layers,
@@ -41,6 +42,8 @@ pub struct FlowStatistics {
     pub max_speed: f64,
     /// Largest |ρ − ρ0|/ρ0 of a fluid particle.
     pub max_density_deviation: f64,
+    /// Mean of (ρ − ρ0)/ρ0 over the fluid particles: the drift of the density as a whole.
+    pub mean_density_deviation: f64,
     /// Fluid particles with a fluid neighbour of another phase within `radius`.
     pub interface_particles: u64,
     /// RMS displacement of the interface particles along [`LAYER_NORMAL_AXIS`] (m).
@@ -141,6 +144,7 @@ impl FlowStatistics {
         let mut kinetic_energy = vec![0.0; reference_density.len()];
         let mut max_speed: f64 = 0.0;
         let mut max_density_deviation: f64 = 0.0;
+        let (mut deviation_sum, mut fluid_count) = (0.0, 0usize);
         let fluid = |i: usize| particles.kind[i] == Kind::Fluid;
         for i in (0..particles.len()).filter(|&i| fluid(i)) {
             let phase = particles.phase[i] as usize;
@@ -150,8 +154,10 @@ impl FlowStatistics {
             }
             max_speed = max_speed.max(speed_squared.sqrt());
             if let Some(&rho0) = reference_density.get(phase) {
-                max_density_deviation =
-                    max_density_deviation.max((particles.density[i] / rho0 - 1.0).abs());
+                let deviation = particles.density[i] / rho0 - 1.0;
+                max_density_deviation = max_density_deviation.max(deviation.abs());
+                deviation_sum += deviation;
+                fluid_count += 1;
             }
         }
         let on_interface = interface_flags(particles, domain, radius)?;
@@ -173,6 +179,7 @@ impl FlowStatistics {
             kinetic_energy,
             max_speed,
             max_density_deviation,
+            mean_density_deviation: deviation_sum / fluid_count.max(1) as f64,
             interface_particles,
             interface_rms_displacement,
             interface_wave: tracker.map(|t| t.measure(particles)),
@@ -291,9 +298,10 @@ impl SeriesFile {
             line.push_str(&format!(",{energy:e}"));
         }
         line.push_str(&format!(
-            ",{:e},{:e},{},{:e}",
+            ",{:e},{:e},{:e},{},{:e}",
             s.max_speed,
             s.max_density_deviation,
+            s.mean_density_deviation,
             s.interface_particles,
             s.interface_rms_displacement
         ));
@@ -373,7 +381,8 @@ fn header(phase_names: &[String], dimension: usize, interface: bool) -> String {
         ));
     }
     header.push_str(
-        ",max_speed_m_per_s,max_density_deviation,interface_particles,interface_rms_displacement_m",
+        ",max_speed_m_per_s,max_density_deviation,mean_density_deviation,interface_particles,\
+         interface_rms_displacement_m",
     );
     if interface {
         header.push_str(",interface_mode_amplitude_m,interface_mode_phase_rad,interface_noise_m");
@@ -443,6 +452,8 @@ mod tests {
         assert_eq!(s.kinetic_energy, vec![5.0, 25.0]);
         assert_eq!(s.max_speed, 4.0);
         assert!((s.max_density_deviation - 0.03).abs() < 1e-15);
+        // (0 + 0.01 + 0.02 + 0.03)/4: the wall particle's density does not count.
+        assert!((s.mean_density_deviation - 0.015).abs() < 1e-15);
         // Only x = 1 (phase 0) and x = 2 (phase 1) touch the other phase within 1.1.
         assert_eq!(s.interface_particles, 2);
         // Displacements along y: −0.5 and 0.
