@@ -15,7 +15,7 @@ use glam::DMat3;
 use glam::DVec2;
 use lamella::benchmark::standard_case;
 use lamella_cells::CellList;
-use lamella_sph::forces::{RateParameters, Rates, density_rates, particle_rates};
+use lamella_sph::forces::{ParticleMotion, RateParameters, Rates, density_rates, particle_rates};
 use lamella_sph::shear_rate::velocity_gradients;
 use lamella_sph::walls::{InteractionState, interaction_states};
 use lamella_sph::{ReorderScratch, Simulation};
@@ -121,7 +121,10 @@ fn step_and_parts(c: &mut Criterion) {
                         density_rates(
                             &params,
                             &particles,
-                            &particles.velocity,
+                            ParticleMotion {
+                                velocity: &particles.velocity,
+                                shift: &[],
+                            },
                             &seen,
                             &cells,
                             &mut density,

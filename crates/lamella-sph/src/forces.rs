@@ -188,15 +188,35 @@ pub fn transposed_viscous_stress(viscosity: f64, gradient: &DMat3) -> DMat3 {
     }
 }
 
+/// How the fluid particles move during a step: their velocity v and, when particles are shifted,
+/// the shifting velocity δv = δr/dt (empty when they are not). A particle moves with v + δv.
+#[derive(Clone, Copy, Debug)]
+pub struct ParticleMotion<'a, V> {
+    /// Velocity of each particle (m/s), indexed like the particles.
+    pub velocity: &'a [V],
+    /// Shifting velocity of each particle (m/s), or empty for no shifting.
+    pub shift: &'a [V],
+}
+
 /// Fills `out[a]` with dρ_a/dt (kg/m³/s) for every particle (parallel map, each a fixed-order
-/// sum; zero for walls), from the fluid velocities `velocity` (indexed like `particles`).
+/// sum; zero for walls), following each fluid particle as it moves with w = v + δv.
 ///
 /// Continuity with density diffusion (Molteni & Colagrossi 2009, Comput. Phys. Commun. 180;
 /// Antuono et al. 2010, Comput. Phys. Commun. 181), diffusion over fluid neighbours only and on
 /// ρ/ρ0 so phases of different ρ0 do not exchange mass:
-/// dρ_a/dt = ρ_a Σ_b V_b (v_a − v_b)·∇_a W_ab + δ h c0 Σ_b 2 ρ0_a (ρ_a/ρ0_a − ρ_b/ρ0_b) F V_b.
+/// dρ_a/dt = ρ_a Σ_b V_b (w_a − w_b)·∇_a W_ab + Σ_b V_b (ρ_a δv_a + ρ_b δv_b)·∇_a W_ab
+///           + δ h c0 Σ_b 2 ρ0_a (ρ_a/ρ0_a − ρ_b/ρ0_b) F V_b.
 ///
-/// A wall particle enters with v_b = 0, the velocity of its own motion (wall particles keep
+/// A shifted particle does not move with the fluid, so its density follows the arbitrary
+/// Lagrangian–Eulerian form dρ/dt = −ρ ∇·w + ∇·(ρ δv) (= −ρ ∇·v + δv·∇ρ; Sun, Colagrossi,
+/// Marrone, Antuono & Zhang 2019, "A consistent approach to particle shifting in the δ-Plus-SPH
+/// model", Comput. Methods Appl. Mech. Eng. 348, §3; the discrete form here is ours): the first
+/// sum is the change of the particle's kernel sum along its actual path, so a density that
+/// shifting has evened out is not left with the compression that the disorder before it caused;
+/// the second is antisymmetric in a and b, so it moves density between particles and changes
+/// Σ_a V_a ρ_a by nothing. Without shifting both reduce to the plain continuity equation.
+///
+/// A wall particle enters with w_b = 0, the velocity of its own motion (wall particles keep
 /// their place); its sliding velocity only enters the viscous term. A belt velocity here would
 /// act as a sink or source where the belt ends: at the top corners of a lid-driven cavity the
 /// corner particle at rest sees Σ V_b U ∂W/∂x over the lid particles on one side only, which
@@ -204,7 +224,7 @@ pub fn transposed_viscous_stress(viscosity: f64, gradient: &DMat3) -> DMat3 {
 pub fn density_rates<V: Vector, N: Neighbourhood<V>>(
     params: &RateParameters<'_, V>,
     particles: &Particles<V>,
-    velocity: &[V],
+    motion: ParticleMotion<'_, V>,
     seen: &[InteractionState<V>],
     neighbours: &N,
     out: &mut [f64],
@@ -213,17 +233,22 @@ pub fn density_rates<V: Vector, N: Neighbourhood<V>>(
     let diffusion = params.density_diffusion * h * params.sound_speed;
     let inverse_reference = params.inverse_reference_density;
     let positions = &particles.position;
+    let shifted = !motion.shift.is_empty();
+    let shift_of = |b: usize| if shifted { motion.shift[b] } else { V::ZERO };
     out.par_iter_mut().enumerate().for_each(|(a, rate)| {
         if particles.kind[a] != Kind::Fluid {
             *rate = 0.0;
             return;
         }
         let rho_a = seen[a].density;
-        let v_a = velocity[a];
+        let shift_a = shift_of(a);
+        let w_a = motion.velocity[a] + shift_a;
+        let flux_a = shift_a * rho_a;
         let phase_a = particles.phase[a] as usize;
         let rho0_a = params.reference_density[phase_a];
         let relative_a = rho_a * inverse_reference[phase_a];
         let mut continuity = 0.0;
+        let mut shift_flux = 0.0;
         let mut diffusion_sum = 0.0;
         neighbours.for_each_neighbour(
             positions,
@@ -232,19 +257,28 @@ pub fn density_rates<V: Vector, N: Neighbourhood<V>>(
             #[inline(always)]
             |b, r_ab, dist| {
                 let f = params.kernel.gradient_factor(dist);
+                let grad = r_ab * f;
                 let seen_b = &seen[b];
                 let vol_b = seen_b.volume;
                 if particles.kind[b] == Kind::Fluid {
-                    continuity += vol_b * (v_a - velocity[b]).dot(r_ab * f);
+                    let shift_b = shift_of(b);
+                    let w_b = motion.velocity[b] + shift_b;
+                    continuity += vol_b * (w_a - w_b).dot(grad);
+                    if shifted {
+                        shift_flux += vol_b * (flux_a + shift_b * seen_b.density).dot(grad);
+                    }
                     let relative_b =
                         seen_b.density * inverse_reference[particles.phase[b] as usize];
                     diffusion_sum += 2.0 * rho0_a * (relative_a - relative_b) * f * vol_b;
                 } else {
-                    continuity += vol_b * v_a.dot(r_ab * f);
+                    continuity += vol_b * w_a.dot(grad);
+                    if shifted {
+                        shift_flux += vol_b * flux_a.dot(grad);
+                    }
                 }
             },
         );
-        *rate = rho_a * continuity + diffusion * diffusion_sum;
+        *rate = rho_a * continuity + shift_flux + diffusion * diffusion_sum;
     });
 }
 
@@ -345,6 +379,59 @@ mod tests {
         (p, nb, kernel)
     }
 
+    /// Continuity in the form of a particle that moves with w = v + δv, dρ/dt = −ρ ∇·v + δv·∇ρ
+    /// (Sun et al. 2019, Comput. Methods Appl. Mech. Eng. 348, §3): a shift through a density
+    /// that is uniform, with the fluid at rest, changes no density, however uneven the shift.
+    /// On an unjittered periodic lattice Σ_b V_b ∇_a W_ab = 0, so the discrete form must give
+    /// zero to round-off; the same shift without its flux term would not.
+    #[test]
+    fn a_shift_through_uniform_density_changes_no_density() {
+        let (mut p, nb, kernel) = periodic_box();
+        let n = 10;
+        for k in 0..n * n {
+            let (i, j) = (k % n, k / n);
+            p.position[k] = DVec2::new((i as f64 + 0.5) * 0.1, (j as f64 + 0.5) * 0.1);
+            p.velocity[k] = DVec2::ZERO;
+            p.density[k] = 1000.0;
+        }
+        let shift: Vec<DVec2> = (0..n * n)
+            .map(|k| DVec2::new((k as f64 * 0.7).sin(), (k as f64 * 1.3).cos()) * 1e-3)
+            .collect();
+        let law = StateLaw {
+            form: EquationOfState::Linear,
+            sound_speed: 10.0,
+            background_pressure: 0.0,
+        };
+        let rho0 = [1000.0, 1000.0];
+        let mut seen = vec![InteractionState::default(); p.len()];
+        interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
+        let inverse = rho0.map(|r| 1.0 / r);
+        let params = test_parameters(
+            kernel,
+            &rho0,
+            &inverse,
+            DVec2::ZERO,
+            PairViscosity::Harmonic,
+        );
+        let mut rates = vec![1.0; p.len()];
+        let shifted = ParticleMotion {
+            velocity: &p.velocity,
+            shift: &shift,
+        };
+        density_rates(&params, &p, shifted, &seen, &nb, &mut rates);
+        let largest = rates.iter().fold(0.0f64, |m, r| m.max(r.abs()));
+        assert!(largest < 1e-9, "largest dρ/dt {largest} kg/m³/s");
+        // The same particles moved by v = δv instead change density: the shift's own
+        // compression is there and the flux term is what cancels it.
+        let moving = ParticleMotion {
+            velocity: &shift,
+            shift: &[],
+        };
+        density_rates(&params, &p, moving, &seen, &nb, &mut rates);
+        let largest = rates.iter().fold(0.0f64, |m, r| m.max(r.abs()));
+        assert!(largest > 1e-3, "largest dρ/dt {largest} kg/m³/s");
+    }
+
     #[test]
     fn internal_forces_conserve_momentum_and_continuity_conserves_mass() {
         let (p, nb, kernel) = periodic_box();
@@ -436,7 +523,11 @@ mod tests {
             PairViscosity::Harmonic,
         );
         let mut rates = vec![1.0; p.len()];
-        density_rates(&params, &p, &p.velocity, &seen, &nb, &mut rates);
+        let still = ParticleMotion {
+            velocity: &p.velocity,
+            shift: &[],
+        };
+        density_rates(&params, &p, still, &seen, &nb, &mut rates);
         assert!(rates.iter().all(|&r| r == 0.0), "{rates:?}");
         // The lid still drags the fluid through the viscous term.
         let mut momentum = vec![Rates::default(); p.len()];

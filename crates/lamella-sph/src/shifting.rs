@@ -16,9 +16,10 @@ pub enum Regularisation {
     },
 }
 
-/// The shift δr (m) of one particle: −D ∇C, with the part along the interface normal removed
+/// The shift of one particle, −D ∇C, with the part along the interface normal removed
 /// when the particle has neighbours of another phase, so shifting never moves a particle towards
-/// or away from the interface (only along it).
+/// or away from the interface (only along it). With D in m² it is the displacement δr (m); the
+/// solver passes D/dt (m²/s) and gets the shifting velocity δv = δr/dt (m/s).
 #[inline]
 pub fn shift<V: Vector>(diffusivity: f64, concentration_gradient: V, interface_normal: V) -> V {
     let mut delta = concentration_gradient * (-diffusivity);

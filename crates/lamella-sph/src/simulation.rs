@@ -14,7 +14,8 @@
 //! and the accelerations at the current state, pick dt from the acoustic, viscous and force
 //! limits, then advance by symplectic (semi-implicit) Euler, the kick–drift form of leapfrog
 //! (Monaghan 2005, Rep. Prog. Phys. 68, §9): v ← v + dt a(x, ρ), then ρ ← ρ + dt dρ/dt(x, v)
-//! and x ← x + dt v (+ shift) with the new v. Both pairs that oscillate, position with velocity
+//! and x ← x + dt (v + δv) with the new v and the shifting velocity δv (which the density rate
+//! follows, see [`crate::forces::density_rates`]). Both pairs that oscillate, position with velocity
 //! and density with velocity (sound waves), are thus updated one after the other, which keeps
 //! each mode's amplitude bounded for ω dt < 2 (Hairer, Lubich & Wanner 2006, Geometric
 //! Numerical Integration, §I.1). Taking dρ/dt from the old velocity instead is explicit Euler for
@@ -34,7 +35,9 @@ use rayon::prelude::*;
 
 use crate::eos::StateLaw;
 use crate::fault::{Fault, FaultCause};
-use crate::forces::{PairViscosity, RateParameters, Rates, density_rates, particle_rates};
+use crate::forces::{
+    PairViscosity, ParticleMotion, RateParameters, Rates, density_rates, particle_rates,
+};
 use crate::kernel::Kernel;
 use crate::particles::{Kind, Particles, ReorderScratch};
 use crate::shear_rate::velocity_gradients;
@@ -129,6 +132,8 @@ struct Scratch<V: Vector> {
     /// Velocity gradient of each particle, when the full viscous stress is on.
     gradients: Vec<DMat3>,
     density_rates: Vec<f64>,
+    /// Shifting velocity δv of each particle (empty when particles are not shifted).
+    shift_velocity: Vec<V>,
     next_position: Vec<V>,
     next_velocity: Vec<V>,
     next_density: Vec<f64>,
@@ -274,6 +279,7 @@ impl<V: Vector> Simulation<V> {
             next_velocity,
             next_density,
             density_rates: density_rate,
+            shift_velocity,
             ..
         } = &mut self.scratch;
         rates.resize(n, Rates::default());
@@ -336,10 +342,24 @@ impl<V: Vector> Simulation<V> {
         let remaining = until - self.time;
         let clipped = remaining <= stable_dt;
         let dt = if clipped { remaining } else { stable_dt };
-        let diffusivity = match self.config.regularisation {
+        // Shifting velocity δv = δr/dt, with δr = −D ∇C and D = A h |v|max dt.
+        let shift_rate = match self.config.regularisation {
             Regularisation::None => 0.0,
-            Regularisation::Shifting { coefficient } => coefficient * h * max_speed * dt,
+            Regularisation::Shifting { coefficient } => coefficient * h * max_speed,
         };
+        shift_velocity.clear();
+        if shift_rate > 0.0 {
+            shift_velocity.resize(n, V::ZERO);
+            shift_velocity
+                .par_iter_mut()
+                .enumerate()
+                .for_each(|(i, dv)| {
+                    if p.kind[i] == Kind::Fluid {
+                        let r = &rates[i];
+                        *dv = shift(shift_rate, r.concentration_gradient, r.interface_normal);
+                    }
+                });
+        }
 
         // Kick, then the density rate with the new velocities, then drift (parallel maps into
         // the scratch buffers).
@@ -354,7 +374,11 @@ impl<V: Vector> Simulation<V> {
                 p.velocity[i]
             };
         });
-        density_rates(&params, p, next_velocity, seen, &self.cells, density_rate);
+        let motion = ParticleMotion {
+            velocity: next_velocity,
+            shift: shift_velocity,
+        };
+        density_rates(&params, p, motion, seen, &self.cells, density_rate);
         let domain = self.config.search_domain;
         next_position
             .par_iter_mut()
@@ -366,12 +390,11 @@ impl<V: Vector> Simulation<V> {
                     *rho = p.density[i];
                     return;
                 }
-                let r = &rates[i];
-                let mut moved = p.position[i] + next_velocity[i] * dt;
-                if diffusivity > 0.0 {
-                    moved += shift(diffusivity, r.concentration_gradient, r.interface_normal);
+                let mut velocity = next_velocity[i];
+                if shift_rate > 0.0 {
+                    velocity += shift_velocity[i];
                 }
-                *x = domain.wrap(moved);
+                *x = domain.wrap(p.position[i] + velocity * dt);
                 *rho = p.density[i] + density_rate[i] * dt;
             });
 
