@@ -11,12 +11,15 @@
 //! squares over the early, linear stage (the first 0.02 s are skipped: the seed is a pure
 //! displacement, not the eigenmode, and the other modes it excites die out).
 //!
+//! Both cases use a little particle shifting (A = 0.2), whose density follows the shifted
+//! particles: without it the runny layer loses its order and the decay was measured 34 % slow;
+//! with A ≥ 0.5 shifting damps the wave (README, "Measuring an interface growth rate").
+//!
 //! Bounds: the growth rate within 15 % and the wave speed within 5 % of theory, and the sign of
-//! the growth rate right. Measured at 30 particles across (this machine, 2026-12-03): growing
-//! σ = 4.91 1/s against 4.53 (+8 %), c = 0.01118 m/s against 0.01105 (+1.1 %); decaying
-//! σ = −3.81 1/s against −5.79 (−34 %), c = 0.0754 m/s against 0.0757 (−0.4 %). The decay rate
-//! misses the 15 % bound, so for the stable case only the sign is asserted; the miss is
-//! printed and stated in the README.
+//! the growth rate right, for both cases (the bounds the validation asks of a coarse run).
+//! Measured at 30 particles across (this machine, 2026-12-03): growing σ = 4.90 1/s against
+//! 4.53 (+8.2 %), c = 0.01118 m/s against 0.01105 (+1.1 %); decaying σ = −5.10 1/s against
+//! −5.79 (−12.0 %), c = 0.07562 m/s against 0.07568 (−0.1 %).
 
 use glam::DVec2;
 use lamella::output::InterfaceTracker;
@@ -121,10 +124,14 @@ fn a_growing_interface_wave_matches_linear_theory() {
 }
 
 #[test]
-fn a_decaying_interface_wave_decays_at_the_theoretical_wave_speed() {
+fn a_decaying_interface_wave_matches_linear_theory() {
     let (rate, speed, measured_rate, measured_speed) = against_theory("interface-decay.ron");
     assert!(rate < 0.0, "theory predicts decay here: {rate}");
     assert!(measured_rate < 0.0, "the wave must decay: {measured_rate}");
+    assert!(
+        (measured_rate / rate - 1.0).abs() <= 0.15,
+        "decay rate {measured_rate} against {rate} (bound 15 %)"
+    );
     assert!(
         (measured_speed / speed - 1.0).abs() <= 0.05,
         "wave speed {measured_speed} against {speed} (bound 5 %)"
