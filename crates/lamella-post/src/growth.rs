@@ -759,7 +759,9 @@ mod tests {
         let time: Vec<f64> = (0..=120).map(|i| i as f64 * 0.0025).collect();
         let amplitude: Vec<f64> = time
             .iter()
-            .map(|&t| 8e-6 * (sigma * t + epsilon * (std::f64::consts::TAU * t / period).sin()).exp())
+            .map(|&t| {
+                8e-6 * (sigma * t + epsilon * (std::f64::consts::TAU * t / period).sin()).exp()
+            })
             .collect();
         let phase: Vec<f64> = time.iter().map(|&t| wrap(-K * 1.1e-2 * t)).collect();
         let noise = vec![1e-8; time.len()];
