@@ -16,7 +16,9 @@ use plotters::coord::ranged1d::{AsRangedCoord, ValueFormatter};
 use plotters::prelude::*;
 use thiserror::Error;
 
+mod axis;
 mod map;
+pub use axis::AxisFormat;
 pub use map::{MapFrame, field_map, scatter_map};
 
 /// Family name the embedded font is registered under.
@@ -131,12 +133,23 @@ impl Chart {
         let no_data = || PlotError::NoData(self.title.clone());
         let xr = axis_range(xs, self.log_x).ok_or_else(no_data)?;
         let yr = axis_range(ys, self.log_y).ok_or_else(no_data)?;
+        let axes = [
+            AxisFormat::new(&self.x_label, xr.start, xr.end, self.log_x),
+            AxisFormat::new(&self.y_label, yr.start, yr.end, self.log_y),
+        ];
+        let corner = self.emptiest_corner(&xr, &yr);
         let mut pixels = vec![255u8; width as usize * height as usize * 3];
+        let frame = Frame {
+            size: (width, height),
+            axes: &axes,
+            y_ticks: [yr.start, yr.end],
+            legend: corner,
+        };
         let drawn = match (self.log_x, self.log_y) {
-            (false, false) => self.draw(&mut pixels, (width, height), xr, yr),
-            (true, false) => self.draw(&mut pixels, (width, height), xr.log_scale(), yr),
-            (false, true) => self.draw(&mut pixels, (width, height), xr, yr.log_scale()),
-            (true, true) => self.draw(&mut pixels, (width, height), xr.log_scale(), yr.log_scale()),
+            (false, false) => self.draw(&mut pixels, &frame, xr, yr),
+            (true, false) => self.draw(&mut pixels, &frame, xr.log_scale(), yr),
+            (false, true) => self.draw(&mut pixels, &frame, xr, yr.log_scale()),
+            (true, true) => self.draw(&mut pixels, &frame, xr.log_scale(), yr.log_scale()),
         };
         drawn.map_err(|reason| PlotError::Render {
             title: self.title.clone(),
@@ -148,30 +161,66 @@ impl Chart {
         })
     }
 
-    fn draw<X, Y>(&self, pixels: &mut [u8], size: (u32, u32), xr: X, yr: Y) -> Result<(), String>
+    /// The corner of the plot area with the fewest data points near it (ties: upper right,
+    /// upper left, lower right, lower left), where the legend hides the least.
+    fn emptiest_corner(&self, xr: &Range<f64>, yr: &Range<f64>) -> SeriesLabelPosition {
+        let unit = |v: f64, r: &Range<f64>, log: bool| {
+            if log {
+                (v.ln() - r.start.ln()) / (r.end.ln() - r.start.ln())
+            } else {
+                (v - r.start) / (r.end - r.start)
+            }
+        };
+        let mut counts = [0usize; 4];
+        for s in &self.series {
+            for (&x, &y) in s.x.iter().zip(&s.y) {
+                let (u, v) = (unit(x, xr, self.log_x), unit(y, yr, self.log_y));
+                if !(u.is_finite() && v.is_finite()) {
+                    continue;
+                }
+                // A legend box covers about 40 % of the width and 30 % of the height.
+                let (left, right, low, high) = (u < 0.4, u > 0.6, v < 0.3, v > 0.7);
+                counts[0] += usize::from(right && high);
+                counts[1] += usize::from(left && high);
+                counts[2] += usize::from(right && low);
+                counts[3] += usize::from(left && low);
+            }
+        }
+        let corners = [
+            SeriesLabelPosition::UpperRight,
+            SeriesLabelPosition::UpperLeft,
+            SeriesLabelPosition::LowerRight,
+            SeriesLabelPosition::LowerLeft,
+        ];
+        let best = (0..4).min_by_key(|&k| counts[k]).unwrap_or(0);
+        corners[best].clone()
+    }
+
+    fn draw<X, Y>(&self, pixels: &mut [u8], frame: &Frame<'_>, xr: X, yr: Y) -> Result<(), String>
     where
         X: AsRangedCoord<Value = f64>,
         Y: AsRangedCoord<Value = f64>,
         X::CoordDescType: ValueFormatter<f64>,
         Y::CoordDescType: ValueFormatter<f64>,
     {
-        let root = BitMapBackend::with_buffer(pixels, size).into_drawing_area();
+        let [x_axis, y_axis] = frame.axes;
+        let root = BitMapBackend::with_buffer(pixels, frame.size).into_drawing_area();
         root.fill(&WHITE).map_err(|e| e.to_string())?;
         let mut chart = ChartBuilder::on(&root)
-            .caption(&self.title, (FONT, 22))
+            .caption(&self.title, (FONT, title_size(&self.title, frame.size.0)))
             .margin(12)
             .x_label_area_size(48)
-            .y_label_area_size(72)
+            .y_label_area_size(y_label_area(y_axis, frame.y_ticks))
             .build_cartesian_2d(xr, yr)
             .map_err(|e| e.to_string())?;
         chart
             .configure_mesh()
-            .x_desc(&self.x_label)
-            .y_desc(&self.y_label)
+            .x_desc(&x_axis.label)
+            .y_desc(&y_axis.label)
             .label_style((FONT, 14))
             .axis_desc_style((FONT, 16))
-            .x_label_formatter(&|v| format!("{v:.3e}"))
-            .y_label_formatter(&|v| format!("{v:.3e}"))
+            .x_label_formatter(&|v| x_axis.tick(*v))
+            .y_label_formatter(&|v| y_axis.tick(*v))
             .draw()
             .map_err(|e| e.to_string())?;
         for (k, s) in self.series.iter().enumerate() {
@@ -205,6 +254,7 @@ impl Chart {
         }
         chart
             .configure_series_labels()
+            .position(frame.legend.clone())
             .label_font((FONT, 14))
             .background_style(WHITE.mix(0.85))
             .border_style(BLACK)
@@ -213,6 +263,35 @@ impl Chart {
         root.present().map_err(|e| e.to_string())?;
         Ok(())
     }
+}
+
+/// What a chart is drawn into and how its axes read.
+struct Frame<'a> {
+    size: (u32, u32),
+    axes: &'a [AxisFormat; 2],
+    /// The ends of the vertical axis, whose tick labels set the room left for them.
+    y_ticks: [f64; 2],
+    legend: SeriesLabelPosition,
+}
+
+/// Title font size (px) that fits `title` into `width` pixels: 22 px, smaller for a long title
+/// (DejaVu Sans averages about 0.55 em a character; common practice for a text estimate).
+fn title_size(title: &str, width: u32) -> u32 {
+    let fit = (width.saturating_sub(24)) as f64 / (0.55 * title.chars().count().max(1) as f64);
+    fit.clamp(10.0, 22.0) as u32
+}
+
+/// Width (px) of the area left of the plot: the longest tick label at 14 px (about 8 px a
+/// character) plus the axis title and gaps, so the title never overlaps the labels.
+fn y_label_area(axis: &AxisFormat, ends: [f64; 2]) -> u32 {
+    let mid = 0.5 * (ends[0] + ends[1]);
+    let longest = [ends[0], mid, ends[1]]
+        .iter()
+        .map(|&v| axis.tick(v).chars().count())
+        .max()
+        .unwrap_or(4)
+        .max(4);
+    8 * longest as u32 + 40
 }
 
 fn encode_png(pixels: &[u8], width: u32, height: u32) -> Result<Vec<u8>, String> {

@@ -13,7 +13,7 @@ use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
-use super::{FONT, PlotError, encode_png, register_font};
+use super::{AxisFormat, FONT, PlotError, encode_png, register_font};
 
 /// Height of the title band (px).
 const TITLE_HEIGHT: u32 = 36;
@@ -172,17 +172,19 @@ fn render(
             )
             .map_err(|e| e.to_string())?;
         paint(&mut chart)?;
+        let x_axis = AxisFormat::new(&frame.x_label, frame.lower[0], frame.upper[0], false);
+        let y_axis = AxisFormat::new(&frame.y_label, frame.lower[1], frame.upper[1], false);
         chart
             .configure_mesh()
             .disable_mesh()
             .x_labels(5)
             .y_labels(5)
-            .x_desc(&frame.x_label)
-            .y_desc(&frame.y_label)
+            .x_desc(&x_axis.label)
+            .y_desc(&y_axis.label)
             .label_style((FONT, 13))
             .axis_desc_style((FONT, 15))
-            .x_label_formatter(&|v| format!("{v:.2e}"))
-            .y_label_formatter(&|v| format!("{v:.2e}"))
+            .x_label_formatter(&|v| x_axis.tick(*v))
+            .y_label_formatter(&|v| y_axis.tick(*v))
             .draw()
             .map_err(|e| e.to_string())?;
 
