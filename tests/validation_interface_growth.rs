@@ -68,8 +68,8 @@ fn bundled(name: &str) -> Case {
 /// Runs `case` to `end`, measuring the interface wave every sample interval; returns the
 /// fitted growth rate (1/s) and wave speed (m/s) over [`fit_start`, `end`].
 fn measured(case: &Case, fit_start: f64, end: f64) -> (f64, f64) {
-    let tracker = InterfaceTracker::of(&case).expect("the case records its interface");
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("solver set up");
+    let tracker = InterfaceTracker::of(case).expect("the case records its interface");
+    let mut sim = lamella::setup::simulation::<DVec2>(case).expect("solver set up");
     let interval = case.time.sample_interval.expect("a sample interval");
     let samples = (end / interval).round() as usize;
     let (mut time, mut log_amplitude, mut phase) = (Vec::new(), Vec::new(), Vec::new());
