@@ -18,7 +18,7 @@ pub use generate::{Generated, Seed, generate};
 pub use load::{check_output_folder, load, parse_str, parse_unvalidated, to_ron};
 pub use schema::{
     Analysis, Axis, Case, Domain, EquationOfState, InitialVelocity, Kernel, Output, PairViscosity,
-    ParticleSettings, Perturbation, Phase, Probe, Region, Scales, Side, Time, TimeStepFactors,
-    ViscosityLaw, Wall,
+    ParticleSettings, Perturbation, Phase, Probe, Region, Scales, SeedMode, Side, Time,
+    TimeStepFactors, ViscosityLaw, Wall,
 };
 pub use validate::{MAX_PARTICLES, SMOOTHING_RATIO_COMMON, SMOOTHING_RATIO_RANGE};

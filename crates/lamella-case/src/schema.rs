@@ -238,6 +238,25 @@ pub struct Perturbation {
     pub amplitude: f64,
     /// Wavelength λ (m); must tile the domain length along x when x is periodic.
     pub wavelength: f64,
+    /// What else the seed sets [default: `Displacement`].
+    #[serde(default)]
+    pub mode: SeedMode,
+}
+
+/// How a seeded wave starts.
+#[derive(Serialize, Deserialize, Clone, Copy, Debug, PartialEq, Eq, Default)]
+pub enum SeedMode {
+    /// Only the particles are moved (a smooth volume-preserving displacement); the velocity is
+    /// the case's initial velocity.
+    #[default]
+    Displacement,
+    /// The particles are moved as for `Displacement` (on two layers that sine is the
+    /// eigenmode's interface shape, so the mode is scaled to its amplitude and phase), and the
+    /// velocity of the leading linear eigenmode of the two-layer channel (as `lamella
+    /// stability` computes it) is added to the steady profile, so the run starts on the growing
+    /// or decaying mode with no transient. Needs `initial_velocity: SteadyChannel` on a
+    /// two-layer channel driven by a body force along x.
+    Eigenmode,
 }
 
 /// Fluid velocity at time zero.

@@ -3,8 +3,9 @@
 
 use std::collections::HashSet;
 
+use crate::derived::ChannelFlow;
 use crate::error::{Problem, Warning, approx, num, vec_str};
-use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, Side};
+use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, SeedMode, Side};
 
 /// Accepted smoothing ratios h/dx (inclusive). Common practice is 1.2 … 1.5.
 pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
@@ -503,6 +504,37 @@ impl Case {
                     ),
                 );
             }
+        }
+        if p.mode == SeedMode::Eigenmode {
+            self.check_eigenmode_seed(c);
+        }
+    }
+
+    /// The eigenmode seed adds the leading mode of the two-layer channel (the one `lamella
+    /// stability` computes) to the steady layered profile: it needs that profile and that
+    /// channel.
+    fn check_eigenmode_seed(&self, c: &mut Checker) {
+        if self.initial_velocity != InitialVelocity::SteadyChannel {
+            c.bad(
+                "interface_perturbation.mode",
+                "Eigenmode".to_string(),
+                "Displacement, or Eigenmode with initial_velocity: SteadyChannel (the mode is a \
+                 perturbation of the steady layered profile; set initial_velocity: \
+                 SteadyChannel)",
+            );
+        }
+        let driven_two_layers = matches!(
+            self.channel_flow(),
+            Some(ChannelFlow::TwoLayers { force_density, .. }) if force_density != 0.0
+        );
+        if !driven_two_layers {
+            c.bad(
+                "interface_perturbation.mode",
+                "Eigenmode".to_string(),
+                "Displacement, or Eigenmode on a two-layer channel: two Layer regions of \
+                 different phases and one density filling the height, periodic along x, fixed \
+                 walls at the bottom and top, driven by a body force along x",
+            );
         }
     }
 

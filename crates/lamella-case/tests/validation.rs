@@ -182,6 +182,42 @@ fn perturbation_wavelength_must_tile_the_periodic_length() {
 }
 
 #[test]
+fn an_eigenmode_seed_needs_the_steady_profile() {
+    assert_problem(
+        "eigenmode-from-rest",
+        "interface_perturbation.mode",
+        "set initial_velocity: SteadyChannel",
+    );
+}
+
+#[test]
+fn an_eigenmode_seed_needs_a_driven_two_layer_channel() {
+    let problems = problems_of("eigenmode-undriven");
+    let about_mode: Vec<String> = problems
+        .iter()
+        .filter(|p| p.path() == Some("interface_perturbation.mode"))
+        .map(|p| p.to_string())
+        .collect();
+    // Only the channel is wrong here: the run starts on the steady profile.
+    assert_eq!(about_mode.len(), 1, "{about_mode:#?}");
+    assert!(
+        about_mode[0].contains("driven by a body force along x"),
+        "{about_mode:?}"
+    );
+}
+
+#[test]
+fn an_unknown_seed_mode_is_an_error_listing_the_modes() {
+    let err = load(&invalid("seed-mode-unknown")).unwrap_err();
+    let text = err.to_string();
+    assert!(text.contains("Eigenmodes"), "{text}");
+    assert!(
+        text.contains("Displacement") && text.contains("Eigenmode"),
+        "the valid modes are listed: {text}"
+    );
+}
+
+#[test]
 fn output_folder_that_cannot_be_written() {
     assert_problem(
         "output-folder-unwritable",

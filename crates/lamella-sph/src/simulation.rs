@@ -119,6 +119,9 @@ pub enum SetupError {
     /// The neighbour search refused the domain or the particles.
     #[error("neighbour search: {0}")]
     Cells(#[from] CellError),
+    /// The initial state of the case could not be built; the message says why.
+    #[error("initial state: {0}")]
+    InitialState(String),
 }
 
 /// Scratch buffers reused every step (no allocation inside a step once warmed up).

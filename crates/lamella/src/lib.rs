@@ -4,6 +4,7 @@ pub mod benchmark;
 pub mod cli;
 mod commands;
 pub mod console;
+pub mod eigenmode;
 pub mod failure;
 pub mod memory;
 pub mod output;

@@ -6,6 +6,7 @@ use lamella_case::{
 use lamella_cells::{Domain, Vector};
 use lamella_sph::forces::lattice_viscous_normalisation;
 
+use crate::eigenmode::EigenmodeSeed;
 use crate::reference::channel_reference;
 use lamella_sph::{
     Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation, SetupError, Simulation,
@@ -107,8 +108,10 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
 /// The particles of a case at time zero: the generated lattice (fluid, then walls) with mass
 /// ρ0 dx^d, the phase's viscosity, density ρ0, ids 0, 1, 2, … in generation order; with
 /// `initial_velocity: SteadyChannel` the fluid velocity is the analytical steady profile
-/// ([`channel_reference`]), each layer's own profile for its particles.
-pub fn initial_particles<V: Vector>(case: &Case) -> Particles<V> {
+/// ([`channel_reference`]), each layer's own profile for its particles; with
+/// `interface_perturbation.mode: Eigenmode` the velocity of the leading linear mode is added
+/// ([`add_eigenmode_velocity`]). Fails only when that mode cannot be computed.
+pub fn initial_particles<V: Vector>(case: &Case) -> Result<Particles<V>, SetupError> {
     let generated = lamella_case::generate::<V>(case);
     let dx = case.particles.spacing;
     let volume = dx.powi(V::DIM as i32);
@@ -150,24 +153,48 @@ pub fn initial_particles<V: Vector>(case: &Case) -> Particles<V> {
         p.viscosity.push(phase.viscosity_law.reference_viscosity());
         p.kind.push(if wall { Kind::Wall } else { Kind::Fluid });
     }
-    p
+    add_eigenmode_velocity(case, &mut p).map_err(SetupError::InitialState)?;
+    Ok(p)
+}
+
+/// Adds the velocity of the case's eigenmode seed ([`EigenmodeSeed`]) to every fluid
+/// particle, each with its own layer's eigenfunction at its position; nothing unless the case
+/// asks for `Eigenmode`. The error says why the mode could not be computed.
+pub fn add_eigenmode_velocity<V: Vector>(
+    case: &Case,
+    particles: &mut Particles<V>,
+) -> Result<(), String> {
+    let Some(mode) = EigenmodeSeed::of(case)? else {
+        return Ok(());
+    };
+    let upper_phase = case.tracked_interface().map(|pair| pair.upper as u16);
+    for i in (0..particles.len()).filter(|&i| particles.kind[i] == Kind::Fluid) {
+        let p = particles.position[i];
+        let upper = upper_phase == Some(particles.phase[i]);
+        let [u, v] = mode.velocity([p.get(0), p.get(1)], upper);
+        let velocity = &mut particles.velocity[i];
+        velocity.set(0, velocity.get(0) + u);
+        velocity.set(1, velocity.get(1) + v);
+    }
+    Ok(())
 }
 
 /// A simulation of `case` at time zero.
 pub fn simulation<V: Vector>(case: &Case) -> Result<Simulation<V>, SetupError> {
-    Simulation::new(solver_config(case)?, initial_particles(case))
+    Simulation::new(solver_config(case)?, initial_particles(case)?)
 }
 
 /// The particles of `source`, the state of another run of a case with the same particles (the
 /// same ids, kinds and phases as `case` generates), prepared to start `case` from: the
 /// initial positions become the current ones and the fluid particles are moved by the case's
-/// interface seed ([`lamella_case::Seed`]); velocities, densities and the rest are kept. The
+/// interface seed ([`lamella_case::Seed`]); velocities, densities and the rest are kept, with
+/// the eigenmode's velocity added when the case asks for it ([`add_eigenmode_velocity`]). The
 /// error says what differs.
 pub fn developed_particles<V: Vector>(
     case: &Case,
     mut source: Particles<V>,
 ) -> Result<Particles<V>, String> {
-    let fresh = initial_particles::<V>(case);
+    let fresh = initial_particles::<V>(case).map_err(|err| err.to_string())?;
     if source.len() != fresh.len() {
         return Err(format!(
             "it holds {} particles, the case makes {}",
@@ -203,6 +230,7 @@ pub fn developed_particles<V: Vector>(
             source.position[i] = domain.wrap(V::from_fn(|a| moved[a]));
         }
     }
+    add_eigenmode_velocity(case, &mut source)?;
     source.initial_position.clone_from(&source.position);
     Ok(source)
 }
@@ -226,7 +254,7 @@ mod tests {
         let mut case = bundled("interface-growth.ron");
         case.interface_perturbation = None;
         let reference = channel_reference(&case).expect("a two-layer channel");
-        let p = initial_particles::<DVec2>(&case);
+        let p = initial_particles::<DVec2>(&case).unwrap();
         let mut fluid = 0;
         for i in (0..p.len()).filter(|&i| p.kind[i] == Kind::Fluid) {
             let expected = reference.velocity(p.position[i].y, 0.0);
@@ -238,10 +266,53 @@ mod tests {
     }
 
     #[test]
+    fn an_eigenmode_seed_adds_the_eigenfunction_at_every_fluid_particle() {
+        // The mode of `lamella_post::stability` (Yih 1967) in SI, mapped here independently:
+        // h = 0.6 mm, centre 0.6 mm, U_max from the peak coefficient, ε = −iA/h for the seed
+        // A sin(kx); u' = U_max Re[ε φ'(ŷ) e^{ikx}], v' = U_max Re[−iα ε φ(ŷ) e^{ikx}].
+        use lamella_post::stability::{LayeredChannel, StabilityProblem, c64};
+        let mut case = bundled("interface-growth.ron");
+        case.interface_perturbation.as_mut().unwrap().mode = lamella_case::SeedMode::Eigenmode;
+        let reference = channel_reference(&case).expect("a two-layer channel");
+        let channel = LayeredChannel::two_layer(20.0, 1.0).unwrap();
+        let h = 0.6e-3;
+        let force = case.body_force.as_ref().unwrap()[0];
+        let peak = channel.base_flow().peak_coefficient() * 1000.0 * force * h * h / 2.0e-2;
+        let alpha = std::f64::consts::PI;
+        let mode = StabilityProblem::new(channel, 1000.0 * peak * h / 2.0e-2, alpha)
+            .leading_mode()
+            .unwrap();
+        let epsilon = c64::new(0.0, -8.0e-6 / h);
+        let p = initial_particles::<DVec2>(&case).unwrap();
+        let mut largest_v: f64 = 0.0;
+        for i in (0..p.len()).filter(|&i| p.kind[i] == Kind::Fluid) {
+            let upper = p.phase[i] == 1;
+            let (x, y) = (p.position[i].x / h, (p.position[i].y - h) / h);
+            let wave = epsilon * c64::cis(alpha * x);
+            let layer = usize::from(upper);
+            let u = peak * (mode.derivative_in(layer, 1, y) * wave).re;
+            let v = peak * (mode.derivative_in(layer, 0, y) * wave * c64::new(0.0, -alpha)).re;
+            let steady = reference.steady_velocity_in_layer(p.position[i].y, upper);
+            assert!(
+                (p.velocity[i].x - steady - u).abs() < 1e-12 * peak,
+                "particle {i}"
+            );
+            assert!((p.velocity[i].y - v).abs() < 1e-12 * peak, "particle {i}");
+            largest_v = largest_v.max(v.abs());
+        }
+        // The mode moves the fluid: v' at the interface is about A k |U_i − c| ≈ 1e-4 m/s.
+        assert!(largest_v > 1e-5, "{largest_v}");
+        // The displacement seed alone leaves the vertical velocity zero.
+        case.interface_perturbation.as_mut().unwrap().mode = lamella_case::SeedMode::Displacement;
+        let plain = initial_particles::<DVec2>(&case).unwrap();
+        assert!(plain.velocity.iter().all(|v| v.y == 0.0));
+    }
+
+    #[test]
     fn a_sub_spacing_seed_moves_the_interface_by_its_amplitude() {
         // A = 8e-6 m, a fifth of the 4e-5 m spacing, η = A sin(kx) = A cos(kx − π/2).
         let case = bundled("interface-growth.ron");
-        let p = initial_particles::<DVec2>(&case);
+        let p = initial_particles::<DVec2>(&case).unwrap();
         let wave = InterfaceTracker::of(&case).expect("recorded").measure(&p);
         assert!((wave.amplitude / 8.0e-6 - 1.0).abs() < 0.01, "{wave:?}");
         assert!(

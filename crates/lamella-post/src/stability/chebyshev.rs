@@ -59,6 +59,36 @@ pub fn integrate(c: &[f64]) -> Vec<f64> {
     out
 }
 
+/// The derivative of the Chebyshev series `c` (one term shorter; empty stays empty):
+/// b_{k−1} = b_{k+1} + 2k c_k from the top down, then b_0 halved (Boyd 2001, App. A, the
+/// inverse of [`integrate`] up to its constant).
+pub fn differentiate(c: &[f64]) -> Vec<f64> {
+    let n = c.len();
+    if n < 2 {
+        return Vec::new();
+    }
+    let mut out = vec![0.0; n - 1];
+    for k in (1..n).rev() {
+        let above = out.get(k + 1).copied().unwrap_or(0.0);
+        out[k - 1] = above + 2.0 * k as f64 * c[k];
+    }
+    out[0] /= 2.0;
+    out
+}
+
+/// The value Σ c_m T_m(ξ) of a Chebyshev series at any ξ, by Clenshaw's recurrence
+/// b_m = c_m + 2ξ b_{m+1} − b_{m+2}, value c_0 + ξ b_1 − b_2 (Boyd 2001, App. A). Outside
+/// [−1, 1] it continues the polynomial.
+pub fn evaluate(c: &[f64], xi: f64) -> f64 {
+    let (mut b1, mut b2) = (0.0, 0.0);
+    for &cm in c.iter().skip(1).rev() {
+        let b0 = cm + 2.0 * xi * b1 - b2;
+        b2 = b1;
+        b1 = b0;
+    }
+    c.first().copied().unwrap_or(0.0) + xi * b1 - b2
+}
+
 /// Derivatives 0..=3 of the cubic's basis T_0..T_3 at ξ: row p holds d^p T_i/dξ^p.
 fn cubic_basis(xi: f64) -> [[f64; 4]; 4] {
     [
@@ -156,6 +186,40 @@ mod tests {
         for (got, want) in b.iter().zip(expected) {
             assert!((got - want).abs() < 1e-15, "{b:?}");
         }
+    }
+
+    #[test]
+    fn differentiation_undoes_integration() {
+        // d/dξ ∫c = c exactly (Boyd 2001, App. A), here for a series with every term.
+        let c = [0.3, -1.2, 2.5, 0.7, -0.4, 1.1];
+        let back = differentiate(&integrate(&c));
+        assert_eq!(back.len(), c.len());
+        for (got, want) in back.iter().zip(c) {
+            assert!((got - want).abs() < 1e-14, "{back:?}");
+        }
+        // T_3' = 12ξ² − 3 = 3T_0 + 6T_2.
+        assert_eq!(differentiate(&[0.0, 0.0, 0.0, 1.0]), vec![3.0, 0.0, 6.0]);
+        assert!(differentiate(&[2.0]).is_empty());
+    }
+
+    #[test]
+    fn clenshaw_matches_the_cosine_form_and_the_monomial_form() {
+        // T_m(cos θ) = cos(mθ) inside [−1, 1]; T_3 = 4ξ³ − 3ξ also outside it.
+        let c = [0.5, -0.25, 1.5, 0.75, -2.0];
+        for xi in [-1.0, -0.6, 0.0, 0.31, 1.0] {
+            let theta = f64::acos(xi);
+            let want: f64 = c
+                .iter()
+                .enumerate()
+                .map(|(m, cm)| cm * (m as f64 * theta).cos())
+                .sum();
+            assert!((evaluate(&c, xi) - want).abs() < 1e-13, "ξ = {xi}");
+        }
+        let xi = 1.05;
+        assert!(
+            (evaluate(&[0.0, 0.0, 0.0, 1.0], xi) - (4.0 * xi.powi(3) - 3.0 * xi)).abs() < 1e-13
+        );
+        assert_eq!(evaluate(&[], 0.3), 0.0);
     }
 
     #[test]

@@ -24,6 +24,11 @@
 //!   σ = α c_i in units of U_max/h (a disturbance grows as e^{σ t});
 //! - interfacial tension S = γ/(ρ U_max² h).
 //!
+//! # Eigenfunctions
+//! [`StabilityProblem::leading_mode`] also returns the leading mode's stream function in every
+//! layer, its interface displacements and velocity perturbation ([`Eigenmode`]), normalised to
+//! a unit displacement of the lowest interface, so that a run can start on the linear mode.
+//!
 //! # Spurious eigenvalues
 //! The boundary and interface rows make B singular (infinite eigenvalues); they are
 //! eliminated before the solve. Of the rest, [`StabilityProblem::solve`] drops every c that
@@ -41,12 +46,14 @@
 mod channel;
 mod charts;
 mod chebyshev;
+mod eigenmode;
 mod long_wave;
 mod search;
 mod spectrum;
 
 pub use channel::{BaseFlow, LayeredChannel};
 pub use charts::{growth_curve_chart, map_chart};
+pub use eigenmode::Eigenmode;
 pub use long_wave::{LongWave, long_wave_coefficient};
 pub use search::{
     CheckedMode, CriticalPoint, CurvePoint, MapPoint, critical_point, growth_curve,

@@ -1,0 +1,179 @@
+//! The eigenmode seed of a case (`interface_perturbation.mode: Eigenmode`): the leading linear
+//! mode of the two-layer channel ([`lamella_post::stability::Eigenmode`], Yih 1967, J. Fluid
+//! Mech. 27) in SI units and in the case's coordinates, scaled to the seeded interface wave.
+//!
+//! Scales as `lamella stability` uses them: h the channel half-width, U_max the peak of the
+//! steady layered profile (Bird, Stewart & Lightfoot §2.5), Re = ρ U_max h/μ_lower, α = k h.
+//! The case's seed displaces the interface by A sin(k(x − x_lower)) = Re[−iA e^{ik(x − x_lower)}],
+//! so the mode (normalised to a unit real displacement) is scaled by ε = −iA/h. A flow
+//! towards −x (body force along −x) is the mirror image x → −x of the solved one: there the
+//! mode is taken at x̃ = −(x − x_lower), with ε = +iA/h and u' reversed.
+
+use lamella_case::{Case, ChannelFlow, SeedMode};
+use lamella_post::stability::{Eigenmode, LayeredChannel, StabilityProblem, c64};
+
+/// The leading eigenmode of a case's two-layer channel, ready to add to the steady profile.
+#[derive(Clone, Debug, PartialEq)]
+pub struct EigenmodeSeed {
+    mode: Eigenmode,
+    /// Channel half-width h (m).
+    half_width: f64,
+    /// Height of the channel's centre line (m): scaled y = (y − centre)/h.
+    centre: f64,
+    /// Peak speed of the steady profile U_max (m/s).
+    peak_velocity: f64,
+    /// Direction of the flow along x, ±1 (the sign of the body force).
+    direction: f64,
+    /// Start of the domain along x (m), where the seeded sine has its zero.
+    x0: f64,
+    /// Complex amplitude ε of the scaled mode (units of h).
+    amplitude: c64,
+}
+
+impl EigenmodeSeed {
+    /// The seed of `case`; `None` unless its interface perturbation asks for `Eigenmode`. The
+    /// error says why the mode could not be computed (the case is not a driven two-layer
+    /// channel, or the stability solve failed).
+    pub fn of(case: &Case) -> Result<Option<Self>, String> {
+        let Some(perturbation) = &case.interface_perturbation else {
+            return Ok(None);
+        };
+        if perturbation.mode != SeedMode::Eigenmode {
+            return Ok(None);
+        }
+        let Some(ChannelFlow::TwoLayers {
+            lower_width,
+            upper_width,
+            lower_viscosity,
+            upper_viscosity,
+            force_density,
+        }) = case.channel_flow()
+        else {
+            return Err("the eigenmode seed needs a two-layer channel".into());
+        };
+        if force_density == 0.0 {
+            return Err("the eigenmode seed needs a body force along x".into());
+        }
+        let channel =
+            LayeredChannel::two_layer(lower_viscosity / upper_viscosity, lower_width / upper_width)
+                .map_err(|err| err.to_string())?;
+        let half_width = 0.5 * (lower_width + upper_width);
+        let density = case.phases[case.tracked_interface().map_or(0, |pair| pair.lower)].density;
+        let peak_velocity =
+            channel.base_flow().peak_coefficient() * force_density.abs() * half_width.powi(2)
+                / lower_viscosity;
+        let reynolds = density * peak_velocity * half_width / lower_viscosity;
+        let wavenumber = std::f64::consts::TAU / perturbation.wavelength * half_width;
+        let mode = StabilityProblem::new(channel, reynolds, wavenumber)
+            .leading_mode()
+            .map_err(|err| format!("the leading eigenmode could not be computed: {err}"))?;
+        let direction = force_density.signum();
+        Ok(Some(Self {
+            mode,
+            half_width,
+            centre: case.domain.lower[1] + half_width,
+            peak_velocity,
+            direction,
+            x0: case.domain.lower[0],
+            amplitude: c64::new(0.0, -direction * perturbation.amplitude / half_width),
+        }))
+    }
+
+    /// The mode's velocity (u', v') in m/s at `position` (m; x and y) for a fluid particle of
+    /// the lower (`upper` false) or upper layer: each layer's eigenfunction, continued past
+    /// the undisturbed interface for a particle the seed has moved across it.
+    pub fn velocity(&self, position: [f64; 2], upper: bool) -> [f64; 2] {
+        let x = self.direction * (position[0] - self.x0) / self.half_width;
+        let y = (position[1] - self.centre) / self.half_width;
+        let [u, v] = self
+            .mode
+            .velocity_in(usize::from(upper), self.amplitude, x, y);
+        [
+            self.direction * self.peak_velocity * u,
+            self.peak_velocity * v,
+        ]
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::commands::stability::predicted_mode;
+    use crate::reference::channel_reference;
+    use std::path::Path;
+
+    fn growing(mode: SeedMode) -> Case {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/interface-growth.ron");
+        let mut case = lamella_case::load(&path).expect("bundled case");
+        case.interface_perturbation.as_mut().expect("seeded").mode = mode;
+        case
+    }
+
+    /// Checks the kinematic condition at the interface in SI, against `lamella stability`'s
+    /// own prediction: the seeded interface η = A sin(k(x − x0)) must move as the mode does,
+    /// η(x, t) = A e^{σt} sin(k(x − x0 − c t)), so at t = 0 the fluid there moves vertically
+    /// with v = ∂η/∂t + U_i ∂η/∂x = A [σ sin(kξ) + k (U_i − c) cos(kξ)] (Yih 1967, §2).
+    fn assert_interface_moves_with_the_predicted_wave(case: &Case) {
+        let path = Path::new("interface-growth.ron");
+        let (rate, speed) = predicted_mode(case, path).expect("a predicted mode");
+        let seed = EigenmodeSeed::of(case).expect("solved").expect("asked for");
+        let p = case.interface_perturbation.as_ref().unwrap();
+        let pair = case.tracked_interface().unwrap();
+        let bottom = case.domain.lower[1];
+        let interface_speed = channel_reference(case)
+            .unwrap()
+            .steady_velocity_in_layer(pair.interface - bottom, false);
+        let k = std::f64::consts::TAU / p.wavelength;
+        let scale = p.amplitude * k * interface_speed.abs();
+        for x in [0.0, 1.7e-4, 4.1e-4, 9.0e-4] {
+            let xi = k * (x - case.domain.lower[0]);
+            let expected =
+                p.amplitude * (rate * xi.sin() + k * (interface_speed - speed) * xi.cos());
+            for upper in [false, true] {
+                let v = seed.velocity([x, pair.interface], upper)[1];
+                assert!(
+                    (v - expected).abs() < 1e-7 * scale,
+                    "x = {x}, upper {upper}: v = {v}, expected {expected}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn the_seeded_interface_moves_at_the_predicted_growth_rate_and_wave_speed() {
+        assert_interface_moves_with_the_predicted_wave(&growing(SeedMode::Eigenmode));
+    }
+
+    #[test]
+    fn a_flow_towards_minus_x_gets_the_mirrored_mode() {
+        let mut case = growing(SeedMode::Eigenmode);
+        let force = case.body_force.as_mut().unwrap();
+        force[0] = -force[0];
+        assert_interface_moves_with_the_predicted_wave(&case);
+        let forward = EigenmodeSeed::of(&growing(SeedMode::Eigenmode))
+            .unwrap()
+            .unwrap();
+        let backward = EigenmodeSeed::of(&case).unwrap().unwrap();
+        let (length, y) = (case.extent(0), 0.45e-3);
+        for x in [1.0e-4, 5.0e-4] {
+            let [u, v] = forward.velocity([x, y], false);
+            // x → −x maps the forward flow onto the backward one and its seed A sin(kx) onto
+            // −A sin(kx), and velocities (u, v) onto (−u, v); with the period L the backward
+            // field at L − x is then (u, −v) of the forward field at x.
+            let [um, vm] = backward.velocity([length - x, y], false);
+            assert!((um - u).abs() < 1e-12 * u.abs().max(1e-12), "{um} vs {u}");
+            assert!((vm + v).abs() < 1e-12 * v.abs().max(1e-12), "{vm} vs {v}");
+        }
+    }
+
+    #[test]
+    fn displacement_seeds_and_unseeded_cases_have_no_mode() {
+        assert_eq!(
+            EigenmodeSeed::of(&growing(SeedMode::Displacement)),
+            Ok(None)
+        );
+        let mut case = growing(SeedMode::Eigenmode);
+        case.interface_perturbation = None;
+        assert_eq!(EigenmodeSeed::of(&case), Ok(None));
+    }
+}
