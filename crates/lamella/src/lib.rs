@@ -5,6 +5,7 @@ pub mod cli;
 mod commands;
 pub mod console;
 pub mod failure;
+mod feasibility;
 pub mod memory;
 pub mod output;
 pub mod reference;
