@@ -33,7 +33,8 @@ pub(crate) fn problems(case: &Case) -> Vec<Problem> {
     let mut found = Vec::new();
     let (dt, limit) = time_step(case);
     let steps = case.time.end / dt;
-    if !(steps <= MAX_STEPS) {
+    // NaN (0/0) counts as too many: such a case cannot run either.
+    if steps.is_nan() || steps > MAX_STEPS {
         found.push(too_many_steps(case, dt, limit, steps));
     }
     let sites: f64 = case.lattice_counts().iter().map(|&n| n as f64).product();

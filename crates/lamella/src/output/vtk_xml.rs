@@ -11,13 +11,16 @@ use base64::Engine as _;
 use base64::engine::general_purpose::STANDARD as BASE64;
 use flate2::read::ZlibDecoder;
 
+/// The `key="value"` attributes of a start tag, in order.
+pub(crate) type Attributes<'a> = Vec<(&'a str, &'a str)>;
+
 /// The attributes of the first start tag `<name ...>` at or after `from` in `text`, and the
 /// byte offset just past the tag's `>`.
 pub(crate) fn start_tag<'a>(
     text: &'a str,
     name: &str,
     from: usize,
-) -> Result<(Vec<(&'a str, &'a str)>, usize), String> {
+) -> Result<(Attributes<'a>, usize), String> {
     let rest = text.get(from..).ok_or("the document ends early")?;
     let open = format!("<{name}");
     let mut searched = 0;
@@ -41,7 +44,7 @@ pub(crate) fn start_tag<'a>(
 }
 
 /// `key="value"` pairs of a start tag's inside.
-fn attributes(mut inner: &str) -> Result<Vec<(&str, &str)>, String> {
+fn attributes(mut inner: &str) -> Result<Attributes<'_>, String> {
     let mut found = Vec::new();
     loop {
         inner = inner.trim_start();
