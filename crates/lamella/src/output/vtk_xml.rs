@@ -55,6 +55,7 @@ fn attributes(mut inner: &str) -> Result<Attributes<'_>, String> {
             .split_once('=')
             .ok_or_else(|| format!("attribute text {inner:?} has no `=`"))?;
         let rest = rest
+            .trim_start()
             .strip_prefix('"')
             .ok_or_else(|| format!("attribute {} is not quoted", key.trim()))?;
         let (value, rest) = rest
