@@ -12,13 +12,25 @@ use crate::schema::Case;
 /// Errors list every problem found (a syntax error stops parsing, so there is at most one).
 pub fn load(path: &Path) -> Result<Case, CaseError> {
     let origin = path.display().to_string();
-    let text = fs::read_to_string(path).map_err(|err| CaseError {
+    let refuse = |problem: Problem| CaseError {
         origin: origin.clone(),
-        problems: vec![Problem::File {
-            message: format!("cannot read the case file: {err}; check the path and permissions"),
-        }],
-    })?;
-    let case = parse_str(&text, &origin)?;
+        problems: vec![problem],
+    };
+    let cannot_read = |err: std::io::Error| Problem::File {
+        message: format!("cannot read the case file: {err}; check the path and permissions"),
+    };
+    // A FIFO or device would block or never end: only regular files are read.
+    let metadata = fs::metadata(path).map_err(|err| refuse(cannot_read(err)))?;
+    if !metadata.is_file() {
+        return Err(refuse(Problem::File {
+            message: "is not a regular file (a folder, FIFO or device); give the path of a \
+                      case file"
+                .into(),
+        }));
+    }
+    let bytes = fs::read(path).map_err(|err| refuse(cannot_read(err)))?;
+    let text = utf8_text(&bytes).map_err(refuse)?;
+    let case = parse_str(text, &origin)?;
     if let Some(folder) = &case.output.folder
         && let Err(problem) = check_output_folder(Path::new(folder))
     {
@@ -32,6 +44,28 @@ pub fn load(path: &Path) -> Result<Case, CaseError> {
         });
     }
     Ok(case)
+}
+
+/// The case text, or a syntax problem at the line and column of the first byte that is not
+/// UTF-8.
+fn utf8_text(bytes: &[u8]) -> Result<&str, Problem> {
+    std::str::from_utf8(bytes).map_err(|err| {
+        let valid = &bytes[..err.valid_up_to()];
+        let line = 1 + valid.iter().filter(|&&b| b == b'\n').count();
+        let line_start = valid.iter().rposition(|&b| b == b'\n').map_or(0, |i| i + 1);
+        // Columns count characters, as the parser's do.
+        let column = 1 + String::from_utf8_lossy(&valid[line_start..])
+            .chars()
+            .count();
+        Problem::Syntax {
+            line,
+            column,
+            message: format!(
+                "byte {:#04x} is not UTF-8 text; save the case file as UTF-8",
+                bytes[err.valid_up_to()]
+            ),
+        }
+    })
 }
 
 /// Parses and validates case text; `origin` names it in messages (usually the file path).

@@ -20,6 +20,15 @@ pub const MAX_PARTICLES: f64 = 2.0e8;
 pub const MAX_WALL_LAYERS: u32 = 12;
 /// Most sample points accepted on one line probe.
 pub const MAX_PROBE_SAMPLES: u32 = 100_000;
+/// Most probes accepted: each is a file the run keeps open.
+pub const MAX_PROBES: usize = 500;
+/// Most snapshots a run may write (`time.end / time.snapshot_interval`): more would flood the
+/// disk.
+pub const MAX_SNAPSHOTS: f64 = 1.0e5;
+/// Most rows `series.csv` and the probes may get (`time.end / time.sample_interval`).
+pub const MAX_SAMPLES: f64 = 1.0e8;
+/// Longest wall-clock interval between checkpoints accepted, in minutes (a year).
+pub const MAX_CHECKPOINT_MINUTES: f64 = 525_600.0;
 /// Relative tolerance when a length must be a whole number of spacings or wavelengths.
 const TILE_TOLERANCE: f64 = 1e-6;
 
@@ -289,6 +298,36 @@ impl Case {
                 ),
             );
             ok = false;
+        }
+        let (lo, hi) = SMOOTHING_RATIO_RANGE;
+        if ok && (lo..=hi).contains(&p.smoothing_ratio) {
+            // The neighbour search needs each periodic axis to span two kernel supports.
+            let reach = 2.0 * self.support_radius();
+            for axis in self
+                .domain
+                .periodic
+                .iter()
+                .map(|a| a.index())
+                .filter(|&a| a < dim)
+            {
+                let length = domain.extent(axis);
+                if length < reach {
+                    c.bad(
+                        "domain.periodic",
+                        format!("{:?}", self.domain.periodic),
+                        &format!(
+                            "periodic axes at least twice the kernel support long: {} is {} m, \
+                             less than 2 × {} m; lengthen the domain along {} or make \
+                             particles.spacing smaller",
+                            axis_name(axis),
+                            num(length),
+                            approx(self.support_radius()),
+                            axis_name(axis)
+                        ),
+                    );
+                    ok = false;
+                }
+            }
         }
         ok
     }
@@ -784,14 +823,37 @@ impl Case {
                 );
             }
         }
-        c.positive("time.end", self.time.end, "end time in s");
-        c.positive(
-            "time.snapshot_interval",
-            self.time.snapshot_interval,
-            "interval in s",
-        );
-        if let Some(interval) = self.time.sample_interval {
-            c.positive("time.sample_interval", interval, "interval in s");
+        let end = self.time.end;
+        let end_ok = c.positive("time.end", end, "end time in s");
+        let intervals = [
+            (
+                "snapshot_interval",
+                Some(self.time.snapshot_interval),
+                MAX_SNAPSHOTS,
+                "snapshot files",
+            ),
+            (
+                "sample_interval",
+                self.time.sample_interval,
+                MAX_SAMPLES,
+                "rows in series.csv",
+            ),
+        ];
+        for (name, interval, most, what) in intervals {
+            let Some(interval) = interval else { continue };
+            let path = format!("time.{name}");
+            if c.positive(&path, interval, "interval in s") && end_ok && end / interval > most {
+                c.bad(
+                    path,
+                    num(interval),
+                    &format!(
+                        "an interval of at least {} s (time.end / {most:e}): this one gives \
+                         about {:e} {what} and would flood the disk",
+                        approx(end / most),
+                        (end / interval).round()
+                    ),
+                );
+            }
         }
     }
 
@@ -806,11 +868,31 @@ impl Case {
                 "a folder path, or None",
             );
         }
-        c.positive(
+        if c.positive(
             "output.checkpoint_minutes",
             o.checkpoint_minutes,
             "number of wall-clock minutes",
-        );
+        ) && o.checkpoint_minutes > MAX_CHECKPOINT_MINUTES
+        {
+            c.bad(
+                "output.checkpoint_minutes",
+                num(o.checkpoint_minutes),
+                &format!(
+                    "at most {} minutes (a year); a signal still saves a checkpoint at any time",
+                    num(MAX_CHECKPOINT_MINUTES)
+                ),
+            );
+        }
+        if o.probes.len() > MAX_PROBES {
+            c.bad(
+                "output.probes",
+                format!("{} probes", o.probes.len()),
+                &format!(
+                    "at most {MAX_PROBES} probes (each is a file kept open during the run); \
+                     use Line probes with many samples instead of many Point probes"
+                ),
+            );
+        }
         let mut names = HashSet::new();
         for (i, probe) in o.probes.iter().enumerate() {
             let path = format!("output.probes[{i}]");

@@ -6,6 +6,7 @@ mod commands;
 pub mod console;
 pub mod eigenmode;
 pub mod failure;
+mod feasibility;
 pub mod memory;
 pub mod output;
 pub mod reference;

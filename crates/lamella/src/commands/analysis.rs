@@ -48,10 +48,21 @@ impl Run {
         })
     }
 
-    /// Reads snapshot `entry`.
+    /// Reads snapshot `entry`; one of another dimension than the case is bad input.
     pub fn read(&self, entry: &Entry) -> Result<Snapshot, Failure> {
         let path = self.folder.snapshots().join(&entry.file);
-        read_snapshot(&path).map_err(|e| Failure::BadInput(e.to_string()))
+        let snapshot = read_snapshot(&path).map_err(|e| Failure::BadInput(e.to_string()))?;
+        if snapshot.dimension != self.case.dimension as usize {
+            return Err(Failure::BadInput(format!(
+                "{} is a {}D snapshot but the run's case {} is {}D; the snapshot belongs to \
+                 another run, put back this run's own snapshots",
+                path.display(),
+                snapshot.dimension,
+                self.folder.case().display(),
+                self.case.dimension
+            )));
+        }
+        Ok(snapshot)
     }
 
     /// The snapshot closest in time to `time`, or the last one.

@@ -4,11 +4,11 @@ use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use glam::{DVec2, DVec3};
-use lamella_case::{Case, Generated, generate};
-use lamella_sph::{TimeStepFactors, stable_time_step};
+use lamella_case::{Case, CaseError, Generated, generate};
 
 use crate::Failure;
 use crate::cli::Globals;
+use crate::feasibility;
 
 /// Largest particle count `check` generates to count exactly; above it, counts are estimated.
 const COUNT_BY_GENERATION_LIMIT: f64 = 2.0e7;
@@ -34,13 +34,24 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     Ok(())
 }
 
-/// Loads and validates a case file; every problem becomes one line of a bad-input failure.
+/// Loads and validates a case file, then checks that it can finish and fits in this machine's
+/// memory ([`crate::feasibility`]); every problem becomes one line of a bad-input failure.
+/// Every command that reads a case goes through here, so `check` and `run` agree.
 pub(crate) fn load_case(path: &Path) -> Result<Case, Failure> {
-    lamella_case::load(path).map_err(|err| {
+    let refuse = |err: CaseError| {
         let count = err.problems.len();
         let noun = if count == 1 { "problem" } else { "problems" };
         Failure::BadInput(format!("{count} {noun} in the case file:\n{err}"))
-    })
+    };
+    let case = lamella_case::load(path).map_err(refuse)?;
+    let problems = feasibility::problems(&case);
+    if !problems.is_empty() {
+        return Err(refuse(CaseError {
+            origin: path.display().to_string(),
+            problems,
+        }));
+    }
+    Ok(case)
 }
 
 /// Particle counts of a case.
@@ -163,19 +174,7 @@ fn summary(path: &Path, case: &Case) -> String {
         )
     };
     let _ = writeln!(s, "  sound speed   c0 = {} m/s ({how})", sig(c0));
-    let factors = TimeStepFactors {
-        acoustic: case.time_step.acoustic,
-        viscous: case.time_step.viscous,
-        force: case.time_step.force,
-    };
-    let (dt, limit) = stable_time_step(
-        h,
-        c0,
-        case.scales.expected_max_speed,
-        case.max_kinematic_viscosity(),
-        case.body_force_magnitude(),
-        &factors,
-    );
+    let (dt, limit) = feasibility::time_step(case);
     let steps = (case.time.end / dt).ceil();
     let _ = writeln!(
         s,

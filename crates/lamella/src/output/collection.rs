@@ -129,8 +129,12 @@ fn parse_entries(text: &str) -> Result<Vec<Entry>, String> {
             let time = attribute(element, "timestep")?;
             Ok(Entry {
                 time: time
-                    .parse()
-                    .map_err(|_| format!("timestep {time:?} is not a number"))?,
+                    .parse::<f64>()
+                    .ok()
+                    .filter(|t| t.is_finite() && *t >= 0.0)
+                    .ok_or_else(|| {
+                        format!("timestep {time:?} is not a finite time of 0 s or later")
+                    })?,
                 file: attribute(element, "file")?,
             })
         })
@@ -162,5 +166,15 @@ mod tests {
         let path = dir.path().join("x.pvd");
         std::fs::write(&path, "<VTKFile type=\"PolyData\"/>").unwrap();
         assert!(Collection::read(&path).is_err());
+    }
+
+    #[test]
+    fn a_time_that_is_not_finite_is_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("snapshots.pvd");
+        let mut collection = Collection::new(&path);
+        collection.push(f64::NAN, "state_000000.vtp").unwrap();
+        let err = Collection::read(&path).unwrap_err().to_string();
+        assert!(err.contains("timestep \"NaN\""), "{err}");
     }
 }

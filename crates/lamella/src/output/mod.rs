@@ -11,10 +11,11 @@ pub mod probes;
 pub mod recorder;
 pub mod series;
 pub mod snapshot;
+mod vtk_xml;
 
 pub use checkpoint::{Checkpoint, CheckpointStore};
 pub use error::OutputError;
 pub use folder::RunFolder;
 pub use recorder::Recorder;
 pub use series::InterfaceTracker;
-pub use snapshot::{Snapshot, SnapshotMeta, read_snapshot, write_snapshot};
+pub use snapshot::{Snapshot, SnapshotMeta, parse_snapshot, read_snapshot, write_snapshot};

@@ -1,5 +1,5 @@
 //! Particle snapshots as VTK XML PolyData (`.vtp`, binary, zlib-compressed), written through
-//! vtkio, and read back for analyses.
+//! vtkio, and read back for analyses (by [`super::vtk_xml`], which never panics).
 //!
 //! Every particle is a point (and a vertex cell, so viewers draw it). Point arrays: `velocity`,
 //! `density`, `pressure`, `mass`, `viscosity`, `phase`, `id`, `kind`, `initial_position` and
@@ -9,6 +9,7 @@
 //!
 //! vtkio's XML model has no `FieldData` element, so the writer inserts a small ASCII
 //! `<FieldData>` block into the document vtkio produced, and the reader parses it back itself.
+//! Without the FieldData block, the dimension, time or case name, a snapshot is refused.
 
 use std::io::Write;
 use std::path::Path;
@@ -24,6 +25,7 @@ use vtkio::xml::Compressor;
 use super::OutputError;
 use super::atomic::write_atomically;
 use super::cell_order::CellOrdered;
+use super::vtk_xml::{attribute, decode_binary, start_tag};
 
 /// zlib level for snapshots: fast, still a good ratio on particle data (common practice).
 const COMPRESSION_LEVEL: u32 = 5;
@@ -279,112 +281,131 @@ fn field_data_block(meta: &SnapshotMeta, dimension: usize) -> String {
 /// Reads a snapshot written by [`write_snapshot`].
 pub fn read_snapshot(path: &Path) -> Result<Snapshot, OutputError> {
     let bytes = std::fs::read(path).map_err(|err| OutputError::read(path, err))?;
-    let invalid = |reason: String| OutputError::invalid(path, "snapshot", reason);
-    let text = std::str::from_utf8(&bytes).map_err(|_| invalid("not UTF-8 text".into()))?;
-    let (meta, dimension) = parse_field_data(text).map_err(invalid)?;
-    let vtk = Vtk::parse_xml(bytes.as_slice())
-        .map_err(|err| invalid(format!("vtkio cannot parse it: {err}")))?;
-    let piece = match vtk.data {
-        DataSet::PolyData { pieces, .. } if pieces.len() == 1 => match pieces.into_iter().next() {
-            Some(Piece::Inline(piece)) => piece,
-            _ => return Err(invalid("the piece is not stored inline".into())),
-        },
-        _ => return Err(invalid("expected PolyData with exactly one piece".into())),
-    };
-    snapshot_from_piece(*piece, meta, dimension).map_err(invalid)
+    parse_snapshot(&bytes).map_err(|reason| OutputError::invalid(path, "snapshot", reason))
 }
 
-fn snapshot_from_piece(
-    piece: PolyDataPiece,
-    meta: SnapshotMeta,
-    dimension: usize,
-) -> Result<Snapshot, String> {
-    let mut arrays = ArraySet::new(piece.data.point);
-    let position = xyz(piece.points, "points")?;
-    let n = position.len();
-    let snapshot = Snapshot {
+/// Parses the bytes of a snapshot written by [`write_snapshot`]; the error says what is wrong
+/// (without the file name; see [`read_snapshot`]). Damaged input gives an error, never a
+/// panic.
+pub fn parse_snapshot(bytes: &[u8]) -> Result<Snapshot, String> {
+    let text = std::str::from_utf8(bytes)
+        .map_err(|e| format!("not UTF-8 text (at byte {})", e.valid_up_to()))?;
+    let (root, _) = start_tag(text, "VTKFile", 0)?;
+    for (key, wanted) in [
+        ("type", "PolyData"),
+        ("byte_order", "LittleEndian"),
+        ("header_type", "UInt64"),
+        ("compressor", "vtkZLibDataCompressor"),
+    ] {
+        if attribute(&root, key) != Some(wanted) {
+            return Err(format!("the VTKFile attribute {key} is not \"{wanted}\""));
+        }
+    }
+    let (meta, dimension) = parse_field_data(text)?;
+    let (piece, piece_end) = start_tag(text, "Piece", 0)?;
+    let n = attribute(&piece, "NumberOfPoints")
+        .and_then(|v| v.parse::<usize>().ok())
+        .ok_or("the Piece has no whole NumberOfPoints")?;
+    let arrays = BinaryArrays::after(text, piece_end)?;
+    let vectors = |name: &str| -> Result<Vec<[f64; 3]>, String> {
+        let flat = f64s(&arrays.bytes(name, "Float64", 3, n)?);
+        Ok(flat.chunks_exact(3).map(|c| [c[0], c[1], c[2]]).collect())
+    };
+    let scalars = |name: &str| Ok::<_, String>(f64s(&arrays.bytes(name, "Float64", 1, n)?));
+    Ok(Snapshot {
         meta,
         dimension,
-        velocity: xyz(arrays.take("velocity")?, "velocity")?,
-        density: f64s(arrays.take("density")?, "density")?,
-        pressure: f64s(arrays.take("pressure")?, "pressure")?,
-        mass: f64s(arrays.take("mass")?, "mass")?,
-        viscosity: f64s(arrays.take("viscosity")?, "viscosity")?,
+        position: vectors("Points")?,
+        velocity: vectors("velocity")?,
+        density: scalars("density")?,
+        pressure: scalars("pressure")?,
+        mass: scalars("mass")?,
+        viscosity: scalars("viscosity")?,
         phase: arrays
-            .take("phase")?
-            .into_vec::<u16>()
-            .ok_or("phase is not UInt16")?,
-        kind: kinds(arrays.take("kind")?)?,
+            .bytes("phase", "UInt16", 1, n)?
+            .chunks_exact(2)
+            .map(|c| u16::from_le_bytes([c[0], c[1]]))
+            .collect(),
+        kind: kinds(arrays.bytes("kind", "UInt8", 1, n)?)?,
         id: arrays
-            .take("id")?
-            .into_vec::<u64>()
-            .ok_or("id is not UInt64")?,
-        initial_position: xyz(arrays.take("initial_position")?, "initial_position")?,
-        shear_rate: f64s(arrays.take("shear_rate")?, "shear_rate")?,
-        position,
-    };
-    let lengths = [
-        snapshot.velocity.len(),
-        snapshot.density.len(),
-        snapshot.pressure.len(),
-        snapshot.mass.len(),
-        snapshot.viscosity.len(),
-        snapshot.phase.len(),
-        snapshot.kind.len(),
-        snapshot.id.len(),
-        snapshot.initial_position.len(),
-        snapshot.shear_rate.len(),
-    ];
-    if lengths.iter().any(|&len| len != n) {
-        return Err(format!(
-            "point arrays disagree in length with the {n} points"
-        ));
-    }
-    Ok(snapshot)
+            .bytes("id", "UInt64", 1, n)?
+            .chunks_exact(8)
+            .map(|c| u64::from_le_bytes(c.try_into().expect("eight bytes")))
+            .collect(),
+        initial_position: vectors("initial_position")?,
+        shear_rate: scalars("shear_rate")?,
+    })
 }
 
-/// The point arrays of a piece, taken out by name.
-struct ArraySet(Vec<DataArray>);
+/// The `<DataArray>` elements of a piece: their attributes and text, by name.
+struct BinaryArrays<'a>(Vec<(Vec<(&'a str, &'a str)>, &'a str)>);
 
-impl ArraySet {
-    fn new(attributes: Vec<Attribute>) -> Self {
-        ArraySet(
-            attributes
-                .into_iter()
-                .filter_map(|a| match a {
-                    Attribute::DataArray(array) => Some(array),
-                    Attribute::Field { .. } => None,
-                })
-                .collect(),
-        )
+impl<'a> BinaryArrays<'a> {
+    /// Every `<DataArray>` element of `text` after byte `from`.
+    fn after(text: &'a str, from: usize) -> Result<Self, String> {
+        let mut found = Vec::new();
+        let mut at = from;
+        while text
+            .get(at..)
+            .is_some_and(|rest| rest.contains("<DataArray"))
+        {
+            let (attributes, start) = start_tag(text, "DataArray", at)?;
+            let length = text
+                .get(start..)
+                .and_then(|rest| rest.find("</DataArray>"))
+                .ok_or("a DataArray is not closed")?;
+            found.push((attributes, &text[start..start + length]));
+            at = start + length;
+        }
+        Ok(BinaryArrays(found))
     }
 
-    fn take(&mut self, name: &str) -> Result<IOBuffer, String> {
-        let at = self
+    /// The decoded bytes of array `name`, checked to be `kind` with `components` per point,
+    /// for `points` points.
+    fn bytes(
+        &self,
+        name: &str,
+        kind: &str,
+        components: usize,
+        points: usize,
+    ) -> Result<Vec<u8>, String> {
+        let (attributes, text) = self
             .0
             .iter()
-            .position(|a| a.name == name)
+            .find(|(a, _)| attribute(a, "Name") == Some(name))
             .ok_or_else(|| format!("the point array `{name}` is missing"))?;
-        Ok(self.0.swap_remove(at).data)
+        if attribute(attributes, "type") != Some(kind) {
+            return Err(format!("{name} is not {kind}"));
+        }
+        let given = attribute(attributes, "NumberOfComponents").unwrap_or("1");
+        if given != components.to_string() {
+            return Err(format!(
+                "{name} has {given:?} components where {components} are expected"
+            ));
+        }
+        if attribute(attributes, "format") != Some("binary") {
+            return Err(format!("{name} is not in binary format"));
+        }
+        let width = match kind {
+            "Float64" | "UInt64" => 8,
+            "UInt16" => 2,
+            _ => 1,
+        };
+        let expected = points
+            .checked_mul(components * width)
+            .ok_or_else(|| format!("{points} points are more than memory holds"))?;
+        decode_binary(text, expected).map_err(|e| format!("array `{name}`: {e}"))
     }
 }
 
-fn f64s(buffer: IOBuffer, name: &str) -> Result<Vec<f64>, String> {
-    buffer
-        .into_vec::<f64>()
-        .ok_or_else(|| format!("{name} is not Float64"))
+fn f64s(bytes: &[u8]) -> Vec<f64> {
+    bytes
+        .chunks_exact(8)
+        .map(|c| f64::from_le_bytes(c.try_into().expect("eight bytes")))
+        .collect()
 }
 
-fn xyz(buffer: IOBuffer, name: &str) -> Result<Vec<[f64; 3]>, String> {
-    let flat = f64s(buffer, name)?;
-    if flat.len() % 3 != 0 {
-        return Err(format!("{name} does not have three components"));
-    }
-    Ok(flat.chunks_exact(3).map(|c| [c[0], c[1], c[2]]).collect())
-}
-
-fn kinds(buffer: IOBuffer) -> Result<Vec<Kind>, String> {
-    let raw = buffer.into_vec::<u8>().ok_or("kind is not UInt8")?;
+fn kinds(raw: Vec<u8>) -> Result<Vec<Kind>, String> {
     raw.into_iter()
         .map(|k| match k {
             0 => Ok(Kind::Fluid),
@@ -401,14 +422,17 @@ fn parse_field_data(text: &str) -> Result<(SnapshotMeta, usize), String> {
         let at = block
             .find(&format!("Name=\"{name}\""))
             .ok_or_else(|| format!("field data `{name}` is missing"))?;
-        let rest = &block[at..];
-        let start = rest.find('>').ok_or("unterminated field data")? + 1;
-        let end = rest.find("</").ok_or("unterminated field data")?;
-        Ok(rest[start..end].trim())
+        let (_, after) = block[at..]
+            .split_once('>')
+            .ok_or("unterminated field data")?;
+        let (value, _) = after.split_once("</").ok_or("unterminated field data")?;
+        Ok(value.trim())
     };
     let time = value("time")?
         .parse::<f64>()
-        .map_err(|_| "field data `time` is not a number")?;
+        .ok()
+        .filter(|t| t.is_finite())
+        .ok_or("field data `time` is not a finite number")?;
     let step = value("step")?
         .parse::<u64>()
         .map_err(|_| "field data `step` is not a whole number")?;

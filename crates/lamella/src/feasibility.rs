@@ -1,0 +1,99 @@
+//! What a valid case asks of this machine and of time: a run that cannot finish (too many
+//! time steps) or cannot fit in the machine's memory is refused before it starts. `check`,
+//! `run`, `resume` and the other commands load cases through the same check, so they agree.
+
+use lamella_case::{Case, Problem};
+use lamella_sph::{Limit, TimeStepFactors, stable_time_step};
+
+use crate::memory;
+
+/// Most time steps a run may need to reach `time.end`: at a few microseconds per step for the
+/// smallest cases, more would take days to years.
+pub const MAX_STEPS: f64 = 1.0e9;
+
+/// The stable time step of `case` (s) and the limit that sets it.
+pub(crate) fn time_step(case: &Case) -> (f64, Limit) {
+    let factors = TimeStepFactors {
+        acoustic: case.time_step.acoustic,
+        viscous: case.time_step.viscous,
+        force: case.time_step.force,
+    };
+    stable_time_step(
+        case.smoothing_length(),
+        case.sound_speed(),
+        case.scales.expected_max_speed,
+        case.max_kinematic_viscosity(),
+        case.body_force_magnitude(),
+        &factors,
+    )
+}
+
+/// The problems of a validated case on this machine: too many steps, too much memory.
+pub(crate) fn problems(case: &Case) -> Vec<Problem> {
+    let mut found = Vec::new();
+    let (dt, limit) = time_step(case);
+    let steps = case.time.end / dt;
+    // NaN (0/0) counts as too many: such a case cannot run either.
+    if steps.is_nan() || steps > MAX_STEPS {
+        found.push(too_many_steps(case, dt, limit, steps));
+    }
+    let sites: f64 = case.lattice_counts().iter().map(|&n| n as f64).product();
+    let bytes = sites * case.state_bytes_per_particle() as f64;
+    if let Some(machine) = memory::machine_bytes()
+        && bytes > machine as f64
+    {
+        found.push(Problem::value(
+            "particles.spacing",
+            format!("{:e}", case.particles.spacing),
+            format!(
+                "a spacing whose particles fit in this machine's memory: about {sites:.3e} \
+                 particles need {:.1} GB, the machine has {:.1} GB; make the spacing larger",
+                bytes / 1e9,
+                machine as f64 / 1e9
+            ),
+        ));
+    }
+    found
+}
+
+/// The problem of a time step too small to reach the end time, on the field that sets it.
+fn too_many_steps(case: &Case, dt: f64, limit: Limit, steps: f64) -> Problem {
+    let (path, value, cause) = match limit {
+        Limit::Viscous => {
+            let nu = case.kinematic_viscosities();
+            let i = (0..nu.len())
+                .max_by(|&a, &b| nu[a].total_cmp(&nu[b]))
+                .unwrap_or(0);
+            let phase = &case.phases[i];
+            (
+                format!("phases[{i}]"),
+                format!(
+                    "density {:e} kg/m³, viscosity {:e} Pa·s",
+                    phase.density,
+                    phase.viscosity_law.reference_viscosity()
+                ),
+                format!("its kinematic viscosity ν = μ/ρ = {:e} m²/s", nu[i]),
+            )
+        }
+        Limit::Acoustic => (
+            "scales".to_string(),
+            format!("sound speed {:e} m/s", case.sound_speed()),
+            "the sound speed".to_string(),
+        ),
+        Limit::Force => (
+            "body_force".to_string(),
+            format!("{:e} m/s²", case.body_force_magnitude()),
+            "the body force".to_string(),
+        ),
+    };
+    Problem::value(
+        path,
+        value,
+        format!(
+            "values a run can finish: {cause} sets a time step of {dt:e} s ({limit} limit), so \
+             t = {:e} s takes {steps:.3e} steps, more than {MAX_STEPS:e}; check the units, or \
+             shorten time.end",
+            case.time.end
+        ),
+    )
+}
