@@ -27,7 +27,7 @@ use glam::DVec2;
 use lamella::output::InterfaceTracker;
 use lamella_case::{Case, ChannelFlow, SeedMode};
 use lamella_post::fit::linear_fit;
-use lamella_post::stability::{LayeredChannel, StabilityProblem};
+use lamella_post::stability::{ChannelScales, LayeredChannel, StabilityProblem};
 
 /// Start of the fit window (s): after the seed's other modes have died out.
 const FIT_START: f64 = 0.02;
@@ -48,13 +48,16 @@ fn theory(case: &Case) -> (f64, f64) {
     let n = lower_width / upper_width;
     let channel = LayeredChannel::two_layer(m, n).expect("valid ratios");
     let half_width = 0.5 * (lower_width + upper_width);
-    let density = case.phases[0].density;
-    // U_max = peak coefficient × f h² / μ_lower (the scaling of `lamella_post::stability`).
-    let peak = channel.base_flow().peak_coefficient() * force_density * half_width.powi(2)
-        / lower_viscosity;
-    let reynolds = density * peak * half_width / lower_viscosity;
+    let scales = ChannelScales::new(
+        &channel,
+        half_width,
+        force_density,
+        case.phases[0].density,
+        lower_viscosity,
+    );
+    let peak = scales.peak_velocity;
     let k = std::f64::consts::TAU / case.tracked_wavelength();
-    let problem = StabilityProblem::new(channel, reynolds, k * half_width);
+    let problem = StabilityProblem::new(channel, scales.reynolds, k * half_width);
     let c = problem
         .solve()
         .expect("the stability problem solves")

@@ -351,6 +351,25 @@ mod tests {
         assert!((PairViscosity::Arithmetic.mean(1.0, 4.0) - 2.5).abs() < 1e-15);
     }
 
+    /// The interaction states of `p` under a linear equation of state with c0 = 10 m/s and the
+    /// given background pressure (Pa), no body force.
+    fn wall_and_fluid_states(
+        p: &Particles<DVec2>,
+        nb: &BruteForce<DVec2>,
+        kernel: &Kernel,
+        rho0: &[f64],
+        background_pressure: f64,
+    ) -> Vec<InteractionState<DVec2>> {
+        let law = StateLaw {
+            form: EquationOfState::Linear,
+            sound_speed: 10.0,
+            background_pressure,
+        };
+        let mut seen = vec![InteractionState::default(); p.len()];
+        interaction_states(kernel, &law, DVec2::ZERO, rho0, p, nb, &mut seen);
+        seen
+    }
+
     /// A jittered periodic box of fluid of two phases.
     fn periodic_box() -> (Particles<DVec2>, BruteForce<DVec2>, Kernel) {
         let n = 10;
@@ -397,14 +416,8 @@ mod tests {
         let shift: Vec<DVec2> = (0..n * n)
             .map(|k| DVec2::new((k as f64 * 0.7).sin(), (k as f64 * 1.3).cos()) * 1e-3)
             .collect();
-        let law = StateLaw {
-            form: EquationOfState::Linear,
-            sound_speed: 10.0,
-            background_pressure: 0.0,
-        };
         let rho0 = [1000.0, 1000.0];
-        let mut seen = vec![InteractionState::default(); p.len()];
-        interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
+        let seen = wall_and_fluid_states(&p, &nb, &kernel, &rho0, 0.0);
         let inverse = rho0.map(|r| 1.0 / r);
         let params = test_parameters(
             kernel,
@@ -435,14 +448,8 @@ mod tests {
     #[test]
     fn internal_forces_conserve_momentum_and_continuity_conserves_mass() {
         let (p, nb, kernel) = periodic_box();
-        let law = StateLaw {
-            form: EquationOfState::Linear,
-            sound_speed: 10.0,
-            background_pressure: 100.0,
-        };
         let rho0 = [1000.0, 1000.0];
-        let mut seen = vec![InteractionState::default(); p.len()];
-        interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
+        let seen = wall_and_fluid_states(&p, &nb, &kernel, &rho0, 100.0);
         let inverse = rho0.map(|r| 1.0 / r);
         let params = test_parameters(
             kernel,
@@ -506,14 +513,8 @@ mod tests {
             radius: kernel.support_radius(),
             period: DVec2::ZERO,
         };
-        let law = StateLaw {
-            form: EquationOfState::Linear,
-            sound_speed: 10.0,
-            background_pressure: 0.0,
-        };
         let rho0 = [1000.0];
-        let mut seen = vec![InteractionState::default(); p.len()];
-        interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
+        let seen = wall_and_fluid_states(&p, &nb, &kernel, &rho0, 0.0);
         let inverse = rho0.map(|r| 1.0 / r);
         let params = test_parameters(
             kernel,
@@ -549,14 +550,8 @@ mod tests {
             p.viscosity[k] = 1.0;
             p.phase[k] = 0;
         }
-        let law = StateLaw {
-            form: EquationOfState::Linear,
-            sound_speed: 10.0,
-            background_pressure: 0.0,
-        };
         let rho0 = [1000.0];
-        let mut seen = vec![InteractionState::default(); p.len()];
-        interaction_states(&kernel, &law, DVec2::ZERO, &rho0, &p, &nb, &mut seen);
+        let seen = wall_and_fluid_states(&p, &nb, &kernel, &rho0, 0.0);
         let inverse = rho0.map(|r| 1.0 / r);
         let params = test_parameters(
             kernel,

@@ -10,7 +10,7 @@
 //! mode is taken at x̃ = −(x − x_lower), with ε = +iA/h and u' reversed.
 
 use lamella_case::{Case, ChannelFlow, SeedMode};
-use lamella_post::stability::{Eigenmode, LayeredChannel, StabilityProblem, c64};
+use lamella_post::stability::{ChannelScales, Eigenmode, LayeredChannel, StabilityProblem, c64};
 
 /// The leading eigenmode of a case's two-layer channel, ready to add to the steady profile.
 #[derive(Clone, Debug, PartialEq)]
@@ -59,10 +59,17 @@ impl EigenmodeSeed {
                 .map_err(|err| err.to_string())?;
         let half_width = 0.5 * (lower_width + upper_width);
         let density = case.phases[case.tracked_interface().map_or(0, |pair| pair.lower)].density;
-        let peak_velocity =
-            channel.base_flow().peak_coefficient() * force_density.abs() * half_width.powi(2)
-                / lower_viscosity;
-        let reynolds = density * peak_velocity * half_width / lower_viscosity;
+        let ChannelScales {
+            peak_velocity,
+            reynolds,
+            ..
+        } = ChannelScales::new(
+            &channel,
+            half_width,
+            force_density.abs(),
+            density,
+            lower_viscosity,
+        );
         let wavenumber = std::f64::consts::TAU / perturbation.wavelength * half_width;
         let mode = StabilityProblem::new(channel, reynolds, wavenumber)
             .leading_mode()

@@ -191,6 +191,39 @@ impl BaseFlow {
     }
 }
 
+/// The dimensional scales of a layered channel, which turn the scaled stability problem into
+/// the case's units: lengths scale with the half-width h, velocities with the peak U_max.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ChannelScales {
+    /// Half the channel height h (m).
+    pub half_width: f64,
+    /// Peak velocity of the steady profile U_max (m/s), of either sign's drive.
+    pub peak_velocity: f64,
+    /// Reynolds number ρ U_max h / μ_lower.
+    pub reynolds: f64,
+}
+
+impl ChannelScales {
+    /// The scales of `channel` with half-width `half_width` (m), driven by the force density
+    /// `drive` = ρ |g_x| (N/m³), with lower-layer density `density` (kg/m³) and viscosity
+    /// `lower_viscosity` (Pa·s): U_max = [`BaseFlow::peak_coefficient`] · drive h²/μ_lower.
+    pub fn new(
+        channel: &LayeredChannel,
+        half_width: f64,
+        drive: f64,
+        density: f64,
+        lower_viscosity: f64,
+    ) -> Self {
+        let peak_velocity =
+            channel.base_flow().peak_coefficient() * drive * half_width.powi(2) / lower_viscosity;
+        Self {
+            half_width,
+            peak_velocity,
+            reynolds: density * peak_velocity * half_width / lower_viscosity,
+        }
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -51,7 +51,7 @@ mod long_wave;
 mod search;
 mod spectrum;
 
-pub use channel::{BaseFlow, LayeredChannel};
+pub use channel::{BaseFlow, ChannelScales, LayeredChannel};
 pub use charts::{growth_curve_chart, map_chart};
 pub use eigenmode::Eigenmode;
 pub use long_wave::{LongWave, long_wave_coefficient};

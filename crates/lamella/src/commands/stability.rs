@@ -14,8 +14,8 @@ use std::path::{Path, PathBuf};
 
 use lamella_case::{Axis, Case, Side};
 use lamella_post::stability::{
-    self, CurvePoint, DEFAULT_POINTS_PER_LAYER, LayeredChannel, MapPoint, StabilityError,
-    StabilityProblem,
+    self, ChannelScales, CurvePoint, DEFAULT_POINTS_PER_LAYER, LayeredChannel, MapPoint,
+    StabilityError, StabilityProblem,
 };
 
 use crate::Failure;
@@ -430,9 +430,6 @@ fn compare(
     writeln!(report, "verdict: {verdict}").ok();
 }
 
-/// Reads m, n, Re, the drive and the seeded wavenumber from a two-layer channel case read
-/// from `path`; with `recorded`, the wavenumber of the mode a run records
-/// (`Case::tracked_wavelength`).
 /// Which wavenumber a case is analysed at.
 enum Wavenumber<'a> {
     /// The one the options ask for, else the seeded one.
@@ -454,6 +451,8 @@ pub fn predicted_mode(case: &Case, path: &Path) -> Result<(f64, f64), Failure> {
     ))
 }
 
+/// Reads m, n, Re, the drive and the wavenumber (see [`Wavenumber`]) from a two-layer
+/// channel case read from `path`.
 fn from_case(case: &Case, path: &Path, wavenumber: Wavenumber<'_>) -> Result<Setup, Failure> {
     let bad = |what: &str| Failure::BadInput(format!("{}: {what}", path.display()));
     let pairs = case.layer_pairs();
@@ -483,11 +482,14 @@ fn from_case(case: &Case, path: &Path, wavenumber: Wavenumber<'_>) -> Result<Set
     let m = pair.viscosity_ratio;
     let n = pair.width_ratio;
     let channel = LayeredChannel::two_layer(m, n).map_err(solve_failure)?;
-    let mu_lower = lower.viscosity_law.reference_viscosity();
-    let drive = lower.density * force.abs();
-    let peak_velocity =
-        channel.base_flow().peak_coefficient() * drive * half_width.powi(2) / mu_lower;
-    let re = lower.density * peak_velocity * half_width / mu_lower;
+    let scales = ChannelScales::new(
+        &channel,
+        half_width,
+        lower.density * force.abs(),
+        lower.density,
+        lower.viscosity_law.reference_viscosity(),
+    );
+    let (peak_velocity, re) = (scales.peak_velocity, scales.reynolds);
     let recorded = 2.0 * std::f64::consts::PI / case.tracked_wavelength() * half_width;
     let wavenumber = match wavenumber {
         Wavenumber::Recorded => recorded,
