@@ -8,6 +8,15 @@ use crate::schema::{Axis, Case, InitialVelocity, Region, Side};
 /// Zhu 1997 §2.4 (c0 ≥ U/√δ gives c0 ≥ 10 U: common practice).
 pub const DENSITY_VARIATION: f64 = 0.01;
 
+/// One lower bound on the sound speed (see [`Case::sound_speed_criteria`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SoundSpeedCriterion {
+    /// What the bound comes from: "flow speed", "viscous" or "body force".
+    pub name: &'static str,
+    /// The smallest sound speed it allows (m/s).
+    pub sound_speed: f64,
+}
+
 /// A Layer region after sorting: which phase fills which band of heights.
 #[derive(Clone, Debug, PartialEq)]
 pub struct LayerBand {
@@ -140,14 +149,29 @@ impl Case {
         if let Some(c0) = self.scales.sound_speed {
             return c0;
         }
+        self.sound_speed_criteria()
+            .into_iter()
+            .map(|criterion| criterion.sound_speed)
+            .fold(0.0, f64::max)
+    }
+
+    /// The three lower bounds on c0 of Morris, Fox & Zhu 1997 §2.4 for δ = 1 %, each as a
+    /// speed (m/s): the flow speed, c0² ≥ U²/δ; viscosity, c0² ≥ ν_max U/(L δ); the body force,
+    /// c0² ≥ |F| L/δ. The automatic sound speed is the largest; `check` shows all three.
+    pub fn sound_speed_criteria(&self) -> [SoundSpeedCriterion; 3] {
         let u = self.scales.expected_max_speed;
         let length = self.reference_length();
         let nu = self.max_kinematic_viscosity();
         let delta = DENSITY_VARIATION;
-        let c2 = (u * u / delta)
-            .max(nu * u / (length * delta))
-            .max(self.body_force_magnitude() * length / delta);
-        c2.sqrt()
+        [
+            ("flow speed", u * u / delta),
+            ("viscous", nu * u / (length * delta)),
+            ("body force", self.body_force_magnitude() * length / delta),
+        ]
+        .map(|(name, c2)| SoundSpeedCriterion {
+            name,
+            sound_speed: c2.sqrt(),
+        })
     }
 
     /// Reynolds number U L / ν_min with the expected peak speed, the reference length and the

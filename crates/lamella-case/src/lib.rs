@@ -12,13 +12,17 @@ pub mod schema;
 pub mod templates;
 mod validate;
 
-pub use derived::{ChannelFlow, LayerBand, LayerPair};
+pub use derived::{ChannelFlow, LayerBand, LayerPair, SoundSpeedCriterion};
 pub use error::{CaseError, Problem, Warning};
 pub use generate::{Generated, Seed, generate};
 pub use load::{check_output_folder, load, parse_str, parse_unvalidated, to_ron};
 pub use schema::{
     Analysis, Axis, Case, Domain, EquationOfState, InitialVelocity, Kernel, Output, PairViscosity,
     ParticleSettings, Perturbation, Phase, Probe, Region, Scales, SeedMode, Side, Time,
-    TimeStepFactors, ViscosityLaw, Wall,
+    TimeStepFactors, ViscosityLaw, ViscosityTreatment, Wall,
 };
-pub use validate::{MAX_PARTICLES, SMOOTHING_RATIO_COMMON, SMOOTHING_RATIO_RANGE};
+pub use validate::{
+    ACOUSTIC_FORCE_FACTOR_LIMIT, ARITHMETIC_WARNING_RATIO, IMPLICIT_TOLERANCE_RANGE,
+    MAX_IMPLICIT_ITERATIONS, MAX_PARTICLES, SMOOTHING_RATIO_COMMON, SMOOTHING_RATIO_RANGE,
+    VISCOUS_FACTOR_LIMIT,
+};

@@ -48,6 +48,9 @@ pub struct Case {
     /// failed [default: 0.05].
     #[serde(default = "default_density_tolerance")]
     pub density_tolerance: f64,
+    /// How the viscous term is advanced in time [default: Explicit].
+    #[serde(default)]
+    pub viscosity_treatment: ViscosityTreatment,
     /// Safety factors of the time-step limits [default: acoustic 0.25, viscous 0.125, force 0.25].
     #[serde(default)]
     pub time_step: TimeStepFactors,
@@ -176,6 +179,26 @@ pub enum PairViscosity {
     Harmonic,
     /// μab = (μa + μb) / 2.
     Arithmetic,
+}
+
+/// How the viscous term is advanced in time.
+#[derive(Serialize, Deserialize, Clone, Copy, Debug, PartialEq, Default)]
+#[serde(deny_unknown_fields)]
+pub enum ViscosityTreatment {
+    /// With every other force; the time step obeys the viscous limit C_ν h²/ν_max (Morris, Fox
+    /// & Zhu 1997), which is small for very viscous liquids.
+    #[default]
+    Explicit,
+    /// Backward Euler, solved every step by conjugate gradients on the symmetric SPH viscous
+    /// operator (Peer et al. 2015; Weiler et al. 2018): no viscous time-step limit.
+    Implicit {
+        /// The solve stops at ‖b − A v‖ ≤ tolerance · ‖b‖ [default: 1e-9].
+        #[serde(default = "default_implicit_tolerance")]
+        tolerance: f64,
+        /// Most iterations per step; more is a failed step [default: 1000].
+        #[serde(default = "default_implicit_iterations")]
+        max_iterations: u32,
+    },
 }
 
 /// A part of the domain filled with one phase.
@@ -528,6 +551,12 @@ fn default_viscous_factor() -> f64 {
 }
 fn default_force_factor() -> f64 {
     0.25
+}
+fn default_implicit_tolerance() -> f64 {
+    1.0e-9
+}
+fn default_implicit_iterations() -> u32 {
+    1000
 }
 fn default_checkpoint_minutes() -> f64 {
     15.0

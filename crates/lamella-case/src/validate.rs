@@ -5,7 +5,10 @@ use std::collections::HashSet;
 
 use crate::derived::ChannelFlow;
 use crate::error::{Problem, Warning, approx, num, vec_str};
-use crate::schema::{Axis, Case, EquationOfState, InitialVelocity, Probe, Region, SeedMode, Side};
+use crate::schema::{
+    Axis, Case, EquationOfState, InitialVelocity, PairViscosity, Probe, Region, SeedMode, Side,
+    ViscosityTreatment,
+};
 
 /// Accepted smoothing ratios h/dx (inclusive). Common practice is 1.2 … 1.5.
 pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
@@ -29,6 +32,21 @@ pub const MAX_SNAPSHOTS: f64 = 1.0e5;
 pub const MAX_SAMPLES: f64 = 1.0e8;
 /// Longest wall-clock interval between checkpoints accepted, in minutes (a year).
 pub const MAX_CHECKPOINT_MINUTES: f64 = 525_600.0;
+/// Accepted relative residuals of the implicit viscous solve (inclusive): below 1e-14 round-off
+/// keeps it from converging, above 1e-2 it is hardly a solve.
+pub const IMPLICIT_TOLERANCE_RANGE: (f64, f64) = (1.0e-14, 1.0e-2);
+/// Most conjugate-gradient iterations per step accepted.
+pub const MAX_IMPLICIT_ITERATIONS: u32 = 100_000;
+/// Viscosity ratio above which arithmetic pair averaging draws a warning: on layered channels
+/// it came out 9–19 % wrong at m = 100 and 40–50 % at m = 1000 (measured, 36 rows), while the
+/// harmonic mean is the closer one from m = 10 on (`tests/validation_layered.rs`).
+pub const ARITHMETIC_WARNING_RATIO: f64 = 10.0;
+/// The explicit viscous time-step factor of Morris, Fox & Zhu 1997 (J. Comput. Phys. 136,
+/// eq. 25); above it `check` warns (0.5 was measured to run unstable on a layered channel).
+pub const VISCOUS_FACTOR_LIMIT: f64 = 0.125;
+/// Acoustic (CFL) and force factors of common practice (Monaghan 1992); above them `check`
+/// warns.
+pub const ACOUSTIC_FORCE_FACTOR_LIMIT: f64 = 0.25;
 /// Relative tolerance when a length must be a whole number of spacings or wavelengths.
 const TILE_TOLERANCE: f64 = 1e-6;
 
@@ -156,6 +174,44 @@ impl Case {
                          more than 1 % (common practice)",
                         num(c0),
                         num(floor)
+                    ),
+                });
+            }
+        }
+        let contrast = self.viscosity_contrast();
+        if self.pair_viscosity == PairViscosity::Arithmetic && contrast > ARITHMETIC_WARNING_RATIO {
+            warnings.push(Warning {
+                path: "pair_viscosity".into(),
+                message: format!(
+                    "Arithmetic averaging at a viscosity ratio of {}: on layered channels it came \
+                     out 9–19 % wrong at a ratio of 100 and 40–50 % at 1000 (measured); use \
+                     Harmonic, which keeps the shear stress continuous across the jump",
+                    approx(contrast)
+                ),
+            });
+        }
+        let f = &self.time_step;
+        if self.viscosity_treatment == ViscosityTreatment::Explicit
+            && f.viscous > VISCOUS_FACTOR_LIMIT
+        {
+            warnings.push(Warning {
+                path: "time_step.viscous".into(),
+                message: format!(
+                    "{} is above the explicit stability factor {VISCOUS_FACTOR_LIMIT} of Morris, \
+                     Fox & Zhu 1997; the viscous term may run unstable (0.5 did, measured); \
+                     lower it, or use viscosity_treatment: Implicit() to lift the viscous limit",
+                    num(f.viscous)
+                ),
+            });
+        }
+        for (name, value) in [("acoustic", f.acoustic), ("force", f.force)] {
+            if value > ACOUSTIC_FORCE_FACTOR_LIMIT {
+                warnings.push(Warning {
+                    path: format!("time_step.{name}"),
+                    message: format!(
+                        "{} is above {ACOUSTIC_FORCE_FACTOR_LIMIT}, the factor of common practice \
+                         (Monaghan 1992); the run may go unstable",
+                        num(value)
                     ),
                 });
             }
@@ -820,6 +876,30 @@ impl Case {
                     format!("time_step.{name}"),
                     num(value),
                     "a safety factor in (0, 1]",
+                );
+            }
+        }
+        if let ViscosityTreatment::Implicit {
+            tolerance,
+            max_iterations,
+        } = self.viscosity_treatment
+        {
+            let (lo, hi) = IMPLICIT_TOLERANCE_RANGE;
+            if !(tolerance.is_finite() && (lo..=hi).contains(&tolerance)) {
+                c.bad(
+                    "viscosity_treatment.tolerance",
+                    num(tolerance),
+                    &format!(
+                        "a relative residual within {lo:e} … {hi:e} (smaller is below round-off, \
+                         larger is not a solve), e.g. 1e-9"
+                    ),
+                );
+            }
+            if !(1..=MAX_IMPLICIT_ITERATIONS).contains(&max_iterations) {
+                c.bad(
+                    "viscosity_treatment.max_iterations",
+                    max_iterations.to_string(),
+                    &format!("a whole number of iterations within 1 … {MAX_IMPLICIT_ITERATIONS}"),
                 );
             }
         }

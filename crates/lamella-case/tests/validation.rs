@@ -155,6 +155,20 @@ fn shifting_coefficient_outside_its_range() {
 }
 
 #[test]
+fn implicit_viscosity_settings_outside_their_ranges() {
+    assert_problem(
+        "implicit-settings",
+        "viscosity_treatment.tolerance",
+        "a relative residual within 1e-14 … 1e-2",
+    );
+    assert_problem(
+        "implicit-settings",
+        "viscosity_treatment.max_iterations",
+        "within 1 … 100000",
+    );
+}
+
+#[test]
 fn wall_layers_must_cover_the_kernel_support() {
     assert_problem(
         "wall-layers-short",

@@ -23,6 +23,16 @@ pub enum FaultCause {
     },
     /// The neighbour search refused the positions.
     NeighbourSearch(String),
+    /// The implicit viscous solve did not reach its tolerance; the particle is the one with
+    /// the largest residual.
+    ViscousSolve {
+        /// Iterations taken.
+        iterations: u32,
+        /// Relative residual reached.
+        relative_residual: f64,
+        /// The tolerance asked for.
+        tolerance: f64,
+    },
 }
 
 /// A refused step. The simulation keeps the last good state (the one before this step).
@@ -79,6 +89,18 @@ impl<V: Vector> fmt::Display for Fault<V> {
                 ["x", "y", "z"][*axis]
             ),
             FaultCause::NeighbourSearch(message) => write!(f, "{message}"),
+            FaultCause::ViscousSolve {
+                iterations,
+                relative_residual,
+                tolerance,
+            } => write!(
+                f,
+                "the implicit viscous solve stopped after {iterations} iterations at a relative \
+                 residual of {relative_residual:.3e}, above its tolerance {tolerance:.1e}. Likely \
+                 cause: the state is already unstable (check the sound speed and the time-step \
+                 factors), or the tolerance is tighter than round-off allows (raise \
+                 viscosity_treatment's tolerance or max_iterations)"
+            ),
         }
     }
 }

@@ -6,6 +6,7 @@
 pub mod eos;
 pub mod fault;
 pub mod forces;
+pub mod implicit_viscosity;
 pub mod kernel;
 pub mod neighbours;
 pub mod particles;
@@ -18,6 +19,7 @@ pub mod walls;
 pub use eos::{EquationOfState, StateLaw};
 pub use fault::{Fault, FaultCause};
 pub use forces::PairViscosity;
+pub use implicit_viscosity::{ImplicitSettings, ViscosityTreatment};
 pub use kernel::{Kernel, KernelKind};
 pub use particles::{Kind, Particles, ReorderScratch};
 pub use shear_rate::shear_rates;

@@ -2,7 +2,7 @@
 //! time steps) or cannot fit in the machine's memory is refused before it starts. `check`,
 //! `run`, `resume` and the other commands load cases through the same check, so they agree.
 
-use lamella_case::{Case, Problem};
+use lamella_case::{Case, Problem, ViscosityTreatment};
 use lamella_sph::{Limit, TimeStepFactors, stable_time_step};
 
 use crate::memory;
@@ -11,7 +11,8 @@ use crate::memory;
 /// smallest cases, more would take days to years.
 pub const MAX_STEPS: f64 = 1.0e9;
 
-/// The stable time step of `case` (s) and the limit that sets it.
+/// The stable time step of `case` (s) and the limit that sets it; the implicit viscosity
+/// treatment has no viscous limit.
 pub(crate) fn time_step(case: &Case) -> (f64, Limit) {
     let factors = TimeStepFactors {
         acoustic: case.time_step.acoustic,
@@ -22,7 +23,10 @@ pub(crate) fn time_step(case: &Case) -> (f64, Limit) {
         case.smoothing_length(),
         case.sound_speed(),
         case.scales.expected_max_speed,
-        case.max_kinematic_viscosity(),
+        match case.viscosity_treatment {
+            ViscosityTreatment::Explicit => case.max_kinematic_viscosity(),
+            ViscosityTreatment::Implicit { .. } => 0.0,
+        },
         case.body_force_magnitude(),
         &factors,
     )

@@ -2,6 +2,7 @@
 
 use lamella_case::{
     Case, EquationOfState, InitialVelocity, Kernel as CaseKernel, PairViscosity as CasePair,
+    ViscosityTreatment as CaseTreatment,
 };
 use lamella_cells::{Domain, Vector};
 use lamella_sph::forces::lattice_viscous_normalisation;
@@ -11,6 +12,7 @@ use crate::reference::channel_reference;
 use lamella_sph::{
     Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation, SetupError, Simulation,
     SolverConfig, StateLaw, TimeStepFactors,
+    implicit_viscosity::{ImplicitSettings, ViscosityTreatment},
 };
 
 /// Density-diffusion coefficient δ of the δ-SPH term (Antuono et al. 2010: 0.1, common practice).
@@ -86,6 +88,16 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         // ∇·(μ ∇uᵀ) vanishes for one viscosity (incompressible flow) and is needed across a
         // viscosity jump.
         full_viscous_stress: case.viscosity_contrast() > 1.0,
+        viscosity_treatment: match case.viscosity_treatment {
+            CaseTreatment::Explicit => ViscosityTreatment::Explicit,
+            CaseTreatment::Implicit {
+                tolerance,
+                max_iterations,
+            } => ViscosityTreatment::Implicit(ImplicitSettings {
+                tolerance,
+                max_iterations,
+            }),
+        },
         time_step: TimeStepFactors {
             acoustic: case.time_step.acoustic,
             viscous: case.time_step.viscous,

@@ -4,7 +4,8 @@ use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use glam::{DVec2, DVec3};
-use lamella_case::{Case, CaseError, Generated, generate};
+use lamella_case::{Case, CaseError, Generated, ViscosityTreatment, generate};
+use lamella_sph::Limit;
 
 use crate::Failure;
 use crate::cli::Globals;
@@ -165,20 +166,42 @@ fn summary(path: &Path, case: &Case) -> String {
     let _ = writeln!(s, "    {:<12}{about}{} wall", "walls", counts.walls);
 
     let c0 = case.sound_speed();
+    let criteria = case.sound_speed_criteria();
+    let listed: Vec<String> = criteria
+        .iter()
+        .map(|c| format!("{} {} m/s", c.name, sig(c.sound_speed)))
+        .collect();
     let how = if case.scales.sound_speed.is_some() {
         "as given".to_string()
     } else {
-        format!(
-            "from the expected peak speed {} m/s, Morris, Fox & Zhu 1997",
-            sig(case.scales.expected_max_speed)
-        )
+        "the largest of Morris, Fox & Zhu 1997's bounds".to_string()
     };
-    let _ = writeln!(s, "  sound speed   c0 = {} m/s ({how})", sig(c0));
-    let (dt, limit) = feasibility::time_step(case);
-    let steps = (case.time.end / dt).ceil();
     let _ = writeln!(
         s,
-        "  time step     ≈ {} s ({limit} limit); {steps} steps to t = {} s",
+        "  sound speed   c0 = {} m/s ({how}; bounds for 1 % density variation: {})",
+        sig(c0),
+        listed.join(", ")
+    );
+    // The flow-speed bound has its own warning in `Case::warnings`.
+    if let Some(below) = criteria.iter().skip(1).find(|c| c0 < c.sound_speed) {
+        let _ = writeln!(
+            s,
+            "  warning: scales.sound_speed: {} m/s is below the {} bound {} m/s of Morris, Fox & \
+             Zhu 1997; density may vary by more than 1 % and walls may not hold the liquid",
+            sig(c0),
+            below.name,
+            sig(below.sound_speed)
+        );
+    }
+    let (dt, limit) = feasibility::time_step(case);
+    let steps = (case.time.end / dt).ceil();
+    let treatment = match case.viscosity_treatment {
+        ViscosityTreatment::Explicit => "explicit viscosity",
+        ViscosityTreatment::Implicit { .. } => "implicit viscosity, no viscous limit",
+    };
+    let _ = writeln!(
+        s,
+        "  time step     ≈ {} s ({limit} limit, {treatment}); {steps} steps to t = {} s",
         sig(dt),
         sig(case.time.end)
     );
@@ -208,6 +231,9 @@ fn summary(path: &Path, case: &Case) -> String {
             sig(pair.width_ratio)
         );
     }
+    if let Some(warning) = cost_warning(case, steps, counts.total(), limit) {
+        let _ = writeln!(s, "  warning: {warning}");
+    }
     let bytes = case.memory_estimate(counts.total());
     let _ = writeln!(
         s,
@@ -227,6 +253,58 @@ fn summary(path: &Path, case: &Case) -> String {
         );
     }
     s
+}
+
+/// Seconds one step takes per particle on one thread: 46.1 ms a step at 1e5 particles, measured
+/// with `lamella bench` on the 2-core development machine (DEVELOPERS.md, "Performance").
+const SECONDS_PER_PARTICLE_STEP: f64 = 4.61e-7;
+/// More steps than this draw a warning.
+const MANY_STEPS: f64 = 1.0e6;
+/// A predicted wall time above this (s) draws a warning.
+const LONG_WALL_TIME: f64 = 3600.0;
+
+/// A warning when the run needs very many steps or a long wall time, with the estimate and,
+/// when the viscous limit sets the step, how much the implicit treatment would cut.
+fn cost_warning(case: &Case, steps: f64, particles: usize, limit: Limit) -> Option<String> {
+    let threads = rayon::current_num_threads().max(1) as f64;
+    let seconds = steps * particles as f64 * SECONDS_PER_PARTICLE_STEP / threads;
+    if steps <= MANY_STEPS && seconds <= LONG_WALL_TIME {
+        return None;
+    }
+    let mut message = format!(
+        "time.end: {steps:.3e} steps, about {} of wall time on {threads} threads (estimated \
+         from this project's measured cost per particle and step; `lamella estimate` measures it)",
+        duration(seconds)
+    );
+    if limit == Limit::Viscous {
+        let mut implicit = case.clone();
+        implicit.viscosity_treatment = ViscosityTreatment::Implicit {
+            tolerance: 1.0e-9,
+            max_iterations: 1000,
+        };
+        let (dt, _) = feasibility::time_step(&implicit);
+        let _ = write!(
+            message,
+            "; the viscous limit sets the step: viscosity_treatment: Implicit() takes {:.3e} \
+             steps instead ({}× fewer, each with a viscous solve)",
+            (case.time.end / dt).ceil(),
+            sig(steps / (case.time.end / dt).ceil())
+        );
+    }
+    Some(message)
+}
+
+/// A duration in the largest fitting unit (s, min, h, days).
+fn duration(seconds: f64) -> String {
+    if seconds < 120.0 {
+        format!("{} s", sig(seconds))
+    } else if seconds < 7200.0 {
+        format!("{} min", sig(seconds / 60.0))
+    } else if seconds < 172_800.0 {
+        format!("{} h", sig(seconds / 3600.0))
+    } else {
+        format!("{} days", sig(seconds / 86_400.0))
+    }
 }
 
 /// Four significant digits, plain for moderate magnitudes and scientific otherwise.
