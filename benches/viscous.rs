@@ -5,7 +5,7 @@
 //! Run: `cargo bench --bench viscous` (m = 1000, n = 5, 36 rows, both treatments; at n = 0.2
 //! the explicit run takes 3.4 million steps);
 //! `cargo bench --bench viscous -- ROWS RATIO WIDTH_RATIO [TOLERANCE]` for one other case
-//! (the viscous layer below).
+//! (the viscous layer below); `--implicit-only` skips the explicit run.
 
 #[path = "../tests/common/viscous_layers.rs"]
 mod viscous_layers;
@@ -14,6 +14,7 @@ use lamella_case::ViscosityTreatment;
 use viscous_layers::Layers;
 
 fn main() {
+    let implicit_only = std::env::args().any(|a| a == "--implicit-only");
     let args: Vec<f64> = std::env::args()
         .skip(1)
         .filter_map(|a| a.parse().ok())
@@ -36,14 +37,16 @@ fn main() {
     };
     println!("threads: {}", rayon::current_num_threads());
     for layers in cases {
+        let implicit = ViscosityTreatment::Implicit {
+            tolerance,
+            max_iterations: 10_000,
+        };
+        let mut treatments = vec![implicit];
+        if !implicit_only {
+            treatments.insert(0, ViscosityTreatment::Explicit);
+        }
         let mut seconds = Vec::new();
-        for treatment in [
-            ViscosityTreatment::Explicit,
-            ViscosityTreatment::Implicit {
-                tolerance,
-                max_iterations: 10_000,
-            },
-        ] {
+        for treatment in treatments {
             let m = layers.run(treatment);
             println!(
                 "rows {} m {} n {} {treatment:?}: {} steps, {} solver iterations ({:.1} a step), \
@@ -61,6 +64,8 @@ fn main() {
             );
             seconds.push(m.seconds);
         }
-        println!("implicit is {:.1}× faster", seconds[0] / seconds[1]);
+        if !implicit_only {
+            println!("implicit is {:.1}× faster", seconds[0] / seconds[1]);
+        }
     }
 }

@@ -265,7 +265,8 @@ pub fn solve<V: Vector, N: Neighbourhood<V>>(
     while norm > target && iterations < settings.max_iterations {
         operator.apply(direction, product);
         let curvature = deterministic_dot(direction, product, partial_sums);
-        if !(curvature > 0.0) {
+        // A non-positive or NaN curvature means a non-finite state: stop, unconverged.
+        if curvature.is_nan() || curvature <= 0.0 {
             break;
         }
         let alpha = rz / curvature;
@@ -448,9 +449,9 @@ mod tests {
             "a stiff system needs iterations: {report:?}"
         );
         // Walls keep their velocity.
-        for i in 0..p.len() {
-            if p.kind[i] == Kind::Wall {
-                assert_eq!(v[i], p.velocity[i]);
+        for ((new, old), kind) in v.iter().zip(&p.velocity).zip(&p.kind) {
+            if *kind == Kind::Wall {
+                assert_eq!(new, old);
             }
         }
         // The Morris force at the new velocities (wall states kept from the start of the step,
