@@ -272,8 +272,9 @@ fn cost_warning(case: &Case, steps: f64, particles: usize, limit: Limit) -> Opti
         return None;
     }
     let mut message = format!(
-        "time.end: {steps:.3e} steps, about {} of wall time on {threads} threads (estimated \
-         from this project's measured cost per particle and step; `lamella estimate` measures it)",
+        "time.end: {steps:.3e} steps, at least {} of wall time on {threads} threads (from the \
+         cost per particle and step measured at 1e5 particles with one viscosity; small cases \
+         and several viscosities cost more; `lamella estimate` measures it)",
         duration(seconds)
     );
     if limit == Limit::Viscous {
