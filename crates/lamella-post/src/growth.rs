@@ -198,6 +198,8 @@ pub struct ModeFit {
     pub end: f64,
     /// Mean noise floor over the window (m).
     pub noise_floor: f64,
+    /// Period of the wave passing a fixed point, T = 2π/(k |c|) (s); infinite for a wave at rest.
+    pub wave_period: f64,
 }
 
 impl ModeFit {
@@ -205,6 +207,66 @@ impl ModeFit {
     pub fn amplitude(&self, t: f64) -> f64 {
         (self.log_amplitude_at_zero + self.rate * t).exp()
     }
+
+    /// Length of the window in wave periods, (end − start)/T.
+    pub fn periods(&self) -> f64 {
+        (self.end - self.start) / self.wave_period
+    }
+}
+
+/// The growth rate over one wave period of a fit window (see [`period_rates`]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct PeriodRate {
+    /// First time of the period (s).
+    pub start: f64,
+    /// Last sample time of the period (s).
+    pub end: f64,
+    /// Slope of ln A against t over the period (1/s).
+    pub rate: f64,
+}
+
+/// The growth rate over each whole wave period of the window of `fit`, in order: how much the
+/// rate of a simulated wave swings with the period (see [`fit_mode`]). Empty when the window is
+/// shorter than one period or a period holds fewer than [`MIN_POINTS`] samples.
+pub fn period_rates(series: &ModeSeries, fit: &ModeFit) -> Vec<PeriodRate> {
+    let time = series.time;
+    let tolerance = half_sample(time);
+    let whole = (fit.periods() + tolerance / fit.wave_period).floor();
+    if !(whole >= 1.0) {
+        return Vec::new();
+    }
+    let mut out = Vec::new();
+    for j in 0..whole as usize {
+        let start = fit.start + j as f64 * fit.wave_period;
+        let end = start + fit.wave_period;
+        let inside: Vec<usize> = (fit.first..fit.first + fit.points)
+            .filter(|&i| time[i] >= start - tolerance && time[i] <= end + tolerance)
+            .collect();
+        if inside.len() < MIN_POINTS {
+            return Vec::new();
+        }
+        let t: Vec<f64> = inside.iter().map(|&i| time[i]).collect();
+        let log_a: Vec<f64> = inside.iter().map(|&i| series.amplitude[i].ln()).collect();
+        let Some(line) = linear_fit(&t, &log_a) else {
+            return Vec::new();
+        };
+        out.push(PeriodRate {
+            start: t[0],
+            end: t[t.len() - 1],
+            rate: line.slope,
+        });
+    }
+    out
+}
+
+/// Half the median sample interval (s), the tolerance for matching a time to a sample.
+fn half_sample(time: &[f64]) -> f64 {
+    let mut steps: Vec<f64> = time.windows(2).map(|w| w[1] - w[0]).collect();
+    if steps.is_empty() {
+        return 0.0;
+    }
+    steps.sort_by(f64::total_cmp);
+    0.5 * steps[steps.len() / 2]
 }
 
 /// Unwraps a phase series: adds the multiple of 2π to each sample that brings it closest to
@@ -259,6 +321,12 @@ pub fn linear_amplitude_limit(wavenumber: f64, thinner_layer: f64) -> f64 {
 ///    A longer clean record raises R² (the spread of ln A grows faster than the residuals),
 ///    a transient at the start lowers it, so this keeps the whole linear stage and drops a
 ///    transient (common practice). No window of [`MIN_POINTS`] with R² ≥ the minimum: refused.
+///
+/// The growth rate of a simulated wave is not constant over its linear stage: on the bundled
+/// interface-growth case it is higher over the first wave period than over the next ones, and at
+/// coarse resolution it swings with the period of the wave passing through its periodic box.
+/// [`period_rates`] gives the rate over each whole period of the window, so that the spread can
+/// be reported beside the fit.
 pub fn fit_mode(series: &ModeSeries, options: &FitOptions) -> Result<ModeFit, GrowthError> {
     check(series, options)?;
     let ModeSeries {
@@ -292,19 +360,32 @@ pub fn fit_mode(series: &ModeSeries, options: &FitOptions) -> Result<ModeFit, Gr
     let travel = linear_fit(t, &phase[first..=last]).ok_or_else(too_few)?;
     let k = options.wavenumber;
     let noise_floor = noise[first..=last].iter().sum::<f64>() / t.len() as f64;
+    let wave_speed = -travel.slope / k;
     Ok(ModeFit {
         rate: growth.slope,
         rate_ci95: interval(&growth),
         log_amplitude_at_zero: growth.intercept,
         r_squared: growth.r_squared,
-        wave_speed: -travel.slope / k,
+        wave_speed,
         wave_speed_ci95: interval(&travel) / k,
         first,
         points: t.len(),
         start: t[0],
         end: t[t.len() - 1],
         noise_floor,
+        wave_period: wave_period(k, wave_speed),
     })
+}
+
+/// The period T = 2π/(k |c|) of a wave of wavenumber k (1/m) and speed c (m/s) passing a fixed
+/// point (s); infinite for a wave at rest.
+pub fn wave_period(wavenumber: f64, wave_speed: f64) -> f64 {
+    let frequency = wavenumber * wave_speed.abs();
+    if frequency > 0.0 {
+        2.0 * PI / frequency
+    } else {
+        f64::INFINITY
+    }
 }
 
 fn interval(fit: &LinearFit) -> f64 {
@@ -774,6 +855,84 @@ mod tests {
         let fit = fit_mode(&series, &options(0.0)).expect("a fit");
         assert!(fit.points >= 100, "window {}..{} s", fit.start, fit.end);
         assert!((fit.rate / sigma - 1.0).abs() < 0.05, "rate {}", fit.rate);
+    }
+
+    #[test]
+    fn each_whole_wave_period_of_the_window_has_its_rate() {
+        // ln A = ln A0 + σ t + ε sin(2π t / T) with T the period of the wave itself
+        // (c = 1.1e-2 m/s, λ = 4.8e-3 m: T = 0.436 s), over 2.6 periods: the rate over each
+        // whole period is σ + ε (sin(2π t1/T) − sin(2π t0/T))/(t1 − t0) by least squares up to
+        // the curvature of the swing.
+        let (sigma, epsilon, c) = (4.0, 0.06, 1.1e-2);
+        let period = 2.0 * PI / (K * c);
+        let time: Vec<f64> = (0..=(2.6 * period / 0.005) as usize)
+            .map(|i| i as f64 * 0.005)
+            .collect();
+        let swing = |t: f64| epsilon * (2.0 * PI * (t / period - 0.25)).sin();
+        let amplitude: Vec<f64> = time
+            .iter()
+            .map(|&t| 1e-7 * (sigma * t + swing(t)).exp())
+            .collect();
+        let phase: Vec<f64> = time.iter().map(|&t| wrap(0.3 - K * c * t)).collect();
+        let noise = vec![1e-10; time.len()];
+        let series = ModeSeries {
+            time: &time,
+            amplitude: &amplitude,
+            phase: &phase,
+            noise: &noise,
+        };
+        let mut opts = options(0.0);
+        opts.linear_limit = 1.0;
+        let fit = fit_mode(&series, &opts).expect("a fit");
+        assert!((fit.wave_period / period - 1.0).abs() < 1e-6, "{fit:?}");
+        assert!(
+            (fit.periods() - 2.6).abs() < 0.02,
+            "{} periods",
+            fit.periods()
+        );
+        let periods = period_rates(&series, &fit);
+        assert_eq!(periods.len(), 2, "{periods:?}");
+        for (j, p) in periods.iter().enumerate() {
+            assert!((p.start - j as f64 * period).abs() <= 0.005, "{p:?}");
+            assert!((p.end - p.start - period).abs() <= 0.005, "{p:?}");
+            // Over a whole period of this swing (−ε cos 2πt/T) the least-squares slope is σ.
+            assert!((p.rate - sigma).abs() < 0.05, "{p:?}");
+        }
+        // A window shorter than a period has no whole period.
+        opts.window = Window::Times {
+            start: 0.0,
+            end: 0.5 * period,
+        };
+        let short = fit_mode(&series, &opts).expect("a fit");
+        assert!(short.periods() < 1.0);
+        assert!(period_rates(&series, &short).is_empty());
+        // A rate that changes from one period to the next shows in the per-period rates.
+        let stepped: Vec<f64> = time
+            .iter()
+            .map(|&t| {
+                let rate_then = if t < period { 6.0 } else { 4.0 };
+                let log_a = if t < period {
+                    rate_then * t
+                } else {
+                    6.0 * period + rate_then * (t - period)
+                };
+                1e-7 * log_a.exp()
+            })
+            .collect();
+        let series = ModeSeries {
+            amplitude: &stepped,
+            ..series
+        };
+        opts.window = Window::Times {
+            start: 0.0,
+            end: time[time.len() - 1],
+        };
+        opts.min_r_squared = 0.9;
+        let fit = fit_mode(&series, &opts).expect("a fit");
+        let periods = period_rates(&series, &fit);
+        assert_eq!(periods.len(), 2, "{periods:?}");
+        assert!((periods[0].rate - 6.0).abs() < 1e-6, "{periods:?}");
+        assert!((periods[1].rate - 4.0).abs() < 0.1, "{periods:?}");
     }
 
     #[test]

@@ -508,3 +508,42 @@ fn mix_on_a_coarse_two_phase_cavity_writes_every_output() {
     assert_eq!(ftle.len(), fluid);
     assert!(ftle.iter().all(|f| f.is_finite()), "every FTLE finite");
 }
+
+#[test]
+fn converge_runs_every_spacing_to_the_end_time_given() {
+    // Couette flow at two coarse spacings, run to 2 ms instead of the case's 0.8 s: every
+    // written case and every run ends there, and the study still reports its errors.
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("study");
+    let result = lamella(&[
+        "converge",
+        cases_dir().join("couette.ron").to_str().unwrap(),
+        "--spacings",
+        "1.2e-4,8e-5",
+        "--end",
+        "0.002",
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(
+        result.status.success(),
+        "{}",
+        String::from_utf8_lossy(&result.stderr)
+    );
+    for k in 0..2 {
+        let case = lamella_case::load(&out.join(format!("couette-dx{k}.ron"))).unwrap();
+        assert_eq!(case.time.end, 0.002);
+        let log = std::fs::read_to_string(out.join(format!("run-dx{k}/run.log"))).unwrap();
+        assert!(log.contains("finished at t = 2e-3 s"), "{log}");
+    }
+    assert!(out.join("convergence.csv").is_file());
+    let refused = lamella(&[
+        "converge",
+        cases_dir().join("couette.ron").to_str().unwrap(),
+        "--spacings",
+        "1.2e-4,8e-5",
+        "--end",
+        "-1",
+    ]);
+    assert_eq!(refused.status.code(), Some(2));
+}

@@ -262,6 +262,23 @@ fn a_run_folder_is_compared_with_theory_and_given_a_verdict() {
         report.contains("verdict: agrees (growth rate and wave speed)"),
         "{report}"
     );
+    // The wave period λ/c and the rate over each whole period of the window, each within
+    // 1 % of the prediction here (a clean exponential), in both reports.
+    let wavelength = case.tracked_wavelength();
+    for text in [&growth, &report] {
+        let period = number_after(text, "wave period ");
+        assert!((period / (wavelength / speed) - 1.0).abs() < 1e-3, "{text}");
+        let periods = text
+            .split("growth rate over each whole period: ")
+            .nth(1)
+            .expect("per-period rates");
+        let first: f64 = periods
+            .split([' ', ','])
+            .next()
+            .and_then(|v| v.parse().ok())
+            .expect("a rate");
+        assert!((first / rate - 1.0).abs() < 0.01, "{text}");
+    }
     let png = std::fs::read(Path::new(agree).join("analysis/growth_vs_theory.png")).unwrap();
     assert_eq!(&png[1..4], b"PNG");
 

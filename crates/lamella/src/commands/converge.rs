@@ -19,7 +19,7 @@ use crate::Failure;
 use crate::cli::Globals;
 use crate::commands::analysis::{parse_list, write_file};
 use crate::commands::check::load_case;
-use crate::commands::growth::{DEFAULT_MIN_R2, FitArgs, measure};
+use crate::commands::growth::{DEFAULT_MIN_R2, FitArgs, measure, period_line};
 use crate::commands::profile::profile;
 use crate::commands::stability::predicted_mode;
 use crate::output::{InterfaceTracker, RunFolder};
@@ -42,6 +42,10 @@ pub struct Args {
     /// Particle spacings to run, in m, separated by commas (at least two).
     #[arg(long, value_name = "DX,DX,...")]
     pub spacings: String,
+    /// Run every spacing to this simulated time (s) instead of the case's end time, e.g. to
+    /// follow an interface wave over several wave periods.
+    #[arg(long, value_name = "SECONDS", value_parser = super::values::time)]
+    pub end: Option<f64>,
     /// Runs at once [default: 1]; the cores are shared between them.
     #[arg(long, value_name = "N", default_value_t = 1, value_parser = super::values::jobs)]
     pub jobs: usize,
@@ -83,6 +87,9 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         .unwrap_or_else(|| PathBuf::from(format!("convergence-{stem}")));
     std::fs::create_dir_all(&out)
         .map_err(|e| Failure::BadInput(format!("cannot create {}: {e}", out.display())))?;
+    if let Some(end) = args.end {
+        case.time.end = end;
+    }
     // Write and validate one case file per spacing before running anything.
     let mut runs = Vec::new();
     for (k, &dx) in spacings.iter().enumerate() {
@@ -167,7 +174,7 @@ fn summarise_waves(
     for (dx, path, dir) in runs {
         let folder = RunFolder::open(dir)?;
         let measured = measure(&folder, &load_case(path)?, &fit_options)?;
-        let fit = measured.fit.map_err(|why| {
+        let fit = *measured.fit.as_ref().map_err(|why| {
             Failure::RunFailed(format!(
                 "run at spacing {dx:e} m: the growth fit refuses: {why}"
             ))
@@ -194,6 +201,7 @@ fn summarise_waves(
                 fit.wave_speed_ci95,
                 100.0 * (fit.wave_speed / speed - 1.0)
             )?;
+            crate::report!("  {}", period_line(&measured, &fit, Some(rate)))?;
         }
     }
     let csv = csv_document(

@@ -421,6 +421,12 @@ fn compare(
         ratio(fit.wave_speed, fit.wave_speed_ci95, predicted.wave_speed)
     )
     .ok();
+    writeln!(
+        report,
+        "  {}",
+        growth::period_line(measured, fit, Some(predicted.rate))
+    )
+    .ok();
     let verdict = match (rate_ok, speed_ok) {
         (true, true) => "agrees (growth rate and wave speed)",
         (false, true) => "disagrees (growth rate)",
