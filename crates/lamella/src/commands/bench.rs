@@ -6,9 +6,9 @@ use std::num::NonZeroUsize;
 use glam::DVec2;
 use serde::Serialize;
 
-use crate::Failure;
-use crate::benchmark::{STANDARD_TEMPLATE, Timing, standard_case, time_steps};
-use crate::cli::Globals;
+use crate::{Failure, memory};
+use lamella_run::benchmark::{STANDARD_TEMPLATE, Timing, standard_case, time_steps};
+use crate::commands::Globals;
 use crate::commands::analysis::parse_list;
 
 /// Particle-steps each timed repeat aims at when `--steps` is not given.
@@ -105,7 +105,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
                     Failure::BadInput(format!("cannot start {threads} worker threads: {err}"))
                 })?;
             let timing: Timing =
-                pool.install(|| time_steps::<DVec2>(&case, steps, args.repeats.get()))?;
+                pool.install(|| time_steps::<DVec2>(&case, steps, args.repeats.get(), &memory::Counter))?;
             let seconds = timing.median_seconds_per_step();
             if threads == 1 {
                 single_thread = Some(seconds);
