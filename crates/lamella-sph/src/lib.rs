@@ -19,7 +19,7 @@ pub use eos::{EquationOfState, StateLaw};
 pub use fault::{Fault, FaultCause};
 pub use forces::PairViscosity;
 pub use kernel::{Kernel, KernelKind};
-pub use particles::{Kind, Particles, ReorderScratch};
+pub use particles::{Field, FieldMut, Kind, Particles, ReorderScratch};
 pub use shear_rate::shear_rates;
 pub use shifting::Regularisation;
 pub use simulation::{SetupError, Simulation, SolverConfig, StepReport};
