@@ -10,7 +10,7 @@ use crate::eigenmode::EigenmodeSeed;
 use crate::reference::channel_reference;
 use lamella_sph::{
     Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation, SetupError, Simulation,
-    SolverConfig, StateLaw, TimeStepFactors,
+    SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
 };
 
 /// Density-diffusion coefficient δ of the δ-SPH term (Antuono et al. 2010: 0.1, common practice).
@@ -76,6 +76,11 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
             background_pressure,
         },
         reference_density: case.phases.iter().map(|p| p.density).collect(),
+        viscosity_laws: case
+            .phases
+            .iter()
+            .map(|p| viscosity_law(&p.viscosity_law))
+            .collect(),
         pair_viscosity: match case.pair_viscosity {
             CasePair::Harmonic => PairViscosity::Harmonic,
             CasePair::Arithmetic => PairViscosity::Arithmetic,
@@ -103,6 +108,15 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         fluid_lower,
         fluid_upper,
     })
+}
+
+/// The solver's form of a phase's viscosity law.
+fn viscosity_law(law: &lamella_case::ViscosityLaw) -> ViscosityLaw {
+    match *law {
+        lamella_case::ViscosityLaw::Newtonian { viscosity } => {
+            ViscosityLaw::Newtonian { viscosity }
+        }
+    }
 }
 
 /// The particles of a case at time zero: the generated lattice (fluid, then walls) with mass

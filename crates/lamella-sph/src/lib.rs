@@ -13,6 +13,7 @@ pub mod shear_rate;
 pub mod shifting;
 pub mod simulation;
 pub mod time_step;
+pub mod viscosity;
 pub mod walls;
 
 pub use eos::{EquationOfState, StateLaw};
@@ -24,3 +25,4 @@ pub use shear_rate::shear_rates;
 pub use shifting::Regularisation;
 pub use simulation::{SetupError, Simulation, SolverConfig, StepReport};
 pub use time_step::{Limit, TimeStepFactors, stable_time_step};
+pub use viscosity::ViscosityLaw;

@@ -40,7 +40,8 @@ use crate::forces::{
 };
 use crate::kernel::Kernel;
 use crate::particles::{Kind, Particles, ReorderScratch};
-use crate::shear_rate::velocity_gradients;
+use crate::shear_rate::{Flow, shear_rates_into, velocity_gradients};
+use crate::viscosity::{ViscosityLaw, update_viscosities};
 use crate::shifting::{Regularisation, shift};
 use crate::time_step::{Limit, TimeStepFactors, stable_time_step};
 use crate::walls::{InteractionState, interaction_states};
@@ -54,6 +55,9 @@ pub struct SolverConfig<V: Vector> {
     pub state_law: StateLaw,
     /// Reference density ρ0 of each phase (kg/m³), indexed by `Particles::phase`.
     pub reference_density: Vec<f64>,
+    /// Viscosity law of each phase, indexed by `Particles::phase`; every step sets each fluid
+    /// particle's viscosity from it ([`crate::viscosity::update_viscosities`]).
+    pub viscosity_laws: Vec<ViscosityLaw>,
     /// Pair viscosity rule.
     pub pair_viscosity: PairViscosity,
     /// Body force per unit mass (m/s²).
@@ -119,6 +123,14 @@ pub enum SetupError {
     /// The neighbour search refused the domain or the particles.
     #[error("neighbour search: {0}")]
     Cells(#[from] CellError),
+    /// The phases have reference densities but not as many viscosity laws.
+    #[error("{laws} viscosity laws for {phases} phases; give one law per phase")]
+    ViscosityLaws {
+        /// Viscosity laws configured.
+        laws: usize,
+        /// Phases with a reference density.
+        phases: usize,
+    },
     /// The initial state of the case could not be built; the message says why.
     #[error("initial state: {0}")]
     InitialState(String),
@@ -135,6 +147,8 @@ struct Scratch<V: Vector> {
     /// Velocity gradient of each particle, when the full viscous stress is on.
     gradients: Vec<DMat3>,
     density_rates: Vec<f64>,
+    /// Shear rate of each particle, when a viscosity law depends on it (empty otherwise).
+    shear_rate: Vec<f64>,
     /// Shifting velocity δv of each particle (empty when particles are not shifted).
     shift_velocity: Vec<V>,
     next_position: Vec<V>,
@@ -177,6 +191,12 @@ impl<V: Vector> Simulation<V> {
                 id: particles.id[i],
                 phase: particles.phase[i],
                 count,
+            });
+        }
+        if config.viscosity_laws.len() != count {
+            return Err(SetupError::ViscosityLaws {
+                laws: config.viscosity_laws.len(),
+                phases: count,
             });
         }
         let cells = CellList::new(config.search_domain, config.kernel.support_radius())?;
@@ -262,6 +282,35 @@ impl<V: Vector> Simulation<V> {
             });
     }
 
+    /// The viscosity-law plug-in point: when a phase's law depends on the shear rate, writes
+    /// every particle's shear rate into scratch ([`shear_rates_into`], volumes from the wall
+    /// states); then sets each fluid particle's viscosity from its phase's law. A Newtonian
+    /// law writes back the same constant, so those runs are unchanged bit for bit.
+    fn update_viscosities(&mut self) {
+        let laws = &self.config.viscosity_laws;
+        let p = &mut self.particles;
+        let shear_rate = &mut self.scratch.shear_rate;
+        if laws.iter().any(ViscosityLaw::depends_on_shear_rate) {
+            shear_rate.resize(p.len(), 0.0);
+            let states: &[InteractionState<V>] = &self.scratch.seen;
+            let flow = Flow {
+                position: &p.position,
+                velocity: &p.velocity,
+                kind: &p.kind,
+            };
+            shear_rates_into(
+                &self.cells,
+                flow,
+                |b| states[b].volume,
+                &self.config.kernel,
+                shear_rate,
+            );
+        } else {
+            shear_rate.clear();
+        }
+        update_viscosities(laws, &p.phase, &p.kind, shear_rate, &mut p.viscosity);
+    }
+
     /// Advances by one stable step, cut short so as not to pass the simulated time `until` (s);
     /// a step that reaches `until` ends exactly on it.
     ///
@@ -272,6 +321,7 @@ impl<V: Vector> Simulation<V> {
             return Err(self.search_fault(error));
         }
         self.evaluate_interaction_states();
+        self.update_viscosities();
         let n = self.particles.len();
         let Scratch {
             inverse_reference_density,
@@ -536,6 +586,7 @@ mod tests {
                 background_pressure: 0.0,
             },
             reference_density: vec![1000.0],
+            viscosity_laws: vec![ViscosityLaw::Newtonian { viscosity: 0.0 }],
             pair_viscosity: PairViscosity::Harmonic,
             body_force: DVec2::ZERO,
             density_diffusion: 0.0,
