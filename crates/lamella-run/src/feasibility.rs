@@ -7,7 +7,6 @@ use std::path::Path;
 use lamella_case::{Case, CaseError, Problem};
 use lamella_sph::{Limit, TimeStepFactors, stable_time_step};
 
-
 /// Most time steps a run may need to reach `time.end`: at a few microseconds per step for the
 /// smallest cases, more would take days to years.
 pub const MAX_STEPS: f64 = 1.0e9;
@@ -54,7 +53,7 @@ pub fn problems(case: &Case) -> Vec<Problem> {
         found.push(too_many_steps(case, dt, limit, steps));
     }
     let sites: f64 = case.lattice_counts().iter().map(|&n| n as f64).product();
-    let bytes = sites * case.state_bytes_per_particle() as f64;
+    let bytes = sites * crate::setup::heap_bytes_per_particle(case) as f64;
     if let Some(machine) = machine_bytes()
         && bytes > machine as f64
     {

@@ -9,12 +9,9 @@ use lamella_sph::forces::lattice_viscous_normalisation;
 use crate::eigenmode::EigenmodeSeed;
 use crate::reference::channel_reference;
 use lamella_sph::{
-    Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation, SetupError, Simulation,
-    SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
+    DEFAULT_DENSITY_DIFFUSION, Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation,
+    SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
 };
-
-/// Density-diffusion coefficient δ of the δ-SPH term (Antuono et al. 2010: 0.1, common practice).
-pub const DENSITY_DIFFUSION: f64 = 0.1;
 
 /// Extra lattice rows the neighbour-search box reaches past the outermost wall row.
 const SEARCH_MARGIN_ROWS: f64 = 2.0;
@@ -86,11 +83,11 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
             CasePair::Arithmetic => PairViscosity::Arithmetic,
         },
         body_force,
-        density_diffusion: DENSITY_DIFFUSION,
+        density_diffusion: DEFAULT_DENSITY_DIFFUSION,
         viscous_normalisation: lattice_viscous_normalisation(&kernel, dx, dim),
         // ∇·(μ ∇uᵀ) vanishes for one viscosity (incompressible flow) and is needed across a
         // viscosity jump.
-        full_viscous_stress: case.viscosity_contrast() > 1.0,
+        full_viscous_stress: full_viscous_stress(case),
         time_step: TimeStepFactors {
             acoustic: case.time_step.acoustic,
             viscous: case.time_step.viscous,
@@ -108,6 +105,24 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         fluid_lower,
         fluid_upper,
     })
+}
+
+/// Whether the solver adds the transposed viscous stress for `case`: where it has more than
+/// one viscosity.
+fn full_viscous_stress(case: &Case) -> bool {
+    case.viscosity_contrast() > 1.0
+}
+
+/// Heap bytes per particle of a running solver of `case` in its dimension
+/// ([`Simulation::heap_bytes_per_particle`]); `lamella check` prints it and the feasibility
+/// check multiplies it by the particle count.
+pub fn heap_bytes_per_particle(case: &Case) -> usize {
+    let full = full_viscous_stress(case);
+    if case.dimension == 3 {
+        Simulation::<glam::DVec3>::heap_bytes_per_particle(full)
+    } else {
+        Simulation::<glam::DVec2>::heap_bytes_per_particle(full)
+    }
 }
 
 /// The solver's form of a phase's viscosity law.
@@ -260,6 +275,16 @@ mod tests {
             .join("../../cases")
             .join(name);
         lamella_case::load(&path).expect("bundled case")
+    }
+
+    #[test]
+    fn bytes_per_particle_count_the_gradient_only_with_two_viscosities() {
+        // One viscosity: the 2D arrays of `Simulation::heap_bytes_per_particle`; two add a
+        // 3 × 3 velocity gradient for the full viscous stress.
+        let one = heap_bytes_per_particle(&bundled("poiseuille.ron"));
+        assert_eq!(one, Simulation::<DVec2>::heap_bytes_per_particle(false));
+        let two = heap_bytes_per_particle(&bundled("two-layer-channel.ron"));
+        assert_eq!(two, one + 72);
     }
 
     #[test]

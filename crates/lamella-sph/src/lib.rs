@@ -23,6 +23,6 @@ pub use kernel::{Kernel, KernelKind};
 pub use particles::{Field, FieldMut, Kind, Particles, ReorderScratch};
 pub use shear_rate::shear_rates;
 pub use shifting::Regularisation;
-pub use simulation::{SetupError, Simulation, SolverConfig, StepReport};
+pub use simulation::{DEFAULT_DENSITY_DIFFUSION, SetupError, Simulation, SolverConfig, StepReport};
 pub use time_step::{Limit, TimeStepFactors, stable_time_step};
 pub use viscosity::ViscosityLaw;

@@ -43,6 +43,17 @@ impl<V> Field<'_, V> {
     pub fn is_empty(&self) -> bool {
         self.len() == 0
     }
+
+    /// Bytes the array's entries take (its length times the size of an entry).
+    pub fn bytes(&self) -> usize {
+        match self {
+            Field::Vectors(v) => size_of_val(*v),
+            Field::Scalars(v) => size_of_val(*v),
+            Field::Phases(v) => size_of_val(*v),
+            Field::Kinds(v) => size_of_val(*v),
+            Field::Ids(v) => size_of_val(*v),
+        }
+    }
 }
 
 /// One per-particle array of [`Particles`], mutably (see [`Particles::for_each_field_mut`]).

@@ -39,12 +39,20 @@ use crate::forces::{
     PairViscosity, ParticleMotion, RateParameters, Rates, density_rates, particle_rates,
 };
 use crate::kernel::Kernel;
-use crate::particles::{Kind, Particles, ReorderScratch};
+use crate::particles::{FieldMut, Kind, Particles, ReorderScratch};
 use crate::shear_rate::{Flow, shear_rates_into, velocity_gradients};
-use crate::viscosity::{ViscosityLaw, update_viscosities};
 use crate::shifting::{Regularisation, shift};
 use crate::time_step::{Limit, TimeStepFactors, stable_time_step};
+use crate::viscosity::{ViscosityLaw, update_viscosities};
 use crate::walls::{InteractionState, interaction_states};
+
+/// Density-diffusion coefficient δ of the δ-SPH term when a case does not choose one
+/// (Antuono et al. 2010, Comput. Phys. Commun. 181: 0.1, common practice).
+pub const DEFAULT_DENSITY_DIFFUSION: f64 = 0.1;
+
+/// Heap bytes per particle of the cell list (its cell ranges and the permutation), about 10
+/// at the usual spacings; measured by `lamella bench` with the rest of the simulation.
+const CELL_LIST_BYTES_PER_PARTICLE: usize = 10;
 
 /// Everything the solver needs besides the particle state. Fixed for a run.
 #[derive(Clone, Debug, PartialEq)]
@@ -62,7 +70,8 @@ pub struct SolverConfig<V: Vector> {
     pub pair_viscosity: PairViscosity,
     /// Body force per unit mass (m/s²).
     pub body_force: V,
-    /// Density-diffusion coefficient δ (0.1 is common practice, 0 disables it).
+    /// Density-diffusion coefficient δ ([`DEFAULT_DENSITY_DIFFUSION`] is common practice, 0
+    /// disables it).
     pub density_diffusion: f64,
     /// Factor on the viscous term; [`crate::forces::lattice_viscous_normalisation`] of the
     /// initial lattice makes it exact for quadratic profiles, 1 leaves Morris's form unchanged.
@@ -168,6 +177,45 @@ pub struct Simulation<V: Vector> {
 }
 
 impl<V: Vector> Simulation<V> {
+    /// Heap bytes per particle of a running simulation, from the sizes of the arrays it holds:
+    /// every field of [`Particles`] (through [`Particles::for_each_field`]), the reorder
+    /// scratch (one element of each type), the wall states, the rates and density rates, the
+    /// next state (two vectors and a density), the cell list and, with `full_viscous_stress`,
+    /// a 3 × 3 velocity gradient. Transient buffers of a step (shifting) are not counted.
+    pub fn heap_bytes_per_particle(full_viscous_stress: bool) -> usize {
+        use std::mem::size_of;
+        let mut one = Particles::<V>::default();
+        one.for_each_field_mut(|_, field| match field {
+            FieldMut::Vectors(v) => v.push(V::ZERO),
+            FieldMut::Scalars(v) => v.push(0.0),
+            FieldMut::Phases(v) => v.push(0),
+            FieldMut::Kinds(v) => v.push(Kind::Fluid),
+            FieldMut::Ids(v) => v.push(0),
+        });
+        let mut state = 0;
+        one.for_each_field(|_, field| state += field.bytes());
+        let reorder_scratch = size_of::<V>()
+            + size_of::<f64>()
+            + size_of::<u16>()
+            + size_of::<Kind>()
+            + size_of::<u64>();
+        let wall_states = size_of::<InteractionState<V>>();
+        let rates = size_of::<Rates<V>>() + size_of::<f64>();
+        let next_state = 2 * size_of::<V>() + size_of::<f64>();
+        let gradients = if full_viscous_stress {
+            size_of::<DMat3>()
+        } else {
+            0
+        };
+        state
+            + reorder_scratch
+            + wall_states
+            + rates
+            + next_state
+            + CELL_LIST_BYTES_PER_PARTICLE
+            + gradients
+    }
+
     /// A simulation at time zero.
     pub fn new(config: SolverConfig<V>, particles: Particles<V>) -> Result<Self, SetupError> {
         Self::from_parts(config, particles, 0.0, 0)
@@ -615,6 +663,20 @@ mod tests {
             p.id.push(k as u64);
         }
         Simulation::new(config, p).unwrap()
+    }
+
+    #[test]
+    fn bytes_per_particle_follow_the_arrays() {
+        // 2D: state 91 (three vectors, four scalars, phase, kind, id), reorder scratch 35,
+        // wall states 40, rates and density rates 56, next state 40, cell list 10.
+        assert_eq!(Simulation::<DVec2>::heap_bytes_per_particle(false), 272);
+        assert_eq!(Simulation::<DVec2>::heap_bytes_per_particle(true), 272 + 72);
+        // 3D: every vector is 8 bytes longer (three in the state, one each in the reorder
+        // scratch and the wall states, three in the rates, two in the next state).
+        assert_eq!(
+            Simulation::<glam::DVec3>::heap_bytes_per_particle(false),
+            272 + 10 * 8
+        );
     }
 
     #[test]

@@ -78,7 +78,7 @@ mod tests {
         let _measuring = MEASURING.lock().unwrap_or_else(|e| e.into_inner());
         let case = standard_case(20_000).unwrap();
         let timing = time_steps::<glam::DVec2>(&case, 1, 1, &Counter).unwrap();
-        let estimate = case.state_bytes_per_particle() as f64;
+        let estimate = lamella_run::setup::heap_bytes_per_particle(&case) as f64;
         let measured = timing.peak_bytes_per_particle();
         // Set-up transients and other test threads' allocations only add to the peak.
         assert!(

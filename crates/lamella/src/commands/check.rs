@@ -188,12 +188,13 @@ fn summary(path: &Path, case: &Case) -> String {
             sig(pair.width_ratio)
         );
     }
-    let bytes = case.memory_estimate(counts.total());
+    let per_particle = lamella_run::setup::heap_bytes_per_particle(case);
+    let bytes = counts.total() * per_particle;
     let _ = writeln!(
         s,
-        "  memory        ≈ {:.1} MB ({} bytes per particle; `lamella estimate` measures it)",
+        "  memory        ≈ {:.1} MB ({per_particle} bytes per particle; `lamella estimate` \
+         measures it)",
         bytes as f64 / 1.0e6,
-        case.state_bytes_per_particle()
     );
     for warning in case.warnings() {
         let _ = writeln!(s, "  warning: {warning}");
