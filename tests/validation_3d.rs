@@ -7,10 +7,10 @@
 //! as a profile tens of per cent off).
 
 use glam::DVec3;
-use lamella_run::runner::run_plain;
 use lamella_case::Axis;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
+use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
 
 #[test]

@@ -8,8 +8,8 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella_run::runner::run_plain;
 use lamella_post::reference::cavity::{CentrelineTable, GHIA_RE100_U, GHIA_RE100_V};
+use lamella_run::runner::run_plain;
 use lamella_sph::{Kind, Particles};
 
 /// Velocity of the fluid at `x` by a kernel-weighted linear least-squares fit over the fluid

@@ -5,8 +5,8 @@
 //! pressure averaging (Hu & Adams 2006), with a drift and a vortex so that momentum is non-zero.
 
 use glam::DVec2;
-use lamella_run::runner::run_plain;
 use lamella_case::{InitialVelocity, Region, ViscosityLaw};
+use lamella_run::runner::run_plain;
 
 #[test]
 fn mass_is_exact_and_momentum_stays_at_round_off() {

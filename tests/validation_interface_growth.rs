@@ -24,10 +24,10 @@
 //! −5.79 (−12.0 %), c = 0.07562 m/s against 0.07568 (−0.1 %).
 
 use glam::DVec2;
-use lamella_run::output::InterfaceTracker;
 use lamella_case::{Case, ChannelFlow, SeedMode};
 use lamella_post::fit::linear_fit;
 use lamella_post::stability::{ChannelScales, LayeredChannel, StabilityProblem};
+use lamella_run::output::InterfaceTracker;
 
 /// Start of the fit window (s): after the seed's other modes have died out.
 const FIT_START: f64 = 0.02;

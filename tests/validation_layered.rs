@@ -19,11 +19,11 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella_run::runner::run_plain;
 use lamella_case::{Case, PairViscosity, Region, ViscosityLaw};
 use lamella_post::convergence::fit_observed_order;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::layered::LayeredChannel;
+use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
 
 const HEIGHT: f64 = 1.2e-3;

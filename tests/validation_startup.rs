@@ -8,9 +8,9 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella_run::runner::run_plain;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
+use lamella_run::runner::run_plain;
 use lamella_sph::{Kind, Simulation};
 
 fn advance_to(sim: &mut Simulation<DVec2>, t: f64) {

@@ -6,9 +6,9 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella_run::runner::run_plain;
 use lamella_post::fit::linear_fit;
 use lamella_post::reference::taylor_green::TaylorGreen;
+use lamella_run::runner::run_plain;
 
 #[test]
 fn kinetic_energy_decays_at_the_viscous_rate() {

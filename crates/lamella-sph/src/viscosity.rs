@@ -77,7 +77,13 @@ mod tests {
         update_viscosities(&laws, &phase, &kind, &[], &mut viscosity);
         assert_eq!(viscosity, [1.0e-3, 2.0e-2, 5.0, 1.0e-3]);
         // The shear rate does not matter to a Newtonian liquid.
-        update_viscosities(&laws, &phase, &kind, &[1.0, 1e6, 0.0, f64::NAN], &mut viscosity);
+        update_viscosities(
+            &laws,
+            &phase,
+            &kind,
+            &[1.0, 1e6, 0.0, f64::NAN],
+            &mut viscosity,
+        );
         assert_eq!(viscosity, [1.0e-3, 2.0e-2, 5.0, 1.0e-3]);
     }
 }

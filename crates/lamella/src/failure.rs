@@ -81,13 +81,13 @@ mod tests {
     fn exit_codes_match_the_readme() {
         assert_eq!(Failure::RunFailed(String::new()).exit_code(), 1);
         assert_eq!(Failure::BadInput(String::new()).exit_code(), 2);
-        let interrupted = RunError::Interrupted {
-            time: 1.0,
-            step: 3,
-        };
+        let interrupted = RunError::Interrupted { time: 1.0, step: 3 };
         assert_eq!(Failure::from(interrupted).exit_code(), 130);
         assert_eq!(Failure::from(RunError::Fault("nan".into())).exit_code(), 1);
-        assert_eq!(Failure::from(RunError::Case("too small".into())).exit_code(), 2);
+        assert_eq!(
+            Failure::from(RunError::Case("too small".into())).exit_code(),
+            2
+        );
     }
 
     #[test]
@@ -115,10 +115,19 @@ mod tests {
     fn case_problems_are_counted_and_bad_input() {
         let err = CaseError {
             origin: "c.ron".into(),
-            problems: vec![lamella_case::Problem::value("time.end", "-1", "a positive time")],
+            problems: vec![lamella_case::Problem::value(
+                "time.end",
+                "-1",
+                "a positive time",
+            )],
         };
         let failure = Failure::from(err);
-        assert!(failure.to_string().starts_with("1 problem in the case file:\n"), "{failure}");
+        assert!(
+            failure
+                .to_string()
+                .starts_with("1 problem in the case file:\n"),
+            "{failure}"
+        );
         assert_eq!(failure.exit_code(), 2);
     }
 }

@@ -37,8 +37,10 @@ impl Console {
     /// A bar when standard error is a terminal, plain lines otherwise.
     pub fn new() -> Self {
         let bar = std::io::stderr().is_terminal().then(|| {
-            let bar =
-                ProgressBar::with_draw_target(Some(BAR_TICKS), ProgressDrawTarget::stderr_with_hz(4));
+            let bar = ProgressBar::with_draw_target(
+                Some(BAR_TICKS),
+                ProgressDrawTarget::stderr_with_hz(4),
+            );
             bar.set_style(
                 ProgressStyle::with_template("{bar:30.cyan/blue} {percent:>3}% {msg} ETA {eta}")
                     .unwrap_or_else(|_| ProgressStyle::default_bar())

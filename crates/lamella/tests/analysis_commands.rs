@@ -15,10 +15,10 @@ use std::process::{Command, Output};
 use std::sync::atomic::AtomicBool;
 
 use glam::DVec2;
-use lamella_run::runner::{NoObserver, NoProgress, run_to_end};
 use lamella_case::{Case, Region, ViscosityLaw};
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::layered::LayeredChannel;
+use lamella_run::runner::{NoObserver, NoProgress, run_to_end};
 use lamella_sph::Kind;
 
 fn cases_dir() -> PathBuf {

@@ -17,15 +17,15 @@ use lamella_post::table::csv_document;
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::commands::analysis::{parse_list};
-use lamella_run::output::atomic::write_bytes;
-use lamella_run::feasibility::load_case;
+use crate::commands::analysis::parse_list;
 use crate::commands::growth::{DEFAULT_MIN_R2, FitArgs, measure};
 use crate::commands::profile::profile;
 use crate::commands::stability::predicted_mode;
+use lamella_case::Case;
+use lamella_run::feasibility::load_case;
+use lamella_run::output::atomic::write_bytes;
 use lamella_run::output::{InterfaceTracker, RunFolder};
 use lamella_run::reference::channel_reference;
-use lamella_case::Case;
 
 /// Options of `lamella converge`.
 #[derive(Debug, clap::Args)]

@@ -11,9 +11,9 @@ use lamella_cells::Vector;
 use lamella_sph::{Kind, Limit, Simulation};
 
 use crate::commands::Globals;
+use crate::{Failure, memory};
 use lamella_run::feasibility::load_case;
 use lamella_run::output::snapshot::{SnapshotMeta, shear_rate_field, write_snapshot};
-use crate::{Failure, memory};
 use lamella_run::setup;
 
 /// Options of `lamella estimate`.

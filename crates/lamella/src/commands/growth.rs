@@ -17,8 +17,8 @@ use lamella_post::table::csv_document;
 use crate::Failure;
 use crate::commands::Globals;
 use crate::commands::analysis::{analysis_folder, open_case, parse_list, read_columns};
-use lamella_run::output::atomic::write_bytes;
 use lamella_run::output::RunFolder;
+use lamella_run::output::atomic::write_bytes;
 
 /// Smallest R² of ln A against t (common practice: 0.98).
 pub const DEFAULT_MIN_R2: f64 = 0.98;

@@ -22,8 +22,8 @@ use lamella_sph::{Kernel, KernelKind, Kind};
 use crate::Failure;
 use crate::commands::Globals;
 use crate::commands::analysis::{Run, parse_list};
-use lamella_run::output::atomic::write_bytes;
 use lamella_run::output::Snapshot;
+use lamella_run::output::atomic::write_bytes;
 
 mod maps;
 
@@ -379,7 +379,10 @@ fn write_vtk<V: Vector>(
         ],
     )
     .map_err(Failure::RunFailed)?;
-    Ok(write_bytes(&out_dir.join("mix_particles.vtp"), vtp.as_bytes())?)
+    Ok(write_bytes(
+        &out_dir.join("mix_particles.vtp"),
+        vtp.as_bytes(),
+    )?)
 }
 
 /// Column `k` of node-major values with `phases` per node.

@@ -89,7 +89,8 @@ pub fn run_recorded<V: Vector>(
 ) -> Result<RunSummary, Failure> {
     let mut progress = progress::for_command(globals.quiet);
     let outcome = run_to_end(sim, end_time, recorder, stop, progress.as_mut());
-    if let (Err(RunError::Interrupted { .. }), Some(path)) = (&outcome, recorder.newest_checkpoint())
+    if let (Err(RunError::Interrupted { .. }), Some(path)) =
+        (&outcome, recorder.newest_checkpoint())
     {
         crate::note!(
             "interrupted: state saved in {}; continue with `lamella resume {}`",

@@ -6,8 +6,8 @@ use clap::builder::{PossibleValue, PossibleValuesParser};
 use lamella_case::templates::{TEMPLATES, template};
 
 use crate::Failure;
-use lamella_run::output::atomic::write_bytes;
 use crate::commands::Globals;
+use lamella_run::output::atomic::write_bytes;
 
 /// Options of `lamella new`.
 #[derive(Debug, clap::Args)]

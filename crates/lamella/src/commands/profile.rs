@@ -11,7 +11,7 @@ use lamella_sph::Kind;
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::commands::analysis::{Run};
+use crate::commands::analysis::Run;
 use lamella_run::output::atomic::write_bytes;
 use lamella_run::reference::{Reference, channel_reference};
 

@@ -13,8 +13,8 @@ use lamella_sph::Simulation;
 
 use crate::Failure;
 use crate::commands::{Globals, run_recorded};
-use lamella_run::feasibility::load_case;
 use crate::signals::interrupt_flag;
+use lamella_run::feasibility::load_case;
 use lamella_run::output::{CheckpointStore, Recorder, RunFolder};
 use lamella_run::{RunError, setup};
 

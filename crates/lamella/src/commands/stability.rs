@@ -18,12 +18,12 @@ use lamella_post::stability::{
 };
 
 use crate::Failure;
-use lamella_run::output::OutputError;
-use lamella_run::output::atomic::write_bytes;
 use crate::commands::Globals;
 use crate::commands::analysis::open_case;
-use lamella_run::feasibility::load_case;
 use crate::commands::growth::{self, FitArgs, Measurement};
+use lamella_run::feasibility::load_case;
+use lamella_run::output::OutputError;
+use lamella_run::output::atomic::write_bytes;
 
 /// Width and height of the PNG charts (pixels).
 const PNG_SIZE: (u32, u32) = (800, 560);

@@ -2,7 +2,6 @@
 //! out of range is refused with exit code 2 and a message naming the option and what would be
 //! valid, before any work starts.
 
-
 /// Heap bytes one benchmark particle needs, rounded up from the measured 272–280 (README,
 /// Performance), for the memory check of `bench --particles`.
 const BENCH_BYTES_PER_PARTICLE: f64 = 300.0;
