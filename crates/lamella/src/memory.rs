@@ -39,7 +39,8 @@ impl HeapMeter for Counter {
     }
 }
 
-/// Held by the tests that measure the heap, so that they do not run at the same time.
+/// Held by the tests that measure the heap, and by the tests of this binary that allocate and
+/// free much (stability solves), so that none runs while the heap is measured.
 #[cfg(test)]
 pub(crate) static MEASURING: std::sync::Mutex<()> = std::sync::Mutex::new(());
 

@@ -714,11 +714,17 @@ mod eigenmode_seed_tests {
 
     #[test]
     fn the_seeded_interface_moves_at_the_predicted_growth_rate_and_wave_speed() {
+        let _quiet_heap = crate::memory::MEASURING
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
         assert_interface_moves_with_the_predicted_wave(&growing(SeedMode::Eigenmode));
     }
 
     #[test]
     fn a_flow_towards_minus_x_gets_the_mirrored_mode() {
+        let _quiet_heap = crate::memory::MEASURING
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
         let mut case = growing(SeedMode::Eigenmode);
         let force = case.body_force.as_mut().unwrap();
         force[0] = -force[0];
@@ -741,6 +747,9 @@ mod eigenmode_seed_tests {
 
     #[test]
     fn displacement_seeds_and_unseeded_cases_have_no_mode() {
+        let _quiet_heap = crate::memory::MEASURING
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
         assert_eq!(
             EigenmodeSeed::of(&growing(SeedMode::Displacement)),
             Ok(None)
