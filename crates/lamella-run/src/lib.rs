@@ -1,5 +1,6 @@
 //! Running Lamella cases as a library: from a case to a solver ([`setup`]), the run loop
-//! ([`runner`]), the run folder ([`output`]), the analytical channel profiles ([`reference`]),
+//! ([`runner`]), the run folder ([`output`]) and the observer that
+//! writes it during a run ([`recorder`]), the analytical channel profiles ([`reference`]),
 //! the eigenmode seed ([`eigenmode`]), what a case asks of the machine ([`feasibility`]) and
 //! the standard benchmark ([`benchmark`]).
 //!
@@ -11,6 +12,7 @@ pub mod eigenmode;
 mod error;
 pub mod feasibility;
 pub mod output;
+pub mod recorder;
 pub mod reference;
 pub mod runner;
 pub mod setup;

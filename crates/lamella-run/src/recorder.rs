@@ -9,14 +9,14 @@ use lamella_case::Case;
 use lamella_cells::Vector;
 use lamella_sph::{Fault, Simulation, StepReport};
 
-use super::checkpoint::{Checkpoint, CheckpointStore, Value, checksum};
-use super::collection::Collection;
-use super::folder::{RunFolder, RunLog};
-use super::probes::{Probe, ProbeFiles};
-use super::series::{FlowStatistics, InterfaceTracker, SeriesFile, SeriesRow};
-use super::snapshot::shear_rate_field;
-use super::{OutputError, SnapshotMeta, write_snapshot};
 use crate::RunError;
+use crate::output::checkpoint::{Checkpoint, CheckpointStore, Value, checksum};
+use crate::output::collection::Collection;
+use crate::output::folder::{RunFolder, RunLog};
+use crate::output::probes::{Probe, ProbeFiles};
+use crate::output::series::{FlowStatistics, InterfaceTracker, SeriesFile, SeriesRow};
+use crate::output::snapshot::shear_rate_field;
+use crate::output::{OutputError, SnapshotMeta, write_snapshot};
 use crate::runner::RunObserver;
 
 /// Checkpoint value names of the recorder's own bookkeeping.

@@ -9,7 +9,8 @@ use std::sync::atomic::AtomicBool;
 use std::time::{Duration, Instant};
 
 use glam::DVec2;
-use lamella_run::output::{CheckpointStore, Recorder, RunFolder};
+use lamella_run::output::{CheckpointStore, RunFolder};
+use lamella_run::recorder::Recorder;
 use lamella_run::runner::{NoProgress, run_to_end};
 
 /// A small two-layer channel (10 × 10 fluid particles, 60 wall particles) with a probe line;

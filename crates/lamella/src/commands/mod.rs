@@ -20,7 +20,7 @@ use std::sync::atomic::AtomicBool;
 
 use lamella_cells::Vector;
 use lamella_run::RunError;
-use lamella_run::output::Recorder;
+use lamella_run::recorder::Recorder;
 use lamella_run::runner::{RunSummary, run_to_end};
 use lamella_sph::Simulation;
 

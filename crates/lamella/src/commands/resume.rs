@@ -15,7 +15,8 @@ use crate::commands::{Globals, run_recorded};
 use crate::signals::interrupt_flag;
 use lamella_run::feasibility::load_case;
 use lamella_run::output::checkpoint::{checksum, outside_by};
-use lamella_run::output::{Checkpoint, CheckpointStore, Recorder, RunFolder};
+use lamella_run::output::{Checkpoint, CheckpointStore, RunFolder};
+use lamella_run::recorder::Recorder;
 use lamella_run::{RunError, setup};
 
 /// Options of `lamella resume`.

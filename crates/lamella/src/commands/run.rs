@@ -1,6 +1,6 @@
 //! `lamella run CASE --out DIR`: run a case to its end time and write its results.
 //!
-//! Writes the run folder through [`lamella_run::output::Recorder`]: snapshots, series, probes,
+//! Writes the run folder through [`lamella_run::recorder::Recorder`]: snapshots, series, probes,
 //! checkpoints and the log (layout in [`lamella_run::output::folder`]).
 
 use std::path::{Path, PathBuf};
@@ -15,7 +15,8 @@ use crate::Failure;
 use crate::commands::{Globals, run_recorded};
 use crate::signals::interrupt_flag;
 use lamella_run::feasibility::load_case;
-use lamella_run::output::{CheckpointStore, Recorder, RunFolder};
+use lamella_run::output::{CheckpointStore, RunFolder};
+use lamella_run::recorder::Recorder;
 use lamella_run::{RunError, setup};
 
 /// Options of `lamella run`.
