@@ -13,8 +13,8 @@ use std::time::Duration;
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
 use glam::DMat3;
 use glam::DVec2;
-use lamella::benchmark::standard_case;
 use lamella_cells::CellList;
+use lamella_run::benchmark::standard_case;
 use lamella_sph::forces::{ParticleMotion, RateParameters, Rates, density_rates, particle_rates};
 use lamella_sph::shear_rate::velocity_gradients;
 use lamella_sph::walls::{InteractionState, interaction_states};
@@ -28,7 +28,7 @@ fn step_and_parts(c: &mut Criterion) {
     }
     for target in [10_000usize, 100_000] {
         let case = standard_case(target).expect("standard case");
-        let mut sim: Simulation<DVec2> = lamella::setup::simulation(&case).expect("set-up");
+        let mut sim: Simulation<DVec2> = lamella_run::setup::simulation(&case).expect("set-up");
         for _ in 0..2 {
             sim.step(f64::INFINITY).expect("warm-up step");
         }

@@ -58,7 +58,7 @@ fn run_with_threads(threads: usize, case: &Case, steps: usize) -> Vec<u64> {
         .build()
         .expect("pool");
     pool.install(|| {
-        let mut sim = lamella::setup::simulation::<DVec2>(case).expect("set-up");
+        let mut sim = lamella_run::setup::simulation::<DVec2>(case).expect("set-up");
         run_steps(&mut sim, steps);
         bits(&sim)
     })
@@ -77,7 +77,7 @@ fn one_and_two_threads_give_identical_bytes() {
 fn a_run_rebuilt_from_its_parts_continues_bit_for_bit() {
     let case = lamella_case::load(&lamella_suite::cases_dir().join("two-layer-channel.ron"))
         .expect("bundled case loads");
-    let mut straight = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut straight = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     run_steps(&mut straight, 40);
     let (config, particles, time, step) = straight.clone().into_parts();
     let mut resumed = Simulation::from_parts(config, particles, time, step).expect("restore");

@@ -7,10 +7,10 @@
 //! as a profile tens of per cent off).
 
 use glam::DVec3;
-use lamella::runner::run_plain;
 use lamella_case::Axis;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
+use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
 
 #[test]
@@ -28,7 +28,7 @@ fn startup_poiseuille_in_3d_follows_the_morris_series() {
     let problems = case.validate();
     assert!(problems.is_empty(), "{problems:?}");
 
-    let mut sim = lamella::setup::simulation::<DVec3>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec3>(&case).expect("set-up");
     run_plain(&mut sim, case.time.end).expect("the 3D run finishes");
 
     let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;

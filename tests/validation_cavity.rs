@@ -8,8 +8,8 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::run_plain;
 use lamella_post::reference::cavity::{CentrelineTable, GHIA_RE100_U, GHIA_RE100_V};
+use lamella_run::runner::run_plain;
 use lamella_sph::{Kind, Particles};
 
 /// Velocity of the fluid at `x` by a kernel-weighted linear least-squares fit over the fluid
@@ -69,7 +69,7 @@ fn centreline_velocities_match_ghia_at_re_100() {
     let case = lamella_case::load(&lamella_suite::cases_dir().join("cavity-re100.ron"))
         .expect("bundled case loads");
     let started = Instant::now();
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     run_plain(&mut sim, case.time.end).unwrap_or_else(|failure| panic!("{failure}"));
     let side = case.extent(0);
     let lid = 0.1;

@@ -5,8 +5,8 @@
 //! pressure averaging (Hu & Adams 2006), with a drift and a vortex so that momentum is non-zero.
 
 use glam::DVec2;
-use lamella::runner::run_plain;
 use lamella_case::{InitialVelocity, Region, ViscosityLaw};
+use lamella_run::runner::run_plain;
 
 #[test]
 fn mass_is_exact_and_momentum_stays_at_round_off() {
@@ -25,7 +25,7 @@ fn mass_is_exact_and_momentum_stays_at_round_off() {
     case.time.end = 0.01;
     let text = lamella_case::to_ron(&case);
     let case = lamella_case::parse_str(&text, "conservation test case").expect("valid case");
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     // Add a uniform drift so the total momentum is not zero.
     let mut particles = sim.particles().clone();
     for v in &mut particles.velocity {

@@ -1,9 +1,10 @@
 //! A run that goes bad stops with a message that names the particle, the time, the position
-//! and the likely cause, keeps the last good state, and maps to exit code 1 (run failed).
+//! and the likely cause, keeps the last good state, and is a fault (the binary exits with code 1
+//! for it, see `Failure::exit_code`).
 
 use glam::DVec2;
-use lamella::Failure;
-use lamella::runner::run_plain;
+use lamella_run::RunError;
+use lamella_run::runner::run_plain;
 
 #[test]
 fn a_far_too_low_sound_speed_fails_naming_the_particle() {
@@ -11,15 +12,14 @@ fn a_far_too_low_sound_speed_fails_naming_the_particle() {
         .expect("bundled case loads");
     // Sound speed a hundredth of the flow speed: density errors grow far past the bound.
     case.scales.sound_speed = Some(4.0e-5);
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     let outcome = run_plain(&mut sim, case.time.end);
     let Err(failure) = outcome else {
         panic!("the run should have failed");
     };
     let message = failure.to_string();
     println!("{message}");
-    assert!(matches!(failure, Failure::RunFailed(_)), "{failure:?}");
-    assert_eq!(failure.exit_code(), 1);
+    assert!(matches!(failure, RunError::Fault(_)), "{failure:?}");
     assert!(message.contains("particle "), "{message}");
     assert!(message.contains("t = "), "{message}");
     assert!(message.contains("sound speed"), "{message}");

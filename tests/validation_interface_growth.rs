@@ -7,7 +7,7 @@
 //! `interface-decay.ron` (m = 10, n = 2, Re = 5, k h = π, stable) start from the steady layered
 //! profile with the interface moved by a fifth of a spacing; the amplitude and phase of the
 //! seeded Fourier mode of the interface height are measured as the run records them
-//! (`lamella::output::InterfaceTracker`), and ln A and the unwrapped phase are fitted by least
+//! (`lamella_run::output::InterfaceTracker`), and ln A and the unwrapped phase are fitted by least
 //! squares over the early, linear stage (the first 0.02 s are skipped: the seed is a pure
 //! displacement, not the eigenmode, and the other modes it excites die out). The same case
 //! seeded with `mode: Eigenmode` is fitted from t = 0 over the early window, where the
@@ -24,10 +24,10 @@
 //! −5.79 (−12.0 %), c = 0.07562 m/s against 0.07568 (−0.1 %).
 
 use glam::DVec2;
-use lamella::output::InterfaceTracker;
 use lamella_case::{Case, ChannelFlow, SeedMode};
 use lamella_post::fit::linear_fit;
 use lamella_post::stability::{ChannelScales, LayeredChannel, StabilityProblem};
+use lamella_run::output::InterfaceTracker;
 
 /// Start of the fit window (s): after the seed's other modes have died out.
 const FIT_START: f64 = 0.02;
@@ -75,7 +75,7 @@ fn bundled(name: &str) -> Case {
 /// fitted growth rate (1/s) and wave speed (m/s) over [`fit_start`, `end`].
 fn measured(case: &Case, fit_start: f64, end: f64) -> (f64, f64) {
     let tracker = InterfaceTracker::of(case).expect("the case records its interface");
-    let mut sim = lamella::setup::simulation::<DVec2>(case).expect("solver set up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(case).expect("solver set up");
     let interval = case.time.sample_interval.expect("a sample interval");
     let samples = (end / interval).round() as usize;
     let (mut time, mut log_amplitude, mut phase) = (Vec::new(), Vec::new(), Vec::new());

@@ -19,11 +19,11 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::run_plain;
 use lamella_case::{Case, PairViscosity, Region, ViscosityLaw};
 use lamella_post::convergence::fit_observed_order;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::layered::LayeredChannel;
+use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
 
 const HEIGHT: f64 = 1.2e-3;
@@ -97,7 +97,7 @@ struct Measured {
 fn run_layered(rows: usize, ratio: f64, pair: PairViscosity) -> (Measured, LayeredChannel) {
     let (case, exact) = layered_case(rows, ratio, pair);
     let started = Instant::now();
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     run_plain(&mut sim, case.time.end).unwrap_or_else(|failure| panic!("{failure}"));
     let p = sim.particles();
     let (y, u): (Vec<f64>, Vec<f64>) = (0..p.len())

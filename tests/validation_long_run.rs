@@ -34,7 +34,7 @@ fn fifty_flow_times_keep_the_mean_density_and_every_particle_on_its_side() {
         }
         _ => panic!("a two-layer channel"),
     };
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("solver set up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("solver set up");
     let reference_density: Vec<f64> = case.phases.iter().map(|p| p.density).collect();
     let checks = (case.time.end / CHECK_INTERVAL).round() as usize;
     let mut worst_mean = 0.0f64;

@@ -8,9 +8,9 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::run_plain;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
+use lamella_run::runner::run_plain;
 use lamella_sph::{Kind, Simulation};
 
 fn advance_to(sim: &mut Simulation<DVec2>, t: f64) {
@@ -50,7 +50,7 @@ fn check_startup(
 ) {
     let case = load(name);
     let started = Instant::now();
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
     let plates = PlateGap {
         gap: case.extent(1),

@@ -6,16 +6,16 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella::runner::run_plain;
 use lamella_post::fit::linear_fit;
 use lamella_post::reference::taylor_green::TaylorGreen;
+use lamella_run::runner::run_plain;
 
 #[test]
 fn kinetic_energy_decays_at_the_viscous_rate() {
     let case = lamella_case::load(&lamella_suite::cases_dir().join("taylor-green.ron"))
         .expect("bundled case loads");
     let started = Instant::now();
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
     let exact = TaylorGreen {
         side: case.extent(0),

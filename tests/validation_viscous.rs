@@ -16,10 +16,10 @@
 mod viscous_layers;
 
 use glam::DVec2;
-use lamella::runner::run_plain;
 use lamella_case::ViscosityTreatment;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
+use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
 use viscous_layers::Layers;
 
@@ -100,7 +100,7 @@ fn implicit_start_up_poiseuille_follows_the_series_solution() {
     let force = case.body_force.as_ref().expect("body force")[0];
     let rows = case.lattice_counts()[1];
     let explicit_limit = 0.125 * case.smoothing_length().powi(2) / nu;
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     let tau = gap * gap / (std::f64::consts::PI.powi(2) * nu);
     for fraction in [0.25, 0.5, 1.0] {
         let t = fraction * tau;

@@ -94,7 +94,7 @@ impl Layers {
     pub fn run(&self, treatment: ViscosityTreatment) -> Measured {
         let (case, exact) = self.case(treatment);
         let started = Instant::now();
-        let mut sim = lamella::setup::simulation::<DVec2>(&case).expect("set-up");
+        let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
         let mut iterations = 0u64;
         while sim.time() < case.time.end {
             let report = sim

@@ -379,34 +379,4 @@ impl Case {
             self.domain.upper[1] - last,
         ))
     }
-
-    /// Heap bytes per particle of a running solver (estimate), by the arrays it holds: the
-    /// state of `lamella_sph::Particles` (three vectors, four scalars, phase, kind, id), the
-    /// reorder scratch (one element of each type), the wall states (two scalars, a volume and
-    /// a vector), the rates (three vectors) and density rates (a scalar), the next state (two
-    /// vectors and a scalar), the cell list (about 10 bytes) and, with more than one viscosity,
-    /// a 3 × 3 velocity gradient. In 2D with one viscosity this is 272 bytes; `lamella bench`
-    /// measured 272–276 with its counting allocator.
-    pub fn state_bytes_per_particle(&self) -> usize {
-        let vector = 8 * self.dimension as usize;
-        let state = 3 * vector + 4 * 8 + 2 + 1 + 8;
-        let reorder_scratch = vector + 8 + 2 + 1 + 8;
-        let wall_states = 3 * 8 + vector;
-        let rates = 3 * vector + 8; // the rates, then the density rates
-        let next_state = 2 * vector + 8;
-        let cell_list = 10;
-        // A 3 × 3 velocity gradient per particle where the full viscous stress is on (more
-        // than one viscosity).
-        let gradients = if self.viscosity_contrast() > 1.0 {
-            9 * 8
-        } else {
-            0
-        };
-        state + reorder_scratch + wall_states + rates + next_state + cell_list + gradients
-    }
-
-    /// Estimated memory of a run with `particles` particles (bytes).
-    pub fn memory_estimate(&self, particles: usize) -> usize {
-        particles * self.state_bytes_per_particle()
-    }
 }

@@ -57,21 +57,6 @@ fn given_sound_speed_wins() {
 }
 
 #[test]
-fn memory_estimate_scales_with_particles() {
-    let c = case("poiseuille.ron");
-    let per = c.state_bytes_per_particle();
-    // The arrays of a 2D solver: state 91, reorder scratch 35, wall states 40, rates 56, next
-    // state 40, cell list 10 bytes (the breakdown in DEVELOPERS.md, measured by `lamella bench`).
-    assert_eq!(per, 272);
-    assert_eq!(c.memory_estimate(1000), 1000 * per);
-    // Two viscosities add a 3 × 3 velocity gradient (72 bytes) for the full viscous stress.
-    assert_eq!(
-        case("two-layer-channel.ron").state_bytes_per_particle(),
-        272 + 72
-    );
-}
-
-#[test]
 fn tracked_interface_wavelength_and_start_up() {
     let c = case("two-layer-channel-seeded.ron");
     let tracked = c.tracked_interface().expect("a layered case");

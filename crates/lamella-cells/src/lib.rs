@@ -5,6 +5,7 @@
 //! every other particle closer than the radius with its minimum-image displacement.
 //! Periodic axes need no ghost copies. 2D and 3D share one implementation over [`Vector`].
 
+mod caller_order;
 mod cell_list;
 mod domain;
 mod error;
@@ -14,6 +15,7 @@ mod prefetch;
 mod scan;
 mod vector;
 
+pub use caller_order::CallerOrder;
 pub use cell_list::{CellList, GridOptions, MAX_PARTICLES};
 pub use domain::Domain;
 pub use error::CellError;

@@ -1,7 +1,7 @@
 //! Neighbour lists in compressed rows, in the caller's particle order, built with
 //! `lamella_cells::CellList` (minimum-image separations on periodic axes).
 
-use lamella_cells::{CellError, CellList, Domain, Vector};
+use lamella_cells::{CallerOrder, CellError, Domain, Vector};
 
 /// For each centre, the points closer than the search radius and the separations
 /// r = x_centre − x_point (minimum image). A centre is never its own neighbour.
@@ -38,9 +38,9 @@ impl<V: Vector> Neighbours<V> {
     }
 
     /// Neighbours among `positions` of each of `positions`, closer than `radius`, searched with a
-    /// [`CellList`] over `domain`. Indices refer to the order of `positions`.
+    /// [`lamella_cells::CellList`] over `domain`. Indices refer to the order of `positions`.
     pub fn among(positions: &[V], domain: Domain<V>, radius: f64) -> Result<Self, CellError> {
-        let sorted = CellSorted::new(positions, domain, radius)?;
+        let sorted = CallerOrder::new(positions, domain, radius)?;
         Ok(Self::from_visits(positions.len(), |i, push| {
             sorted.for_each_neighbour(i, &mut *push);
         }))
@@ -57,7 +57,7 @@ impl<V: Vector> Neighbours<V> {
     ) -> Result<Self, CellError> {
         let mut all: Vec<V> = points.to_vec();
         all.extend_from_slice(centres);
-        let sorted = CellSorted::new(&all, domain, radius)?;
+        let sorted = CallerOrder::new(&all, domain, radius)?;
         let n = points.len();
         Ok(Self::from_visits(centres.len(), |c, push| {
             sorted.for_each_neighbour(n + c, |j, r| {
@@ -85,45 +85,6 @@ impl<V: Vector> Neighbours<V> {
             .iter()
             .copied()
             .zip(self.separation[range].iter().copied())
-    }
-}
-
-/// Positions sorted by the cells of a [`CellList`], with the way back to the caller's order.
-struct CellSorted<V: Vector> {
-    cells: CellList<V>,
-    sorted: Vec<V>,
-    /// Sorted index of each of the caller's positions.
-    rank: Vec<usize>,
-}
-
-impl<V: Vector> CellSorted<V> {
-    fn new(positions: &[V], domain: Domain<V>, radius: f64) -> Result<Self, CellError> {
-        let mut cells = CellList::new(domain, radius)?;
-        cells.rebuild(positions)?;
-        let sorted = cells
-            .permutation()
-            .iter()
-            .map(|&k| positions[k as usize])
-            .collect();
-        let mut rank = vec![0usize; positions.len()];
-        for (k, &old) in cells.permutation().iter().enumerate() {
-            rank[old as usize] = k;
-        }
-        Ok(CellSorted {
-            cells,
-            sorted,
-            rank,
-        })
-    }
-
-    /// Calls `visit(j, r_ij)` for the neighbours j of the caller's position i, in the cell
-    /// list's fixed order, with indices in the caller's order.
-    fn for_each_neighbour(&self, i: usize, mut visit: impl FnMut(usize, V)) {
-        let perm = self.cells.permutation();
-        self.cells
-            .for_each_neighbour(&self.sorted, self.rank[i], |k, r, _| {
-                visit(perm[k] as usize, r)
-            });
     }
 }
 

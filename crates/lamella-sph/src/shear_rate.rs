@@ -142,29 +142,35 @@ pub fn shear_rates<V: Vector>(
     kind: &[Kind],
     kernel: &Kernel,
 ) -> Vec<f64> {
-    (0..position.len())
-        .into_par_iter()
-        .map(|a| {
-            velocity_gradient(
-                neighbours,
-                a,
-                Flow {
-                    position,
-                    velocity,
-                    kind,
-                },
-                |b| volume[b],
-                kernel,
-                |_| true,
-                0.0,
-            )
-            .map_or(f64::NAN, |gradient| {
+    let mut rates = vec![0.0; position.len()];
+    let flow = Flow {
+        position,
+        velocity,
+        kind,
+    };
+    shear_rates_into(neighbours, flow, |b| volume[b], kernel, &mut rates);
+    rates
+}
+
+/// [`shear_rates`] into a buffer the caller keeps (one entry per particle), with the volume
+/// V_b of a neighbour from `volume` (the solver reads it from its wall-state pass).
+pub fn shear_rates_into<V: Vector>(
+    neighbours: &impl Neighbourhood<V>,
+    flow: Flow<'_, V>,
+    volume: impl Fn(usize) -> f64 + Sync,
+    kernel: &Kernel,
+    out: &mut [f64],
+) {
+    out.par_iter_mut().enumerate().for_each(|(a, rate)| {
+        *rate = velocity_gradient(neighbours, a, flow, &volume, kernel, |_| true, 0.0).map_or(
+            f64::NAN,
+            |gradient| {
                 let rate_of_strain = (gradient + gradient.transpose()) * 0.5;
                 let double_dot: f64 = rate_of_strain.to_cols_array().iter().map(|d| d * d).sum();
                 (2.0 * double_dot).sqrt()
-            })
-        })
-        .collect()
+            },
+        );
+    });
 }
 
 #[cfg(test)]

@@ -43,11 +43,20 @@ use crate::forces::{
 };
 use crate::implicit_viscosity::{SolverScratch, ViscosityTreatment, ViscousOperator, solve};
 use crate::kernel::Kernel;
-use crate::particles::{Kind, Particles, ReorderScratch};
-use crate::shear_rate::velocity_gradients;
+use crate::particles::{FieldMut, Kind, Particles, ReorderScratch};
+use crate::shear_rate::{Flow, shear_rates_into, velocity_gradients};
 use crate::shifting::{Regularisation, shift};
 use crate::time_step::{Limit, TimeStepFactors, stable_time_step};
+use crate::viscosity::{ViscosityLaw, update_viscosities};
 use crate::walls::{InteractionState, interaction_states};
+
+/// Density-diffusion coefficient δ of the δ-SPH term when a case does not choose one
+/// (Antuono et al. 2010, Comput. Phys. Commun. 181: 0.1, common practice).
+pub const DEFAULT_DENSITY_DIFFUSION: f64 = 0.1;
+
+/// Heap bytes per particle of the cell list (its cell ranges and the permutation), about 10
+/// at the usual spacings; measured by `lamella bench` with the rest of the simulation.
+const CELL_LIST_BYTES_PER_PARTICLE: usize = 10;
 
 /// Everything the solver needs besides the particle state. Fixed for a run.
 #[derive(Clone, Debug, PartialEq)]
@@ -58,11 +67,15 @@ pub struct SolverConfig<V: Vector> {
     pub state_law: StateLaw,
     /// Reference density ρ0 of each phase (kg/m³), indexed by `Particles::phase`.
     pub reference_density: Vec<f64>,
+    /// Viscosity law of each phase, indexed by `Particles::phase`; every step sets each fluid
+    /// particle's viscosity from it ([`crate::viscosity::update_viscosities`]).
+    pub viscosity_laws: Vec<ViscosityLaw>,
     /// Pair viscosity rule.
     pub pair_viscosity: PairViscosity,
     /// Body force per unit mass (m/s²).
     pub body_force: V,
-    /// Density-diffusion coefficient δ (0.1 is common practice, 0 disables it).
+    /// Density-diffusion coefficient δ ([`DEFAULT_DENSITY_DIFFUSION`] is common practice, 0
+    /// disables it).
     pub density_diffusion: f64,
     /// Factor on the viscous term; [`crate::forces::lattice_viscous_normalisation`] of the
     /// initial lattice makes it exact for quadratic profiles, 1 leaves Morris's form unchanged.
@@ -128,6 +141,14 @@ pub enum SetupError {
     /// The neighbour search refused the domain or the particles.
     #[error("neighbour search: {0}")]
     Cells(#[from] CellError),
+    /// The phases have reference densities but not as many viscosity laws.
+    #[error("{laws} viscosity laws for {phases} phases; give one law per phase")]
+    ViscosityLaws {
+        /// Viscosity laws configured.
+        laws: usize,
+        /// Phases with a reference density.
+        phases: usize,
+    },
     /// The initial state of the case could not be built; the message says why.
     #[error("initial state: {0}")]
     InitialState(String),
@@ -144,6 +165,8 @@ struct Scratch<V: Vector> {
     /// Velocity gradient of each particle, when the full viscous stress is on.
     gradients: Vec<DMat3>,
     density_rates: Vec<f64>,
+    /// Shear rate of each particle, when a viscosity law depends on it (empty otherwise).
+    shear_rate: Vec<f64>,
     /// Shifting velocity δv of each particle (empty when particles are not shifted).
     shift_velocity: Vec<V>,
     next_position: Vec<V>,
@@ -167,6 +190,52 @@ pub struct Simulation<V: Vector> {
 }
 
 impl<V: Vector> Simulation<V> {
+    /// Heap bytes per particle of a running simulation, from the sizes of the arrays it holds:
+    /// every field of [`Particles`] (through [`Particles::for_each_field`]), the reorder
+    /// scratch (one element of each type), the wall states, the rates and density rates, the
+    /// next state (two vectors and a density), the cell list, with `full_viscous_stress` a
+    /// 3 × 3 velocity gradient and with `implicit_viscosity` the work space of the viscous
+    /// solve (the kicked velocity, five conjugate-gradient vectors and the diagonal).
+    /// Transient buffers of a step (shifting) are not counted.
+    pub fn heap_bytes_per_particle(full_viscous_stress: bool, implicit_viscosity: bool) -> usize {
+        use std::mem::size_of;
+        let mut one = Particles::<V>::default();
+        one.for_each_field_mut(|_, field| match field {
+            FieldMut::Vectors(v) => v.push(V::ZERO),
+            FieldMut::Scalars(v) => v.push(0.0),
+            FieldMut::Phases(v) => v.push(0),
+            FieldMut::Kinds(v) => v.push(Kind::Fluid),
+            FieldMut::Ids(v) => v.push(0),
+        });
+        let mut state = 0;
+        one.for_each_field(|_, field| state += field.bytes());
+        let reorder_scratch = size_of::<V>()
+            + size_of::<f64>()
+            + size_of::<u16>()
+            + size_of::<Kind>()
+            + size_of::<u64>();
+        let wall_states = size_of::<InteractionState<V>>();
+        let rates = size_of::<Rates<V>>() + size_of::<f64>();
+        let next_state = 2 * size_of::<V>() + size_of::<f64>();
+        let gradients = if full_viscous_stress {
+            size_of::<DMat3>()
+        } else {
+            0
+        };
+        state
+            + reorder_scratch
+            + wall_states
+            + rates
+            + next_state
+            + CELL_LIST_BYTES_PER_PARTICLE
+            + gradients
+            + if implicit_viscosity {
+                6 * size_of::<V>() + size_of::<f64>()
+            } else {
+                0
+            }
+    }
+
     /// A simulation at time zero.
     pub fn new(config: SolverConfig<V>, particles: Particles<V>) -> Result<Self, SetupError> {
         Self::from_parts(config, particles, 0.0, 0)
@@ -190,6 +259,12 @@ impl<V: Vector> Simulation<V> {
                 id: particles.id[i],
                 phase: particles.phase[i],
                 count,
+            });
+        }
+        if config.viscosity_laws.len() != count {
+            return Err(SetupError::ViscosityLaws {
+                laws: config.viscosity_laws.len(),
+                phases: count,
             });
         }
         let cells = CellList::new(config.search_domain, config.kernel.support_radius())?;
@@ -275,6 +350,35 @@ impl<V: Vector> Simulation<V> {
             });
     }
 
+    /// The viscosity-law plug-in point: when a phase's law depends on the shear rate, writes
+    /// every particle's shear rate into scratch ([`shear_rates_into`], volumes from the wall
+    /// states); then sets each fluid particle's viscosity from its phase's law. A Newtonian
+    /// law writes back the same constant, so those runs are unchanged bit for bit.
+    fn update_viscosities(&mut self) {
+        let laws = &self.config.viscosity_laws;
+        let p = &mut self.particles;
+        let shear_rate = &mut self.scratch.shear_rate;
+        if laws.iter().any(ViscosityLaw::depends_on_shear_rate) {
+            shear_rate.resize(p.len(), 0.0);
+            let states: &[InteractionState<V>] = &self.scratch.seen;
+            let flow = Flow {
+                position: &p.position,
+                velocity: &p.velocity,
+                kind: &p.kind,
+            };
+            shear_rates_into(
+                &self.cells,
+                flow,
+                |b| states[b].volume,
+                &self.config.kernel,
+                shear_rate,
+            );
+        } else {
+            shear_rate.clear();
+        }
+        update_viscosities(laws, &p.phase, &p.kind, shear_rate, &mut p.viscosity);
+    }
+
     /// Advances by one stable step, cut short so as not to pass the simulated time `until` (s);
     /// a step that reaches `until` ends exactly on it.
     ///
@@ -285,6 +389,7 @@ impl<V: Vector> Simulation<V> {
             return Err(self.search_fault(error));
         }
         self.evaluate_interaction_states();
+        self.update_viscosities();
         let n = self.particles.len();
         let Scratch {
             inverse_reference_density,
@@ -603,6 +708,7 @@ mod tests {
                 background_pressure: 0.0,
             },
             reference_density: vec![1000.0],
+            viscosity_laws: vec![ViscosityLaw::Newtonian { viscosity: 0.0 }],
             pair_viscosity: PairViscosity::Harmonic,
             body_force: DVec2::ZERO,
             density_diffusion: 0.0,
@@ -648,6 +754,9 @@ mod tests {
                 background_pressure: 0.0,
             },
             reference_density: vec![1000.0],
+            viscosity_laws: vec![ViscosityLaw::Newtonian {
+                viscosity: 1000.0 * nu,
+            }],
             pair_viscosity: PairViscosity::Harmonic,
             body_force: DVec2::ZERO,
             density_diffusion: 0.0,
@@ -767,6 +876,31 @@ mod tests {
             resumed.step(f64::INFINITY).unwrap();
         }
         assert_eq!(whole.particles(), resumed.particles());
+    }
+
+    #[test]
+    fn bytes_per_particle_follow_the_arrays() {
+        // 2D: state 91 (three vectors, four scalars, phase, kind, id), reorder scratch 35,
+        // wall states 40, rates and density rates 56, next state 40, cell list 10.
+        assert_eq!(
+            Simulation::<DVec2>::heap_bytes_per_particle(false, false),
+            272
+        );
+        assert_eq!(
+            Simulation::<DVec2>::heap_bytes_per_particle(true, false),
+            272 + 72
+        );
+        // The implicit viscous solve: six vectors and a scalar more.
+        assert_eq!(
+            Simulation::<DVec2>::heap_bytes_per_particle(false, true),
+            272 + 6 * 16 + 8
+        );
+        // 3D: every vector is 8 bytes longer (three in the state, one each in the reorder
+        // scratch and the wall states, three in the rates, two in the next state).
+        assert_eq!(
+            Simulation::<glam::DVec3>::heap_bytes_per_particle(false, false),
+            272 + 10 * 8
+        );
     }
 
     #[test]

@@ -3,10 +3,10 @@
 use std::num::NonZeroUsize;
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand};
+use clap::Parser;
 
 use crate::Failure;
-use crate::commands;
+use crate::commands::{self, Command, Globals};
 
 /// Lamella: layered flows of immiscible viscous liquids by weakly-compressible SPH.
 ///
@@ -26,40 +26,6 @@ pub struct Cli {
 
     #[command(subcommand)]
     pub command: Command,
-}
-
-/// Options every subcommand sees.
-#[derive(Clone, Copy, Debug)]
-pub struct Globals {
-    /// Print errors only.
-    pub quiet: bool,
-}
-
-/// The subcommands, each defined in its own module under `commands/`.
-#[derive(Debug, Subcommand)]
-pub enum Command {
-    /// Validate a case file and print what the run will involve.
-    Check(commands::check::Args),
-    /// Write a commented starter case file from a template.
-    New(commands::new::Args),
-    /// Run a case and write its results to a run folder.
-    Run(commands::run::Args),
-    /// Continue an interrupted run from the newest valid checkpoint in its run folder.
-    Resume(commands::resume::Args),
-    /// Predicted growth rates of layered channel flow from linear stability theory.
-    Stability(commands::stability::Args),
-    /// Velocity profile across the channel of a run, against the analytical profile.
-    Profile(commands::profile::Args),
-    /// Run a case at several spacings and fit the observed order of convergence.
-    Converge(commands::converge::Args),
-    /// Growth rate and wave speed of the interface mode a run recorded, with 95 % intervals.
-    Growth(commands::growth::Args),
-    /// Mixing measures of a run: segregation, Lacey index, mixing entropy, FTLE.
-    Mix(commands::mix::Args),
-    /// Measure solver throughput (particle-steps per second) and memory on this machine.
-    Bench(commands::bench::Args),
-    /// Predict the wall time and memory of a case on this machine from a short calibration.
-    Estimate(commands::estimate::Args),
 }
 
 /// Parses the command line, runs the subcommand and turns the outcome into an exit code.

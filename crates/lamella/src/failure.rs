@@ -1,28 +1,65 @@
-//! Failures of a command and the documented exit codes they map to.
+//! Failures of a command and the documented exit codes they map to. [`Failure::exit_code`] is
+//! the only place that decides an exit code.
 
 use std::process::ExitCode;
 
-/// Why a command did not succeed. Each variant has a fixed, documented exit code.
+use lamella_case::CaseError;
+use lamella_run::RunError;
+use lamella_run::output::OutputError;
+
+/// Why a command did not succeed.
 #[derive(Debug, thiserror::Error)]
 pub enum Failure {
-    /// The input (case file, option, run folder, checkpoint) is wrong. Exit code 2.
+    /// An option, an argument or a file the command reads is wrong; the message says how.
     #[error("{0}")]
     BadInput(String),
-    /// The run itself failed (the solution went bad, a file could not be written). Exit code 1.
+    /// The command could not do its work (the report could not be printed, a measurement
+    /// failed); the message says why.
     #[error("{0}")]
     RunFailed(String),
-    /// Stopped by SIGINT/SIGTERM after saving what was needed to resume. Exit code 130.
-    #[error("{0}")]
-    Interrupted(String),
+    /// The case file is invalid or asks too much of this machine; every problem is listed.
+    #[error("{count} in the case file:\n{0}", count = problem_count(.0))]
+    Case(#[from] CaseError),
+    /// Setting up, running or writing a run, or reading a run folder, failed.
+    #[error(transparent)]
+    Run(#[from] RunError),
+}
+
+fn problem_count(err: &CaseError) -> String {
+    match err.problems.len() {
+        1 => "1 problem".to_string(),
+        n => format!("{n} problems"),
+    }
+}
+
+impl From<OutputError> for Failure {
+    fn from(err: OutputError) -> Self {
+        Failure::Run(RunError::Output(err))
+    }
 }
 
 impl Failure {
-    /// The process exit code for this failure: 1 run failed, 2 bad input, 130 interrupted.
+    /// The process exit code of this failure, as the README documents it: 1 the run failed
+    /// (the solution went bad, a file could not be written), 2 bad input (case file, option,
+    /// run folder, checkpoint), 130 interrupted after saving what is needed to resume.
     pub fn exit_code(&self) -> u8 {
+        const FAILED: u8 = 1;
+        const BAD_INPUT: u8 = 2;
+        const INTERRUPTED: u8 = 130;
         match self {
-            Failure::RunFailed(_) => 1,
-            Failure::BadInput(_) => 2,
-            Failure::Interrupted(_) => 130,
+            Failure::BadInput(_) | Failure::Case(_) => BAD_INPUT,
+            Failure::RunFailed(_) => FAILED,
+            Failure::Run(err) => match err {
+                RunError::Case(_) | RunError::Setup(_) => BAD_INPUT,
+                RunError::Fault(_) => FAILED,
+                RunError::Interrupted { .. } => INTERRUPTED,
+                RunError::Output(output) => match output {
+                    OutputError::Write { .. } | OutputError::Neighbours(_) => FAILED,
+                    OutputError::Read { .. }
+                    | OutputError::Invalid { .. }
+                    | OutputError::Folder(_) => BAD_INPUT,
+                },
+            },
         }
     }
 }
@@ -35,12 +72,62 @@ impl From<Failure> for ExitCode {
 
 #[cfg(test)]
 mod tests {
+    use std::io;
+    use std::path::Path;
+
     use super::*;
 
     #[test]
     fn exit_codes_match_the_readme() {
         assert_eq!(Failure::RunFailed(String::new()).exit_code(), 1);
         assert_eq!(Failure::BadInput(String::new()).exit_code(), 2);
-        assert_eq!(Failure::Interrupted(String::new()).exit_code(), 130);
+        let interrupted = RunError::Interrupted { time: 1.0, step: 3 };
+        assert_eq!(Failure::from(interrupted).exit_code(), 130);
+        assert_eq!(Failure::from(RunError::Fault("nan".into())).exit_code(), 1);
+        assert_eq!(
+            Failure::from(RunError::Case("too small".into())).exit_code(),
+            2
+        );
+    }
+
+    #[test]
+    fn a_full_disk_is_explained_and_is_a_failed_run() {
+        let err = OutputError::write(Path::new("out/x.bin"), io::ErrorKind::StorageFull.into());
+        let text = err.to_string();
+        assert!(
+            text.contains("out/x.bin") && text.contains("disk is full"),
+            "{text}"
+        );
+        assert_eq!(Failure::from(err).exit_code(), 1);
+    }
+
+    #[test]
+    fn invalid_files_are_bad_input() {
+        let err = OutputError::invalid(Path::new("c.bin"), "checkpoint", "checksum mismatch");
+        assert_eq!(
+            err.to_string(),
+            "c.bin is not a valid checkpoint: checksum mismatch"
+        );
+        assert_eq!(Failure::from(err).exit_code(), 2);
+    }
+
+    #[test]
+    fn case_problems_are_counted_and_bad_input() {
+        let err = CaseError {
+            origin: "c.ron".into(),
+            problems: vec![lamella_case::Problem::value(
+                "time.end",
+                "-1",
+                "a positive time",
+            )],
+        };
+        let failure = Failure::from(err);
+        assert!(
+            failure
+                .to_string()
+                .starts_with("1 problem in the case file:\n"),
+            "{failure}"
+        );
+        assert_eq!(failure.exit_code(), 2);
     }
 }

@@ -3,6 +3,7 @@
 //! bytes rather than estimates. The counts are heap bytes requested by the program; the
 //! resident size the operating system reports also holds the code, stacks and allocator slack.
 
+use lamella_run::benchmark::HeapMeter;
 use peak_alloc::PeakAlloc;
 
 #[global_allocator]
@@ -23,50 +24,71 @@ pub fn reset_peak() {
     COUNTING_ALLOCATOR.reset_peak_usage();
 }
 
-/// The machine's physical memory in bytes (`MemTotal` of `/proc/meminfo` on Linux); `None`
-/// where the system does not say, and then no memory check is made.
-pub fn machine_bytes() -> Option<u64> {
-    let text = std::fs::read_to_string("/proc/meminfo").ok()?;
-    meminfo_total(&text)
+/// The counting allocator seen by the library's benchmark ([`lamella_run::benchmark`]).
+pub struct Counter;
+
+impl HeapMeter for Counter {
+    fn current_bytes(&self) -> usize {
+        current_bytes()
+    }
+    fn peak_bytes(&self) -> usize {
+        peak_bytes()
+    }
+    fn reset_peak(&self) {
+        reset_peak();
+    }
 }
 
-/// `MemTotal` of a `/proc/meminfo` text, in bytes (the file gives kB, meaning KiB; see
-/// proc(5) of the Linux man-pages).
-fn meminfo_total(text: &str) -> Option<u64> {
-    let line = text.lines().find(|l| l.starts_with("MemTotal:"))?;
-    let kib: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
-    kib.checked_mul(1024)
-}
-
-/// Held by the tests that measure the heap, so that they do not run at the same time.
+/// Held by the tests that measure the heap, and by the tests of this binary that allocate and
+/// free much (stability solves), so that none runs while the heap is measured.
 #[cfg(test)]
 pub(crate) static MEASURING: std::sync::Mutex<()> = std::sync::Mutex::new(());
 
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn meminfo_total_is_read_in_bytes() {
-        // The first lines of /proc/meminfo as proc(5) shows them.
-        let text = "MemTotal:       23986124 kB\nMemFree:         1234567 kB\n";
-        assert_eq!(meminfo_total(text), Some(23_986_124 * 1024));
-        assert_eq!(meminfo_total("MemFree: 1 kB\n"), None);
-        if cfg!(target_os = "linux") {
-            assert!(machine_bytes().is_some_and(|b| b > 1 << 20));
-        }
-    }
+    use lamella_run::benchmark::{standard_case, time_steps};
 
     #[test]
     fn a_large_allocation_raises_the_peak_by_its_size() {
         let _measuring = MEASURING.lock().unwrap_or_else(|e| e.into_inner());
         reset_peak();
-        let before = peak_bytes();
         let block = vec![1u8; 64 << 20];
         std::hint::black_box(&block);
         let during = peak_bytes();
         drop(block);
-        // Other test threads allocate too, so only a lower bound is certain.
-        assert!(during >= before + (64 << 20), "{before} -> {during}");
+        // The block is in use when the peak is read, so the peak holds at least its size
+        // whatever other test threads allocate or free meanwhile (the thread-local buffers of
+        // the stability solves are freed when their threads end, after any lock is released).
+        assert!(
+            during >= 64 << 20,
+            "peak {during} bytes with a 64 MiB block in use"
+        );
+    }
+
+    #[test]
+    fn timing_reports_steps_and_memory() {
+        let _measuring = MEASURING.lock().unwrap_or_else(|e| e.into_inner());
+        let case = standard_case(1_000).unwrap();
+        let timing = time_steps::<glam::DVec2>(&case, 3, 2, &Counter).unwrap();
+        assert_eq!(timing.seconds_per_step.len(), 2);
+        assert!(timing.particles > 1_000);
+        assert!(timing.mean_time_step > 0.0);
+        // The particle arrays alone hold more than 100 bytes per particle.
+        assert!(timing.peak_bytes_per_particle() > 100.0);
+    }
+
+    #[test]
+    fn measured_memory_agrees_with_the_case_estimate() {
+        let _measuring = MEASURING.lock().unwrap_or_else(|e| e.into_inner());
+        let case = standard_case(20_000).unwrap();
+        let timing = time_steps::<glam::DVec2>(&case, 1, 1, &Counter).unwrap();
+        let estimate = lamella_run::setup::heap_bytes_per_particle(&case) as f64;
+        let measured = timing.peak_bytes_per_particle();
+        // Set-up transients and other test threads' allocations only add to the peak.
+        assert!(
+            measured > 0.95 * estimate && measured < 1.25 * estimate,
+            "measured {measured:.0} B/particle, estimated {estimate}"
+        );
     }
 }

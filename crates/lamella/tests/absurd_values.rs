@@ -138,7 +138,7 @@ fn absurd_case_values_are_refused_by_check_and_run_alike_naming_file_and_field()
 
 #[test]
 fn a_spacing_beyond_this_machines_memory_is_refused_with_both_sizes() {
-    let Some(machine) = lamella::memory::machine_bytes() else {
+    let Some(machine) = lamella_run::feasibility::machine_bytes() else {
         return; // The system does not say its memory: no check is made (documented).
     };
     let dir = tempfile::tempdir().unwrap();

@@ -6,7 +6,7 @@ use std::path::Path;
 use std::process::{Command, Output};
 
 use glam::DVec3;
-use lamella::output::{SnapshotMeta, read_snapshot, write_snapshot};
+use lamella_run::output::{SnapshotMeta, read_snapshot, write_snapshot};
 use lamella_sph::{Kind, Particles};
 
 /// A small two-layer channel, 0.5 ms (a few snapshots).

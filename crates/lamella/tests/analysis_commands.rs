@@ -15,10 +15,10 @@ use std::process::{Command, Output};
 use std::sync::atomic::AtomicBool;
 
 use glam::DVec2;
-use lamella::runner::{NoObserver, ProgressMode, run_to_end};
 use lamella_case::{Case, Region, ViscosityLaw};
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::layered::LayeredChannel;
+use lamella_run::runner::{NoObserver, NoProgress, run_to_end};
 use lamella_sph::Kind;
 
 fn cases_dir() -> PathBuf {
@@ -100,13 +100,13 @@ fn profile_reproduces_the_validation_error_and_growth_refuses_a_run_without_the_
 
     // The validation's own measurement, from the in-memory particles of the same case.
     let case = lamella_case::parse_str(&lamella_case::to_ron(&case), "again").unwrap();
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).unwrap();
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).unwrap();
     run_to_end(
         &mut sim,
         case.time.end,
         &mut NoObserver,
         &AtomicBool::new(false),
-        ProgressMode::Silent,
+        &mut NoProgress,
     )
     .unwrap();
     let p = sim.particles();

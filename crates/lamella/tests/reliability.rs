@@ -9,8 +9,8 @@ use std::process::{Child, Command, Output, Stdio};
 use std::time::{Duration, Instant};
 
 use glam::DVec2;
-use lamella::output::checkpoint::PAUSE_HOOK_ENV;
-use lamella::output::{CheckpointStore, RunFolder};
+use lamella_run::output::checkpoint::PAUSE_HOOK_ENV;
+use lamella_run::output::{CheckpointStore, RunFolder};
 
 /// A small two-layer channel (10 × 10 fluid particles); `END` is filled in per test.
 const CASE: &str = r#"
@@ -366,7 +366,7 @@ fn a_run_folder_in_use_is_refused_naming_its_holder_and_a_killed_holder_frees_it
 
 #[test]
 fn a_foreign_or_impossible_newest_checkpoint_is_named_and_the_older_valid_one_used() {
-    use lamella::output::checkpoint::{decode, encode};
+    use lamella_run::output::checkpoint::{decode, encode};
     let dir = tempfile::tempdir().unwrap();
     let case = write_case(dir.path(), 8.0);
     let other_dir = dir.path().join("other");

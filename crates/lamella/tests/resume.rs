@@ -9,8 +9,9 @@ use std::sync::atomic::AtomicBool;
 use std::time::{Duration, Instant};
 
 use glam::DVec2;
-use lamella::output::{CheckpointStore, Recorder, RunFolder};
-use lamella::runner::{ProgressMode, run_to_end};
+use lamella_run::output::{CheckpointStore, RunFolder};
+use lamella_run::recorder::Recorder;
+use lamella_run::runner::{NoProgress, run_to_end};
 
 /// A small two-layer channel (10 × 10 fluid particles, 60 wall particles) with a probe line;
 /// `{end}` and `{minutes}` are filled in per test.
@@ -149,7 +150,7 @@ fn assert_same_results(straight: &Path, resumed: &Path) {
 /// as the library's run loop does, which ends with a checkpoint at T.
 fn run_to_half(case_path: &Path, text: &str, out: &Path) {
     let case = lamella_case::load(case_path).unwrap();
-    let mut sim = lamella::setup::simulation::<DVec2>(&case).unwrap();
+    let mut sim = lamella_run::setup::simulation::<DVec2>(&case).unwrap();
     let mut recorder = Recorder::<DVec2>::start(out, false, &case, text, "layers").unwrap();
     let half = 4.0 * SNAPSHOT_INTERVAL;
     run_to_end(
@@ -157,7 +158,7 @@ fn run_to_half(case_path: &Path, text: &str, out: &Path) {
         half,
         &mut recorder,
         &AtomicBool::new(false),
-        ProgressMode::Silent,
+        &mut NoProgress,
     )
     .unwrap();
     assert!(sim.time() == half);
@@ -255,7 +256,7 @@ fn sigkill_in_the_middle_of_a_checkpoint_write_leaves_a_resumable_run() {
 
     let killed = dir.path().join("killed");
     let mut child = lamella()
-        .env(lamella::output::checkpoint::PAUSE_HOOK_ENV, "5")
+        .env(lamella_run::output::checkpoint::PAUSE_HOOK_ENV, "5")
         .arg("run")
         .arg(&case_path)
         .arg("--out")

@@ -7,9 +7,8 @@ use std::path::{Path, PathBuf};
 use lamella_case::Case;
 
 use crate::Failure;
-use crate::output::atomic::write_atomically;
-use crate::output::collection::{Collection, Entry};
-use crate::output::{RunFolder, Snapshot, read_snapshot};
+use lamella_run::output::collection::{Collection, Entry};
+use lamella_run::output::{RunFolder, Snapshot, read_snapshot};
 
 /// A finished (or running) run folder with its case and snapshot list.
 pub struct Run {
@@ -24,7 +23,7 @@ pub struct Run {
 impl Run {
     /// Opens `dir`: it must hold `case.ron` and at least one snapshot.
     pub fn open(dir: &Path) -> Result<Self, Failure> {
-        let folder = RunFolder::open(dir).map_err(|e| Failure::BadInput(e.to_string()))?;
+        let folder = RunFolder::open(dir)?;
         let case =
             lamella_case::load(&folder.case()).map_err(|e| Failure::BadInput(e.to_string()))?;
         let collection = Collection::read(&folder.collection()).map_err(|e| {
@@ -51,7 +50,7 @@ impl Run {
     /// Reads snapshot `entry`; one of another dimension than the case is bad input.
     pub fn read(&self, entry: &Entry) -> Result<Snapshot, Failure> {
         let path = self.folder.snapshots().join(&entry.file);
-        let snapshot = read_snapshot(&path).map_err(|e| Failure::BadInput(e.to_string()))?;
+        let snapshot = read_snapshot(&path)?;
         if snapshot.dimension != self.case.dimension as usize {
             return Err(Failure::BadInput(format!(
                 "{} is a {}D snapshot but the run's case {} is {}D; the snapshot belongs to \
@@ -102,7 +101,7 @@ pub fn analysis_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf
 /// Opens the run folder `dir` and reads its case copy; unlike [`Run::open`] it needs no
 /// snapshot (for the analyses of `series.csv`).
 pub fn open_case(dir: &Path) -> Result<(RunFolder, Case), Failure> {
-    let folder = RunFolder::open(dir).map_err(|e| Failure::BadInput(e.to_string()))?;
+    let folder = RunFolder::open(dir)?;
     let case = lamella_case::load(&folder.case()).map_err(|e| Failure::BadInput(e.to_string()))?;
     Ok((folder, case))
 }
@@ -163,12 +162,6 @@ pub fn read_columns(path: &Path, names: &[&str], hint: &str) -> Result<Vec<Vec<f
         }
     }
     Ok(columns)
-}
-
-/// Writes `bytes` to `path` atomically (never a half-written file).
-pub fn write_file(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
-    write_atomically(path, |w| std::io::Write::write_all(w, bytes))
-        .map_err(|e| Failure::RunFailed(e.to_string()))
 }
 
 /// Parses "a,b,c" into numbers, naming the option on failure.

@@ -6,10 +6,10 @@ use std::num::NonZeroUsize;
 use glam::DVec2;
 use serde::Serialize;
 
-use crate::Failure;
-use crate::benchmark::{STANDARD_TEMPLATE, Timing, standard_case, time_steps};
-use crate::cli::Globals;
+use crate::commands::Globals;
 use crate::commands::analysis::parse_list;
+use crate::{Failure, memory};
+use lamella_run::benchmark::{STANDARD_TEMPLATE, Timing, standard_case, time_steps};
 
 /// Particle-steps each timed repeat aims at when `--steps` is not given.
 const PARTICLE_STEPS_PER_REPEAT: f64 = 2.0e6;
@@ -104,8 +104,9 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
                 .map_err(|err| {
                     Failure::BadInput(format!("cannot start {threads} worker threads: {err}"))
                 })?;
-            let timing: Timing =
-                pool.install(|| time_steps::<DVec2>(&case, steps, args.repeats.get()))?;
+            let timing: Timing = pool.install(|| {
+                time_steps::<DVec2>(&case, steps, args.repeats.get(), &memory::Counter)
+            })?;
             let seconds = timing.median_seconds_per_step();
             if threads == 1 {
                 single_thread = Some(seconds);

@@ -4,12 +4,12 @@ use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
 use glam::{DVec2, DVec3};
-use lamella_case::{Case, CaseError, Generated, ViscosityTreatment, generate};
+use lamella_case::{Case, Generated, ViscosityTreatment, generate};
 use lamella_sph::Limit;
 
 use crate::Failure;
-use crate::cli::Globals;
-use crate::feasibility;
+use crate::commands::Globals;
+use lamella_run::feasibility::{self, load_case};
 
 /// Largest particle count `check` generates to count exactly; above it, counts are estimated.
 const COUNT_BY_GENERATION_LIMIT: f64 = 2.0e7;
@@ -33,26 +33,6 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         crate::console::report_text(format_args!("{}", summary(&args.case, &case)))?;
     }
     Ok(())
-}
-
-/// Loads and validates a case file, then checks that it can finish and fits in this machine's
-/// memory ([`crate::feasibility`]); every problem becomes one line of a bad-input failure.
-/// Every command that reads a case goes through here, so `check` and `run` agree.
-pub(crate) fn load_case(path: &Path) -> Result<Case, Failure> {
-    let refuse = |err: CaseError| {
-        let count = err.problems.len();
-        let noun = if count == 1 { "problem" } else { "problems" };
-        Failure::BadInput(format!("{count} {noun} in the case file:\n{err}"))
-    };
-    let case = lamella_case::load(path).map_err(refuse)?;
-    let problems = feasibility::problems(&case);
-    if !problems.is_empty() {
-        return Err(refuse(CaseError {
-            origin: path.display().to_string(),
-            problems,
-        }));
-    }
-    Ok(case)
 }
 
 /// Particle counts of a case.
@@ -234,12 +214,13 @@ fn summary(path: &Path, case: &Case) -> String {
     if let Some(warning) = cost_warning(case, steps, counts.total(), limit) {
         let _ = writeln!(s, "  warning: {warning}");
     }
-    let bytes = case.memory_estimate(counts.total());
+    let per_particle = lamella_run::setup::heap_bytes_per_particle(case);
+    let bytes = counts.total() * per_particle;
     let _ = writeln!(
         s,
-        "  memory        ≈ {:.1} MB ({} bytes per particle; `lamella estimate` measures it)",
+        "  memory        ≈ {:.1} MB ({per_particle} bytes per particle; `lamella estimate` \
+         measures it)",
         bytes as f64 / 1.0e6,
-        case.state_bytes_per_particle()
     );
     for warning in case.warnings() {
         let _ = writeln!(s, "  warning: {warning}");

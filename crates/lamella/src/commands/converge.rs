@@ -16,15 +16,16 @@ use lamella_post::plot::{Chart, Series, Style};
 use lamella_post::table::csv_document;
 
 use crate::Failure;
-use crate::cli::Globals;
-use crate::commands::analysis::{parse_list, write_file};
-use crate::commands::check::load_case;
+use crate::commands::Globals;
+use crate::commands::analysis::parse_list;
 use crate::commands::growth::{DEFAULT_MIN_R2, FitArgs, measure, period_line};
 use crate::commands::profile::profile;
 use crate::commands::stability::predicted_mode;
-use crate::output::{InterfaceTracker, RunFolder};
-use crate::reference::channel_reference;
 use lamella_case::Case;
+use lamella_run::feasibility::load_case;
+use lamella_run::output::atomic::write_bytes;
+use lamella_run::output::{InterfaceTracker, RunFolder};
+use lamella_run::reference::channel_reference;
 
 /// Options of `lamella converge`.
 #[derive(Debug, clap::Args)]
@@ -98,7 +99,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         let path = out.join(format!("{stem}-dx{k}.ron"));
         lamella_case::parse_str(&text, &path.display().to_string())
             .map_err(|e| Failure::BadInput(format!("spacing {dx:e} m: {e}")))?;
-        write_file(&path, text.as_bytes())?;
+        write_bytes(&path, text.as_bytes())?;
         runs.push((dx, path, out.join(format!("run-dx{k}"))));
     }
     let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
@@ -217,7 +218,7 @@ fn summarise_waves(
         &columns.iter().map(Vec::as_slice).collect::<Vec<_>>(),
     )
     .map_err(Failure::RunFailed)?;
-    write_file(&out.join("growth_convergence.csv"), csv.as_bytes())?;
+    write_bytes(&out.join("growth_convergence.csv"), csv.as_bytes())?;
     if !globals.quiet {
         crate::report!(
             "theory: growth rate {rate:.4e} 1/s, wave speed {speed:.4e} m/s; wrote {}",
@@ -241,7 +242,7 @@ fn summarise(
         &[dx, l2, max],
     )
     .map_err(Failure::RunFailed)?;
-    write_file(&out.join("convergence.csv"), csv.as_bytes())?;
+    write_bytes(&out.join("convergence.csv"), csv.as_bytes())?;
     let fitted: Vec<f64> = dx.iter().map(|&d| fit.predict(d)).collect();
     let chart = Chart {
         title: format!("{title}: observed order {:.2}", fit.order),
@@ -267,7 +268,7 @@ fn summarise(
     let png = chart
         .to_png(800, 600)
         .map_err(|e| Failure::RunFailed(e.to_string()))?;
-    write_file(&out.join("convergence.png"), &png)?;
+    write_bytes(&out.join("convergence.png"), &png)?;
     if !globals.quiet {
         for (d, e) in dx.iter().zip(l2) {
             crate::report!("spacing {d:e} m: relative L2 error {e:.4e}")?;

@@ -10,10 +10,11 @@ use lamella_case::Case;
 use lamella_cells::Vector;
 use lamella_sph::{Kind, Limit, Simulation};
 
-use crate::cli::Globals;
-use crate::commands::check::load_case;
-use crate::output::snapshot::{SnapshotMeta, shear_rate_field, write_snapshot};
-use crate::{Failure, memory, setup};
+use crate::commands::Globals;
+use crate::{Failure, memory};
+use lamella_run::feasibility::load_case;
+use lamella_run::output::snapshot::{SnapshotMeta, shear_rate_field, write_snapshot};
+use lamella_run::setup;
 
 /// Options of `lamella estimate`.
 #[derive(Debug, clap::Args)]

@@ -15,9 +15,10 @@ use lamella_post::plot::{Chart, Series, Style};
 use lamella_post::table::csv_document;
 
 use crate::Failure;
-use crate::cli::Globals;
-use crate::commands::analysis::{analysis_folder, open_case, parse_list, read_columns, write_file};
-use crate::output::RunFolder;
+use crate::commands::Globals;
+use crate::commands::analysis::{analysis_folder, open_case, parse_list, read_columns};
+use lamella_run::output::RunFolder;
+use lamella_run::output::atomic::write_bytes;
 
 /// Smallest R² of ln A against t (common practice: 0.98).
 pub const DEFAULT_MIN_R2: f64 = 0.98;
@@ -240,12 +241,12 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     )
     .map_err(Failure::RunFailed)?;
     let csv_path = out_dir.join("growth.csv");
-    write_file(&csv_path, csv.as_bytes())?;
+    write_bytes(&csv_path, csv.as_bytes())?;
     let png_path = out_dir.join("growth.png");
     let png = growth_chart(&case.title, &measured, None)
         .to_png(900, 600)
         .map_err(|e| Failure::RunFailed(format!("cannot draw {}: {e}", png_path.display())))?;
-    write_file(&png_path, &png)?;
+    write_bytes(&png_path, &png)?;
     let fit = measured.fit.as_ref().map_err(|refused| {
         Failure::BadInput(format!(
             "{}: the growth fit refuses: {refused} (wrote {} and {} to look at the record)",

@@ -20,9 +20,10 @@ use lamella_post::vtk::{Field, image_document, points_document};
 use lamella_sph::{Kernel, KernelKind, Kind};
 
 use crate::Failure;
-use crate::cli::Globals;
-use crate::commands::analysis::{Run, parse_list, write_file};
-use crate::output::Snapshot;
+use crate::commands::Globals;
+use crate::commands::analysis::{Run, parse_list};
+use lamella_run::output::Snapshot;
+use lamella_run::output::atomic::write_bytes;
 
 mod maps;
 
@@ -149,7 +150,7 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         &[&time, &i, &m, &s, &l],
     )
     .map_err(Failure::RunFailed)?;
-    write_file(&out_dir.join("mixing.csv"), csv.as_bytes())?;
+    write_bytes(&out_dir.join("mixing.csv"), csv.as_bytes())?;
     let line = |label: &str, y: &[f64]| Series {
         label: label.into(),
         x: time.clone(),
@@ -171,7 +172,7 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
     let png = chart
         .to_png(900, 600)
         .map_err(|e| Failure::RunFailed(e.to_string()))?;
-    write_file(&out_dir.join("mixing.png"), &png)?;
+    write_bytes(&out_dir.join("mixing.png"), &png)?;
     let chart = Chart {
         title: format!("{}: mean finite-time Lyapunov exponent", case.title),
         x_label: "time (s)".into(),
@@ -181,7 +182,7 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         series: vec![line("mean FTLE since t = 0", &l)],
     };
     match chart.to_png(900, 600) {
-        Ok(png) => write_file(&out_dir.join("mean_ftle.png"), &png)?,
+        Ok(png) => write_bytes(&out_dir.join("mean_ftle.png"), &png)?,
         Err(e) => {
             return Err(Failure::BadInput(format!(
                 "{e}: the run needs snapshots after t = 0 for an FTLE"
@@ -349,7 +350,7 @@ fn write_vtk<V: Vector>(
         })
         .collect();
     let vti = image_document(grid, &gridded).map_err(Failure::RunFailed)?;
-    write_file(&out_dir.join("mix_fields.vti"), vti.as_bytes())?;
+    write_bytes(&out_dir.join("mix_fields.vti"), vti.as_bytes())?;
     let phase: Vec<f64> = fields.phase.iter().map(|&p| p as f64).collect();
     let id: Vec<f64> = fields.id.iter().map(|&i| i as f64).collect();
     let vtp = points_document(
@@ -378,7 +379,10 @@ fn write_vtk<V: Vector>(
         ],
     )
     .map_err(Failure::RunFailed)?;
-    write_file(&out_dir.join("mix_particles.vtp"), vtp.as_bytes())
+    Ok(write_bytes(
+        &out_dir.join("mix_particles.vtp"),
+        vtp.as_bytes(),
+    )?)
 }
 
 /// Column `k` of node-major values with `phases` per node.

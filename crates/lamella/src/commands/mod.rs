@@ -1,4 +1,6 @@
-//! One module per subcommand; each has an `Args` (clap) and a `run` function.
+//! One module per subcommand; each has an `Args` (clap) and a `run` function. The list of
+//! subcommands ([`Command`]) and the options they share ([`Globals`]) are here, so the
+//! subcommands never import the command line's top level.
 
 pub mod analysis;
 pub mod bench;
@@ -14,8 +16,49 @@ pub mod run;
 pub mod stability;
 pub mod values;
 
-use crate::Failure;
-use crate::cli::{Command, Globals};
+use std::sync::atomic::AtomicBool;
+
+use lamella_cells::Vector;
+use lamella_run::RunError;
+use lamella_run::recorder::Recorder;
+use lamella_run::runner::{RunSummary, run_to_end};
+use lamella_sph::Simulation;
+
+use crate::{Failure, progress};
+
+/// Options every subcommand sees.
+#[derive(Clone, Copy, Debug)]
+pub struct Globals {
+    /// Print errors only.
+    pub quiet: bool,
+}
+
+/// The subcommands, each defined in its own module here.
+#[derive(Debug, clap::Subcommand)]
+pub enum Command {
+    /// Validate a case file and print what the run will involve.
+    Check(check::Args),
+    /// Write a commented starter case file from a template.
+    New(new::Args),
+    /// Run a case and write its results to a run folder.
+    Run(run::Args),
+    /// Continue an interrupted run from the newest valid checkpoint in its run folder.
+    Resume(resume::Args),
+    /// Predicted growth rates of layered channel flow from linear stability theory.
+    Stability(stability::Args),
+    /// Velocity profile across the channel of a run, against the analytical profile.
+    Profile(profile::Args),
+    /// Run a case at several spacings and fit the observed order of convergence.
+    Converge(converge::Args),
+    /// Growth rate and wave speed of the interface mode a run recorded, with 95 % intervals.
+    Growth(growth::Args),
+    /// Mixing measures of a run: segregation, Lacey index, mixing entropy, FTLE.
+    Mix(mix::Args),
+    /// Measure solver throughput (particle-steps per second) and memory on this machine.
+    Bench(bench::Args),
+    /// Predict the wall time and memory of a case on this machine from a short calibration.
+    Estimate(estimate::Args),
+}
 
 /// Runs the chosen subcommand.
 pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
@@ -32,4 +75,28 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
         Command::Bench(args) => bench::run(args, globals),
         Command::Estimate(args) => estimate::run(args, globals),
     }
+}
+
+/// Runs `sim` to `end_time` (s) into `recorder`'s run folder, with the progress display of
+/// [`progress::for_command`] and the stop flag of [`crate::signals::interrupt_flag`]; after a
+/// stop request it says where the state was saved and how to go on.
+pub fn run_recorded<V: Vector>(
+    sim: &mut Simulation<V>,
+    end_time: f64,
+    recorder: &mut Recorder<V>,
+    stop: &AtomicBool,
+    globals: Globals,
+) -> Result<RunSummary, Failure> {
+    let mut progress = progress::for_command(globals.quiet);
+    let outcome = run_to_end(sim, end_time, recorder, stop, progress.as_mut());
+    if let (Err(RunError::Interrupted { .. }), Some(path)) =
+        (&outcome, recorder.newest_checkpoint())
+    {
+        crate::note!(
+            "interrupted: state saved in {}; continue with `lamella resume {}`",
+            path.display(),
+            recorder.folder().root().display()
+        );
+    }
+    Ok(outcome?)
 }

@@ -1,14 +1,13 @@
 //! `lamella new TEMPLATE [PATH]`: write a commented starter case that `lamella check` accepts.
 
-use std::fs;
-use std::io::Write as _;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 use clap::builder::{PossibleValue, PossibleValuesParser};
 use lamella_case::templates::{TEMPLATES, template};
 
 use crate::Failure;
-use crate::cli::Globals;
+use crate::commands::Globals;
+use lamella_run::output::atomic::write_bytes;
 
 /// Options of `lamella new`.
 #[derive(Debug, clap::Args)]
@@ -55,12 +54,15 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             path.display()
         )));
     }
-    write_whole(&path, chosen.text).map_err(|err| {
-        Failure::BadInput(format!(
-            "cannot write {}: {err}; check that its folder exists and can be written",
-            path.display()
-        ))
-    })?;
+    let folder = path.parent().filter(|d| !d.as_os_str().is_empty());
+    if let Some(folder) = folder.filter(|d| !d.is_dir()) {
+        return Err(Failure::BadInput(format!(
+            "cannot write {}: the folder {} does not exist; create it or choose another path",
+            path.display(),
+            folder.display()
+        )));
+    }
+    write_bytes(&path, chosen.text.as_bytes())?;
     if !globals.quiet {
         crate::report!(
             "wrote {} ({}); check it with: lamella check {}",
@@ -70,26 +72,4 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         )?;
     }
     Ok(())
-}
-
-/// Writes `text` to a temporary file beside `path`, syncs it and renames it into place, so
-/// that `path` is never left half-written.
-fn write_whole(path: &Path, text: &str) -> std::io::Result<()> {
-    let file_name = path
-        .file_name()
-        .ok_or_else(|| std::io::Error::other("the path names no file"))?;
-    let mut temp_name = std::ffi::OsString::from(".");
-    temp_name.push(file_name);
-    temp_name.push(".partial");
-    let temp = path.with_file_name(temp_name);
-    let result = (|| {
-        let mut file = fs::File::create(&temp)?;
-        file.write_all(text.as_bytes())?;
-        file.sync_all()?;
-        fs::rename(&temp, path)
-    })();
-    if result.is_err() {
-        let _ = fs::remove_file(&temp);
-    }
-    result
 }

@@ -10,9 +10,10 @@ use lamella_post::table::csv_document;
 use lamella_sph::Kind;
 
 use crate::Failure;
-use crate::cli::Globals;
-use crate::commands::analysis::{Run, write_file};
-use crate::reference::{Reference, channel_reference};
+use crate::commands::Globals;
+use crate::commands::analysis::Run;
+use lamella_run::output::atomic::write_bytes;
+use lamella_run::reference::{Reference, channel_reference};
 
 /// Options of `lamella profile`.
 #[derive(Debug, clap::Args)]
@@ -156,7 +157,7 @@ pub fn profile(
     )
     .map_err(Failure::RunFailed)?;
     let out_dir = run.output_folder(out)?;
-    write_file(&out_dir.join("profile.csv"), csv.as_bytes())?;
+    write_bytes(&out_dir.join("profile.csv"), csv.as_bytes())?;
 
     let mut series = vec![Series {
         label: "SPH, bin means".into(),
@@ -205,9 +206,9 @@ pub fn profile(
     let png = chart
         .to_png(900, 640)
         .map_err(|e| Failure::RunFailed(e.to_string()))?;
-    write_file(&out_dir.join("profile.png"), &png)?;
+    write_bytes(&out_dir.join("profile.png"), &png)?;
     if let Some(path) = figure {
-        write_file(path, &png)?;
+        write_bytes(path, &png)?;
     }
     Ok(ProfileResult {
         time: t,

@@ -3,7 +3,6 @@
 //! uninterrupted run gives.
 
 use std::path::PathBuf;
-use std::sync::Arc;
 use std::sync::atomic::AtomicBool;
 
 use glam::{DVec2, DVec3};
@@ -12,12 +11,13 @@ use lamella_cells::Vector;
 use lamella_sph::Simulation;
 
 use crate::Failure;
-use crate::cli::Globals;
-use crate::commands::check::load_case;
-use crate::output::checkpoint::{checksum, outside_by};
-use crate::output::{Checkpoint, CheckpointStore, Recorder, RunFolder};
-use crate::runner::{ProgressMode, run_to_end};
-use crate::setup;
+use crate::commands::{Globals, run_recorded};
+use crate::signals::interrupt_flag;
+use lamella_run::feasibility::load_case;
+use lamella_run::output::checkpoint::{checksum, outside_by};
+use lamella_run::output::{Checkpoint, CheckpointStore, RunFolder};
+use lamella_run::recorder::Recorder;
+use lamella_run::{RunError, setup};
 
 /// Options of `lamella resume`.
 #[derive(Debug, clap::Args)]
@@ -55,31 +55,6 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     }
 }
 
-/// A flag raised by SIGINT, SIGTERM or SIGHUP; the run loop polls it each step, then
-/// checkpoints and stops with exit code 130.
-///
-/// Every later signal only raises the flag again: it never ends the process while the
-/// checkpoint is being written (GNU `timeout` sends SIGTERM twice, an impatient user presses
-/// Ctrl-C twice, a closed terminal sends SIGHUP and then SIGTERM). The step in progress
-/// finishes, the checkpoint is written, then the process exits. Only SIGKILL stops a run
-/// without saving, and a resume then starts from the previous checkpoint.
-pub(crate) fn interrupt_flag() -> Result<Arc<AtomicBool>, Failure> {
-    let stop = Arc::new(AtomicBool::new(false));
-    for signal in STOP_SIGNALS {
-        signal_hook::flag::register(signal, Arc::clone(&stop)).map_err(|err| {
-            Failure::RunFailed(format!("cannot install the interrupt handler: {err}"))
-        })?;
-    }
-    Ok(stop)
-}
-
-/// The signals that stop a run after saving: Ctrl-C, `kill`/`timeout`, a closed terminal.
-const STOP_SIGNALS: [std::ffi::c_int; 3] = [
-    signal_hook::consts::SIGINT,
-    signal_hook::consts::SIGTERM,
-    signal_hook::consts::SIGHUP,
-];
-
 fn resume_case<V: Vector>(
     folder: RunFolder,
     case: &Case,
@@ -88,8 +63,7 @@ fn resume_case<V: Vector>(
     stop: &AtomicBool,
     globals: Globals,
 ) -> Result<(), Failure> {
-    let config = setup::solver_config::<V>(case)
-        .map_err(|err| Failure::BadInput(format!("cannot set up the solver: {err}")))?;
+    let config = setup::solver_config::<V>(case).map_err(RunError::from)?;
     let case_checksum = checksum(case_text.as_bytes());
     let domain = config.search_domain;
     let margin = config.kernel.support_radius();
@@ -152,13 +126,7 @@ fn resume_case<V: Vector>(
     if until.is_some() {
         recorder.note(&format!("run on to t = {end:e} s (--until)"))?;
     }
-    let summary = run_to_end(
-        &mut sim,
-        end,
-        &mut recorder,
-        stop,
-        ProgressMode::from_quiet(globals.quiet),
-    )?;
+    let summary = run_recorded(&mut sim, end, &mut recorder, stop, globals)?;
     if !globals.quiet {
         crate::note!(
             "finished at t = {:.6e} s after {} more steps in {:.1} s; results in {}",

@@ -1,7 +1,7 @@
 //! `lamella run CASE --out DIR`: run a case to its end time and write its results.
 //!
-//! Writes the run folder through [`crate::output::Recorder`]: snapshots, series, probes,
-//! checkpoints and the log (layout in [`crate::output::folder`]).
+//! Writes the run folder through [`lamella_run::recorder::Recorder`]: snapshots, series, probes,
+//! checkpoints and the log (layout in [`lamella_run::output::folder`]).
 
 use std::path::{Path, PathBuf};
 use std::sync::atomic::AtomicBool;
@@ -9,15 +9,15 @@ use std::sync::atomic::AtomicBool;
 use glam::{DVec2, DVec3};
 use lamella_case::Case;
 use lamella_cells::Vector;
-use lamella_sph::{SetupError, Simulation};
+use lamella_sph::Simulation;
 
 use crate::Failure;
-use crate::cli::Globals;
-use crate::commands::check::load_case;
-use crate::commands::resume::interrupt_flag;
-use crate::output::{CheckpointStore, Recorder, RunFolder};
-use crate::runner::{ProgressMode, run_to_end};
-use crate::setup;
+use crate::commands::{Globals, run_recorded};
+use crate::signals::interrupt_flag;
+use lamella_run::feasibility::load_case;
+use lamella_run::output::{CheckpointStore, RunFolder};
+use lamella_run::recorder::Recorder;
+use lamella_run::{RunError, setup};
 
 /// Options of `lamella run`.
 #[derive(Debug, clap::Args)]
@@ -101,10 +101,8 @@ fn initial_simulation<V: Vector>(
     case: &Case,
     from: Option<&Path>,
 ) -> Result<(Simulation<V>, Option<String>), Failure> {
-    let setup_failed =
-        |err: SetupError| Failure::BadInput(format!("cannot set up the solver: {err}"));
     let Some(source) = from else {
-        return Ok((setup::simulation::<V>(case).map_err(setup_failed)?, None));
+        return Ok((setup::simulation::<V>(case).map_err(RunError::from)?, None));
     };
     let folder = RunFolder::open(source)?;
     let restored = CheckpointStore::new(folder.checkpoints()).newest_valid::<V>()?;
@@ -117,8 +115,8 @@ fn initial_simulation<V: Vector>(
                 restored.path.display()
             ))
         })?;
-    let config = setup::solver_config::<V>(case).map_err(setup_failed)?;
-    let sim = Simulation::new(config, particles).map_err(setup_failed)?;
+    let config = setup::solver_config::<V>(case).map_err(RunError::from)?;
+    let sim = Simulation::new(config, particles).map_err(RunError::from)?;
     let note = format!(
         "started from the state of {} at t = {:e} s ({})",
         source.display(),
@@ -153,13 +151,7 @@ fn run_case<V: Vector>(
         }
         observer.note(&note)?;
     }
-    let summary = run_to_end(
-        &mut sim,
-        case.time.end,
-        &mut observer,
-        stop,
-        ProgressMode::from_quiet(globals.quiet),
-    )?;
+    let summary = run_recorded(&mut sim, case.time.end, &mut observer, stop, globals)?;
     if !globals.quiet {
         crate::note!(
             "{name}: finished at t = {:.4e} s after {} steps in {:.1} s; time step mostly \

@@ -9,7 +9,6 @@
 
 use std::fmt::Write as _;
 use std::fs;
-use std::io::Write as _;
 use std::path::{Path, PathBuf};
 
 use lamella_case::{Axis, Case, Side};
@@ -19,10 +18,12 @@ use lamella_post::stability::{
 };
 
 use crate::Failure;
-use crate::cli::Globals;
+use crate::commands::Globals;
 use crate::commands::analysis::open_case;
-use crate::commands::check::load_case;
 use crate::commands::growth::{self, FitArgs, Measurement};
+use lamella_run::feasibility::load_case;
+use lamella_run::output::OutputError;
+use lamella_run::output::atomic::write_bytes;
 
 /// Width and height of the PNG charts (pixels).
 const PNG_SIZE: (u32, u32) = (800, 560);
@@ -662,18 +663,105 @@ fn log_spaced((first, last, steps): (f64, f64, usize), option: &str) -> Result<V
         .collect())
 }
 
-/// Writes through a temporary file in the same folder and renames it, so a failure never
-/// leaves a half-written file.
+/// Writes `bytes` to `path` through the run folder's atomic writer, creating the folder
+/// first if it is missing.
 fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
-    if let Some(dir) = path.parent() {
-        fs::create_dir_all(dir).map_err(|e| write_failure(path, e))?;
+    if let Some(dir) = path.parent().filter(|d| !d.as_os_str().is_empty()) {
+        fs::create_dir_all(dir).map_err(|e| OutputError::write(dir, e))?;
     }
-    let tmp = path.with_extension("partial");
-    let result = fs::File::create(&tmp)
-        .and_then(|mut f| f.write_all(bytes).and_then(|()| f.sync_all()))
-        .and_then(|()| fs::rename(&tmp, path));
-    result.map_err(|e| {
-        let _ = fs::remove_file(&tmp);
-        write_failure(path, e)
-    })
+    Ok(write_bytes(path, bytes)?)
+}
+
+#[cfg(test)]
+mod eigenmode_seed_tests {
+    //! The eigenmode seed of `lamella-run` against this command's own prediction.
+    use super::predicted_mode;
+    use lamella_case::{Case, SeedMode};
+    use lamella_run::eigenmode::EigenmodeSeed;
+    use lamella_run::reference::channel_reference;
+    use std::path::Path;
+
+    fn growing(mode: SeedMode) -> Case {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/interface-growth.ron");
+        let mut case = lamella_case::load(&path).expect("bundled case");
+        case.interface_perturbation.as_mut().expect("seeded").mode = mode;
+        case
+    }
+
+    /// Checks the kinematic condition at the interface in SI, against `lamella stability`'s
+    /// own prediction: the seeded interface η = A sin(k(x − x0)) must move as the mode does,
+    /// η(x, t) = A e^{σt} sin(k(x − x0 − c t)), so at t = 0 the fluid there moves vertically
+    /// with v = ∂η/∂t + U_i ∂η/∂x = A [σ sin(kξ) + k (U_i − c) cos(kξ)] (Yih 1967, §2).
+    fn assert_interface_moves_with_the_predicted_wave(case: &Case) {
+        let path = Path::new("interface-growth.ron");
+        let (rate, speed) = predicted_mode(case, path).expect("a predicted mode");
+        let seed = EigenmodeSeed::of(case).expect("solved").expect("asked for");
+        let p = case.interface_perturbation.as_ref().unwrap();
+        let pair = case.tracked_interface().unwrap();
+        let bottom = case.domain.lower[1];
+        let interface_speed = channel_reference(case)
+            .unwrap()
+            .steady_velocity_in_layer(pair.interface - bottom, false);
+        let k = std::f64::consts::TAU / p.wavelength;
+        let scale = p.amplitude * k * interface_speed.abs();
+        for x in [0.0, 1.7e-4, 4.1e-4, 9.0e-4] {
+            let xi = k * (x - case.domain.lower[0]);
+            let expected =
+                p.amplitude * (rate * xi.sin() + k * (interface_speed - speed) * xi.cos());
+            for upper in [false, true] {
+                let v = seed.velocity([x, pair.interface], upper)[1];
+                assert!(
+                    (v - expected).abs() < 1e-7 * scale,
+                    "x = {x}, upper {upper}: v = {v}, expected {expected}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn the_seeded_interface_moves_at_the_predicted_growth_rate_and_wave_speed() {
+        let _quiet_heap = crate::memory::MEASURING
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
+        assert_interface_moves_with_the_predicted_wave(&growing(SeedMode::Eigenmode));
+    }
+
+    #[test]
+    fn a_flow_towards_minus_x_gets_the_mirrored_mode() {
+        let _quiet_heap = crate::memory::MEASURING
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
+        let mut case = growing(SeedMode::Eigenmode);
+        let force = case.body_force.as_mut().unwrap();
+        force[0] = -force[0];
+        assert_interface_moves_with_the_predicted_wave(&case);
+        let forward = EigenmodeSeed::of(&growing(SeedMode::Eigenmode))
+            .unwrap()
+            .unwrap();
+        let backward = EigenmodeSeed::of(&case).unwrap().unwrap();
+        let (length, y) = (case.extent(0), 0.45e-3);
+        for x in [1.0e-4, 5.0e-4] {
+            let [u, v] = forward.velocity([x, y], false);
+            // x → −x maps the forward flow onto the backward one and its seed A sin(kx) onto
+            // −A sin(kx), and velocities (u, v) onto (−u, v); with the period L the backward
+            // field at L − x is then (u, −v) of the forward field at x.
+            let [um, vm] = backward.velocity([length - x, y], false);
+            assert!((um - u).abs() < 1e-12 * u.abs().max(1e-12), "{um} vs {u}");
+            assert!((vm + v).abs() < 1e-12 * v.abs().max(1e-12), "{vm} vs {v}");
+        }
+    }
+
+    #[test]
+    fn displacement_seeds_and_unseeded_cases_have_no_mode() {
+        let _quiet_heap = crate::memory::MEASURING
+            .lock()
+            .unwrap_or_else(|e| e.into_inner());
+        assert_eq!(
+            EigenmodeSeed::of(&growing(SeedMode::Displacement)),
+            Ok(None)
+        );
+        let mut case = growing(SeedMode::Eigenmode);
+        case.interface_perturbation = None;
+        assert_eq!(EigenmodeSeed::of(&case), Ok(None));
+    }
 }

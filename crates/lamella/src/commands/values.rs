@@ -2,8 +2,6 @@
 //! out of range is refused with exit code 2 and a message naming the option and what would be
 //! valid, before any work starts.
 
-use crate::memory;
-
 /// Heap bytes one benchmark particle needs, rounded up from the measured 272–280 (README,
 /// Performance), for the memory check of `bench --particles`.
 const BENCH_BYTES_PER_PARTICLE: f64 = 300.0;
@@ -126,7 +124,7 @@ pub fn grid(text: &str) -> Result<String, String> {
 
 /// `bench --particles N,N,...`: counts from 100 to 1e8 that fit in this machine's memory.
 pub fn bench_particles(text: &str) -> Result<String, String> {
-    let total = memory::machine_bytes();
+    let total = lamella_run::feasibility::machine_bytes();
     for part in text.split(',') {
         let n = finite(part)?;
         if !(100.0..=1.0e8).contains(&n) {

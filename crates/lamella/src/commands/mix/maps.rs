@@ -12,7 +12,7 @@ use lamella_post::plot::{MapFrame, PlotError, field_map, scatter_map};
 
 use super::Fields;
 use crate::Failure;
-use crate::commands::analysis::write_file;
+use lamella_run::output::atomic::write_bytes;
 
 /// Pixels along the longer side of each map's plot area.
 pub const LONG_SIDE: u32 = 640;
@@ -118,7 +118,7 @@ fn write_map(
 ) -> Result<(), Failure> {
     let path = out_dir.join(file);
     match png {
-        Ok(bytes) => write_file(&path, &bytes),
+        Ok(bytes) => Ok(write_bytes(&path, &bytes)?),
         Err(PlotError::NoData(_)) => {
             notes.push(format!("{file} not drawn: no finite values ({why})"));
             match std::fs::remove_file(&path) {

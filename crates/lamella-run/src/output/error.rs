@@ -3,8 +3,6 @@
 use std::io;
 use std::path::{Path, PathBuf};
 
-use crate::Failure;
-
 /// Why reading or writing run output failed.
 #[derive(Debug, thiserror::Error)]
 pub enum OutputError {
@@ -80,46 +78,5 @@ fn write_hint(source: &io::Error) -> &'static str {
             " (the folder is not writable: fix its permissions or choose another --out folder)"
         }
         _ => "",
-    }
-}
-
-impl From<OutputError> for Failure {
-    /// Unreadable or invalid files and unusable folders are bad input (exit code 2); a failed
-    /// write is a failed run (exit code 1).
-    fn from(err: OutputError) -> Self {
-        match err {
-            OutputError::Write { .. } | OutputError::Neighbours(_) => {
-                Failure::RunFailed(err.to_string())
-            }
-            OutputError::Read { .. } | OutputError::Invalid { .. } | OutputError::Folder(_) => {
-                Failure::BadInput(err.to_string())
-            }
-        }
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn a_full_disk_is_explained_and_maps_to_run_failed() {
-        let err = OutputError::write(Path::new("out/x.bin"), io::ErrorKind::StorageFull.into());
-        let text = err.to_string();
-        assert!(
-            text.contains("out/x.bin") && text.contains("disk is full"),
-            "{text}"
-        );
-        assert_eq!(Failure::from(err).exit_code(), 1);
-    }
-
-    #[test]
-    fn invalid_files_are_bad_input() {
-        let err = OutputError::invalid(Path::new("c.bin"), "checkpoint", "checksum mismatch");
-        assert_eq!(
-            err.to_string(),
-            "c.bin is not a valid checkpoint: checksum mismatch"
-        );
-        assert_eq!(Failure::from(err).exit_code(), 2);
     }
 }

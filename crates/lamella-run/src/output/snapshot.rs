@@ -127,7 +127,7 @@ pub fn shear_rate_field<V: Vector>(
         .map(|(m, rho)| m / rho)
         .collect();
     let rates = shear_rates(
-        &ordered.cells,
+        ordered.cells(),
         &p.position,
         &p.velocity,
         &volume,

@@ -39,6 +39,11 @@ pub fn write_atomically(
     Ok(())
 }
 
+/// Writes `bytes` to `path` atomically (see [`write_atomically`]).
+pub fn write_bytes(path: &Path, bytes: &[u8]) -> Result<(), OutputError> {
+    write_atomically(path, |w| w.write_all(bytes))
+}
+
 fn write_and_sync(
     partial: &Path,
     fill: impl FnOnce(&mut BufWriter<File>) -> io::Result<()>,

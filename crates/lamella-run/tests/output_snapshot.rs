@@ -2,9 +2,9 @@
 //! field every snapshot carries.
 
 use glam::{DVec2, DVec3};
-use lamella::output::snapshot::shear_rate_field;
-use lamella::output::{SnapshotMeta, read_snapshot, write_snapshot};
 use lamella_cells::{Domain, Vector};
+use lamella_run::output::snapshot::shear_rate_field;
+use lamella_run::output::{SnapshotMeta, read_snapshot, write_snapshot};
 use lamella_sph::{Kernel, KernelKind, Kind, Particles};
 
 /// A small, irregular state whose every value is distinct, so swapped arrays show.

@@ -10,13 +10,10 @@ use lamella_sph::forces::lattice_viscous_normalisation;
 use crate::eigenmode::EigenmodeSeed;
 use crate::reference::channel_reference;
 use lamella_sph::{
-    Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation, SetupError, Simulation,
-    SolverConfig, StateLaw, TimeStepFactors,
+    DEFAULT_DENSITY_DIFFUSION, Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation,
+    SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
     implicit_viscosity::{ImplicitSettings, ViscosityTreatment},
 };
-
-/// Density-diffusion coefficient δ of the δ-SPH term (Antuono et al. 2010: 0.1, common practice).
-pub const DENSITY_DIFFUSION: f64 = 0.1;
 
 /// Extra lattice rows the neighbour-search box reaches past the outermost wall row.
 const SEARCH_MARGIN_ROWS: f64 = 2.0;
@@ -78,16 +75,21 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
             background_pressure,
         },
         reference_density: case.phases.iter().map(|p| p.density).collect(),
+        viscosity_laws: case
+            .phases
+            .iter()
+            .map(|p| viscosity_law(&p.viscosity_law))
+            .collect(),
         pair_viscosity: match case.pair_viscosity {
             CasePair::Harmonic => PairViscosity::Harmonic,
             CasePair::Arithmetic => PairViscosity::Arithmetic,
         },
         body_force,
-        density_diffusion: DENSITY_DIFFUSION,
+        density_diffusion: DEFAULT_DENSITY_DIFFUSION,
         viscous_normalisation: lattice_viscous_normalisation(&kernel, dx, dim),
         // ∇·(μ ∇uᵀ) vanishes for one viscosity (incompressible flow) and is needed across a
         // viscosity jump.
-        full_viscous_stress: case.viscosity_contrast() > 1.0,
+        full_viscous_stress: full_viscous_stress(case),
         viscosity_treatment: match case.viscosity_treatment {
             CaseTreatment::Explicit => ViscosityTreatment::Explicit,
             CaseTreatment::Implicit {
@@ -115,6 +117,34 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         fluid_lower,
         fluid_upper,
     })
+}
+
+/// Whether the solver adds the transposed viscous stress for `case`: where it has more than
+/// one viscosity.
+fn full_viscous_stress(case: &Case) -> bool {
+    case.viscosity_contrast() > 1.0
+}
+
+/// Heap bytes per particle of a running solver of `case` in its dimension
+/// ([`Simulation::heap_bytes_per_particle`]); `lamella check` prints it and the feasibility
+/// check multiplies it by the particle count.
+pub fn heap_bytes_per_particle(case: &Case) -> usize {
+    let full = full_viscous_stress(case);
+    let implicit = matches!(case.viscosity_treatment, CaseTreatment::Implicit { .. });
+    if case.dimension == 3 {
+        Simulation::<glam::DVec3>::heap_bytes_per_particle(full, implicit)
+    } else {
+        Simulation::<glam::DVec2>::heap_bytes_per_particle(full, implicit)
+    }
+}
+
+/// The solver's form of a phase's viscosity law.
+fn viscosity_law(law: &lamella_case::ViscosityLaw) -> ViscosityLaw {
+    match *law {
+        lamella_case::ViscosityLaw::Newtonian { viscosity } => {
+            ViscosityLaw::Newtonian { viscosity }
+        }
+    }
 }
 
 /// The particles of a case at time zero: the generated lattice (fluid, then walls) with mass
@@ -258,6 +288,19 @@ mod tests {
             .join("../../cases")
             .join(name);
         lamella_case::load(&path).expect("bundled case")
+    }
+
+    #[test]
+    fn bytes_per_particle_count_the_gradient_only_with_two_viscosities() {
+        // One viscosity: the 2D arrays of `Simulation::heap_bytes_per_particle`; two add a
+        // 3 × 3 velocity gradient for the full viscous stress.
+        let one = heap_bytes_per_particle(&bundled("poiseuille.ron"));
+        assert_eq!(
+            one,
+            Simulation::<DVec2>::heap_bytes_per_particle(false, false)
+        );
+        let two = heap_bytes_per_particle(&bundled("two-layer-channel.ron"));
+        assert_eq!(two, one + 72);
     }
 
     #[test]

@@ -25,7 +25,7 @@ use std::path::{Path, PathBuf};
 use std::sync::atomic::{AtomicU64, Ordering};
 
 use lamella_cells::Vector;
-use lamella_sph::{Kind, Particles};
+use lamella_sph::{Field, FieldMut, Kind, Particles};
 
 use super::OutputError;
 use super::atomic::write_atomically;
@@ -157,47 +157,30 @@ pub fn encode<V: Vector>(checkpoint: &Checkpoint<V>) -> Vec<u8> {
     out
 }
 
-/// The particle state as named arrays, in file order.
+/// The particle state as named arrays, in file order (the order of
+/// [`Particles::for_each_field`], so every per-particle field is saved).
 fn state_arrays<V: Vector>(particles: &Particles<V>) -> Vec<(String, ArrayData)> {
-    // Destructured without `..`: a new state field fails to compile here until it is saved.
-    let Particles {
-        position,
-        velocity,
-        density,
-        pressure,
-        mass,
-        viscosity,
-        phase,
-        kind,
-        id,
-        initial_position,
-    } = particles;
-    let vectors = |v: &[V]| ArrayData::F64 {
-        components: V::DIM as u32,
-        values: v
-            .iter()
-            .flat_map(|x| (0..V::DIM).map(move |axis| x.get(axis)))
-            .collect(),
-    };
-    let scalars = |v: &[f64]| ArrayData::F64 {
-        components: 1,
-        values: v.to_vec(),
-    };
-    vec![
-        ("position".into(), vectors(position)),
-        ("velocity".into(), vectors(velocity)),
-        ("density".into(), scalars(density)),
-        ("pressure".into(), scalars(pressure)),
-        ("mass".into(), scalars(mass)),
-        ("viscosity".into(), scalars(viscosity)),
-        ("phase".into(), ArrayData::U16(phase.clone())),
-        (
-            "kind".into(),
-            ArrayData::U8(kind.iter().map(|&k| k as u8).collect()),
-        ),
-        ("id".into(), ArrayData::U64(id.clone())),
-        ("initial_position".into(), vectors(initial_position)),
-    ]
+    let mut arrays = Vec::new();
+    particles.for_each_field(|name, field| {
+        let array = match field {
+            Field::Vectors(v) => ArrayData::F64 {
+                components: V::DIM as u32,
+                values: v
+                    .iter()
+                    .flat_map(|x| (0..V::DIM).map(move |axis| x.get(axis)))
+                    .collect(),
+            },
+            Field::Scalars(v) => ArrayData::F64 {
+                components: 1,
+                values: v.to_vec(),
+            },
+            Field::Phases(v) => ArrayData::U16(v.to_vec()),
+            Field::Kinds(v) => ArrayData::U8(v.iter().map(|&k| k as u8).collect()),
+            Field::Ids(v) => ArrayData::U64(v.to_vec()),
+        };
+        arrays.push((name.to_string(), array));
+    });
+    arrays
 }
 
 fn put_u32(out: &mut Vec<u8>, x: u32) {
@@ -320,79 +303,78 @@ pub fn decode<V: Vector>(bytes: &[u8]) -> Result<Checkpoint<V>, String> {
     })
 }
 
-/// Takes the particle-state arrays out of `arrays` and checks their types and lengths.
+/// Takes the particle-state arrays out of `arrays` (every field of
+/// [`Particles::for_each_field_mut`]) and checks their types and lengths.
 fn take_state<V: Vector>(arrays: &mut Vec<(String, ArrayData)>) -> Result<Particles<V>, String> {
-    let mut take = |name: &str| -> Result<ArrayData, String> {
-        let at = arrays
-            .iter()
-            .position(|(n, _)| n == name)
-            .ok_or_else(|| format!("the array `{name}` is missing"))?;
-        Ok(arrays.remove(at).1)
-    };
-    let vectors = |name: &str, array: ArrayData| -> Result<Vec<V>, String> {
-        match array {
-            ArrayData::F64 { components, values } if components as usize == V::DIM => Ok(values
+    let mut particles = Particles::default();
+    let mut failure = None;
+    particles.for_each_field_mut(|name, field| {
+        if failure.is_none()
+            && let Err(why) = restore_field(arrays, name, field)
+        {
+            failure = Some(why);
+        }
+    });
+    if let Some(why) = failure {
+        return Err(why);
+    }
+    if particles.inconsistent_field().is_some() {
+        return Err(format!(
+            "the particle arrays disagree in length ({} positions)",
+            particles.len()
+        ));
+    }
+    Ok(particles)
+}
+
+/// Takes the array `name` out of `arrays` into `field`, checking its type.
+fn restore_field<V: Vector>(
+    arrays: &mut Vec<(String, ArrayData)>,
+    name: &str,
+    field: FieldMut<'_, V>,
+) -> Result<(), String> {
+    let at = arrays
+        .iter()
+        .position(|(n, _)| n == name)
+        .ok_or_else(|| format!("the array `{name}` is missing"))?;
+    let array = arrays.remove(at).1;
+    match (field, array) {
+        (FieldMut::Vectors(v), ArrayData::F64 { components, values })
+            if components as usize == V::DIM =>
+        {
+            *v = values
                 .chunks_exact(V::DIM)
                 .map(|c| V::from_fn(|axis| c[axis]))
-                .collect()),
-            _ => Err(format!("`{name}` is not a {}D vector array", V::DIM)),
+                .collect();
         }
-    };
-    let scalars = |name: &str, array: ArrayData| -> Result<Vec<f64>, String> {
-        match array {
+        (FieldMut::Vectors(_), _) => {
+            return Err(format!("`{name}` is not a {}D vector array", V::DIM));
+        }
+        (
+            FieldMut::Scalars(v),
             ArrayData::F64 {
                 components: 1,
                 values,
-            } => Ok(values),
-            _ => Err(format!("`{name}` is not a real scalar array")),
-        }
-    };
-    let particles = Particles {
-        position: vectors("position", take("position")?)?,
-        velocity: vectors("velocity", take("velocity")?)?,
-        density: scalars("density", take("density")?)?,
-        pressure: scalars("pressure", take("pressure")?)?,
-        mass: scalars("mass", take("mass")?)?,
-        viscosity: scalars("viscosity", take("viscosity")?)?,
-        phase: match take("phase")? {
-            ArrayData::U16(v) => v,
-            _ => return Err("`phase` is not a UInt16 array".into()),
-        },
-        kind: match take("kind")? {
-            ArrayData::U8(v) => v
+            },
+        ) => *v = values,
+        (FieldMut::Scalars(_), _) => return Err(format!("`{name}` is not a real scalar array")),
+        (FieldMut::Phases(v), ArrayData::U16(values)) => *v = values,
+        (FieldMut::Phases(_), _) => return Err(format!("`{name}` is not a UInt16 array")),
+        (FieldMut::Kinds(v), ArrayData::U8(values)) => {
+            *v = values
                 .into_iter()
                 .map(|k| match k {
                     0 => Ok(Kind::Fluid),
                     1 => Ok(Kind::Wall),
-                    other => Err(format!("`kind` holds {other}, neither fluid nor wall")),
+                    other => Err(format!("`{name}` holds {other}, neither fluid nor wall")),
                 })
-                .collect::<Result<_, _>>()?,
-            _ => return Err("`kind` is not a UInt8 array".into()),
-        },
-        id: match take("id")? {
-            ArrayData::U64(v) => v,
-            _ => return Err("`id` is not a UInt64 array".into()),
-        },
-        initial_position: vectors("initial_position", take("initial_position")?)?,
-    };
-    let n = particles.len();
-    let lengths = [
-        particles.velocity.len(),
-        particles.density.len(),
-        particles.pressure.len(),
-        particles.mass.len(),
-        particles.viscosity.len(),
-        particles.phase.len(),
-        particles.kind.len(),
-        particles.id.len(),
-        particles.initial_position.len(),
-    ];
-    if lengths.iter().any(|&len| len != n) {
-        return Err(format!(
-            "the particle arrays disagree in length ({n} positions)"
-        ));
+                .collect::<Result<_, _>>()?;
+        }
+        (FieldMut::Kinds(_), _) => return Err(format!("`{name}` is not a UInt8 array")),
+        (FieldMut::Ids(v), ArrayData::U64(values)) => *v = values,
+        (FieldMut::Ids(_), _) => return Err(format!("`{name}` is not a UInt64 array")),
     }
-    Ok(particles)
+    Ok(())
 }
 
 /// Refuses a state with a non-finite position, velocity, density, pressure, mass or

@@ -9,14 +9,14 @@ use lamella_case::Case;
 use lamella_cells::Vector;
 use lamella_sph::{Fault, Simulation, StepReport};
 
-use super::checkpoint::{Checkpoint, CheckpointStore, Value, checksum};
-use super::collection::Collection;
-use super::folder::{RunFolder, RunLog};
-use super::probes::{Probe, ProbeFiles};
-use super::series::{FlowStatistics, InterfaceTracker, SeriesFile, SeriesRow};
-use super::snapshot::shear_rate_field;
-use super::{OutputError, SnapshotMeta, write_snapshot};
-use crate::Failure;
+use crate::RunError;
+use crate::output::checkpoint::{Checkpoint, CheckpointStore, Value, checksum};
+use crate::output::collection::Collection;
+use crate::output::folder::{RunFolder, RunLog};
+use crate::output::probes::{Probe, ProbeFiles};
+use crate::output::series::{FlowStatistics, InterfaceTracker, SeriesFile, SeriesRow};
+use crate::output::snapshot::shear_rate_field;
+use crate::output::{OutputError, SnapshotMeta, write_snapshot};
 use crate::runner::RunObserver;
 
 /// Checkpoint value names of the recorder's own bookkeeping.
@@ -46,6 +46,8 @@ pub struct Recorder<V: Vector> {
     checkpoints: CheckpointStore,
     checkpoint_every: Duration,
     last_checkpoint: Instant,
+    /// The checkpoint this recorder wrote last.
+    newest_checkpoint: Option<std::path::PathBuf>,
     log: RunLog,
     /// False until the first snapshot, sample and checkpoint of a fresh run are written.
     started: bool,
@@ -86,6 +88,7 @@ impl<V: Vector> Recorder<V> {
             probes,
             checkpoint_every: checkpoint_every(case),
             last_checkpoint: Instant::now(),
+            newest_checkpoint: None,
             log,
             started: false,
             folder,
@@ -162,6 +165,7 @@ impl<V: Vector> Recorder<V> {
             probes,
             checkpoint_every: checkpoint_every(case),
             last_checkpoint: Instant::now(),
+            newest_checkpoint: None,
             log,
             started: true,
             folder,
@@ -171,6 +175,11 @@ impl<V: Vector> Recorder<V> {
     /// The run folder.
     pub fn folder(&self) -> &RunFolder {
         &self.folder
+    }
+
+    /// The checkpoint this recorder wrote last (after an interrupt, the one to resume from).
+    pub fn newest_checkpoint(&self) -> Option<&Path> {
+        self.newest_checkpoint.as_deref()
     }
 
     /// Appends a line to the run log.
@@ -210,6 +219,7 @@ impl<V: Vector> Recorder<V> {
         };
         let path = self.checkpoints.write(&checkpoint)?;
         self.last_checkpoint = Instant::now();
+        self.newest_checkpoint = Some(path.clone());
         self.log.line(&format!(
             "checkpoint {} at t = {:e} s, step {}",
             path.display(),
@@ -303,12 +313,12 @@ fn checkpoint_every(case: &Case) -> Duration {
     Duration::from_secs_f64((case.output.checkpoint_minutes * 60.0).max(0.0))
 }
 
-fn failed(err: OutputError) -> Failure {
+fn failed(err: OutputError) -> RunError {
     err.into()
 }
 
 impl<V: Vector> RunObserver<V> for Recorder<V> {
-    fn on_start(&mut self, sim: &Simulation<V>) -> Result<(), Failure> {
+    fn on_start(&mut self, sim: &Simulation<V>) -> Result<(), RunError> {
         if !self.started {
             self.snapshot(sim).map_err(failed)?;
             self.sample(sim, 0.0, "start".into()).map_err(failed)?;
@@ -330,7 +340,7 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         }
     }
 
-    fn after_step(&mut self, sim: &Simulation<V>, report: &StepReport) -> Result<(), Failure> {
+    fn after_step(&mut self, sim: &Simulation<V>, report: &StepReport) -> Result<(), RunError> {
         if Self::due(self.next_sample, self.sample_interval, report.time) {
             self.sample(sim, report.dt, report.limit.to_string())
                 .map_err(failed)?;
@@ -348,7 +358,7 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         Ok(())
     }
 
-    fn on_finish(&mut self, sim: &Simulation<V>) -> Result<(), Failure> {
+    fn on_finish(&mut self, sim: &Simulation<V>) -> Result<(), RunError> {
         let last = self.collection.entries().last().map(|e| e.time);
         if last != Some(sim.time()) {
             self.snapshot(sim).map_err(failed)?;
@@ -363,7 +373,7 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
             .map_err(failed)
     }
 
-    fn on_failure(&mut self, sim: &Simulation<V>, fault: &Fault<V>) -> Result<(), Failure> {
+    fn on_failure(&mut self, sim: &Simulation<V>, fault: &Fault<V>) -> Result<(), RunError> {
         // The last good state, for inspection; the newest checkpoint stays the one to resume.
         self.log
             .line(&format!("the run went bad: {fault}"))
@@ -373,16 +383,10 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         self.snapshot(sim).map_err(failed)
     }
 
-    fn on_interrupt(&mut self, sim: &Simulation<V>) -> Result<(), Failure> {
-        let path = self.checkpoint(sim).map_err(failed)?;
+    fn on_interrupt(&mut self, sim: &Simulation<V>) -> Result<(), RunError> {
+        self.checkpoint(sim).map_err(failed)?;
         self.log
             .line("interrupted; resume with `lamella resume`")
-            .map_err(failed)?;
-        crate::note!(
-            "interrupted: state saved in {}; continue with `lamella resume {}`",
-            path.display(),
-            self.folder.root().display()
-        );
-        Ok(())
+            .map_err(failed)
     }
 }

@@ -2,18 +2,33 @@
 //! time steps) or cannot fit in the machine's memory is refused before it starts. `check`,
 //! `run`, `resume` and the other commands load cases through the same check, so they agree.
 
-use lamella_case::{Case, Problem, ViscosityTreatment};
-use lamella_sph::{Limit, TimeStepFactors, stable_time_step};
+use std::path::Path;
 
-use crate::memory;
+use lamella_case::{Case, CaseError, Problem, ViscosityTreatment};
+use lamella_sph::{Limit, TimeStepFactors, stable_time_step};
 
 /// Most time steps a run may need to reach `time.end`: at a few microseconds per step for the
 /// smallest cases, more would take days to years.
 pub const MAX_STEPS: f64 = 1.0e9;
 
+/// Loads and validates a case file, then checks that it can finish and fits in this machine's
+/// memory ([`problems`]); the error lists every problem. Every command that reads a case goes
+/// through here, so `check` and `run` agree.
+pub fn load_case(path: &Path) -> Result<Case, CaseError> {
+    let case = lamella_case::load(path)?;
+    let problems = problems(&case);
+    if !problems.is_empty() {
+        return Err(CaseError {
+            origin: path.display().to_string(),
+            problems,
+        });
+    }
+    Ok(case)
+}
+
 /// The stable time step of `case` (s) and the limit that sets it; the implicit viscosity
 /// treatment has no viscous limit.
-pub(crate) fn time_step(case: &Case) -> (f64, Limit) {
+pub fn time_step(case: &Case) -> (f64, Limit) {
     let factors = TimeStepFactors {
         acoustic: case.time_step.acoustic,
         viscous: case.time_step.viscous,
@@ -33,7 +48,7 @@ pub(crate) fn time_step(case: &Case) -> (f64, Limit) {
 }
 
 /// The problems of a validated case on this machine: too many steps, too much memory.
-pub(crate) fn problems(case: &Case) -> Vec<Problem> {
+pub fn problems(case: &Case) -> Vec<Problem> {
     let mut found = Vec::new();
     let (dt, limit) = time_step(case);
     let steps = case.time.end / dt;
@@ -42,8 +57,8 @@ pub(crate) fn problems(case: &Case) -> Vec<Problem> {
         found.push(too_many_steps(case, dt, limit, steps));
     }
     let sites: f64 = case.lattice_counts().iter().map(|&n| n as f64).product();
-    let bytes = sites * case.state_bytes_per_particle() as f64;
-    if let Some(machine) = memory::machine_bytes()
+    let bytes = sites * crate::setup::heap_bytes_per_particle(case) as f64;
+    if let Some(machine) = machine_bytes()
         && bytes > machine as f64
     {
         found.push(Problem::value(
@@ -100,4 +115,35 @@ fn too_many_steps(case: &Case, dt: f64, limit: Limit, steps: f64) -> Problem {
             case.time.end
         ),
     )
+}
+
+/// The machine's physical memory in bytes (`MemTotal` of `/proc/meminfo` on Linux); `None`
+/// where the system does not say, and then no memory check is made.
+pub fn machine_bytes() -> Option<u64> {
+    let text = std::fs::read_to_string("/proc/meminfo").ok()?;
+    meminfo_total(&text)
+}
+
+/// `MemTotal` of a `/proc/meminfo` text, in bytes (the file gives kB, meaning KiB; see
+/// proc(5) of the Linux man-pages).
+fn meminfo_total(text: &str) -> Option<u64> {
+    let line = text.lines().find(|l| l.starts_with("MemTotal:"))?;
+    let kib: u64 = line.split_whitespace().nth(1)?.parse().ok()?;
+    kib.checked_mul(1024)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn meminfo_total_is_read_in_bytes() {
+        // The first lines of /proc/meminfo as proc(5) shows them.
+        let text = "MemTotal:       23986124 kB\nMemFree:         1234567 kB\n";
+        assert_eq!(meminfo_total(text), Some(23_986_124 * 1024));
+        assert_eq!(meminfo_total("MemFree: 1 kB\n"), None);
+        if cfg!(target_os = "linux") {
+            assert!(machine_bytes().is_some_and(|b| b > 1 << 20));
+        }
+    }
 }

@@ -10,8 +10,7 @@ use lamella_case::Case;
 use lamella_cells::Vector;
 use lamella_sph::Simulation;
 
-use crate::memory;
-use crate::{Failure, setup};
+use crate::{RunError, setup};
 
 /// The bundled template the standard benchmark case is made from.
 pub const STANDARD_TEMPLATE: &str = "two-layer-channel";
@@ -20,7 +19,7 @@ pub const STANDARD_TEMPLATE: &str = "two-layer-channel";
 /// two-layer channel (Wendland C2, h = 1.3 dx, two phases of viscosity ratio 5, periodic in x,
 /// three wall rows top and bottom, density diffusion, viscosity, shifting), with the spacing
 /// chosen so that the square channel holds the requested number of fluid particles.
-pub fn standard_case(fluid_particles: usize) -> Result<Case, Failure> {
+pub fn standard_case(fluid_particles: usize) -> Result<Case, RunError> {
     let template = lamella_case::templates::template(STANDARD_TEMPLATE)
         .expect("the standard benchmark template is bundled");
     let mut case = lamella_case::parse_str(template.text, STANDARD_TEMPLATE)
@@ -50,7 +49,7 @@ pub fn standard_case(fluid_particles: usize) -> Result<Case, Failure> {
             }
         }
     }
-    Err(Failure::BadInput(format!(
+    Err(RunError::Case(format!(
         "no standard case with about {fluid_particles} particles: {}",
         rejected.join("; ")
     )))
@@ -70,7 +69,7 @@ pub struct Timing {
     /// Simulated time advanced per step, averaged over the timed steps (s).
     pub mean_time_step: f64,
     /// Largest heap in use while the simulation was built and stepped, minus the heap in use
-    /// before (bytes), from the counting allocator of [`memory`].
+    /// before (bytes), from the [`HeapMeter`] given to [`time_steps`].
     pub peak_heap_bytes: usize,
 }
 
@@ -106,17 +105,33 @@ pub fn median(values: &[f64]) -> f64 {
 /// Steps excluded from timing at the start (first allocations, caches, page faults).
 pub const WARM_UP_STEPS: usize = 2;
 
+/// The heap counters of the process, from a counting global allocator the program installs
+/// (a library cannot choose the allocator; the `lamella` binary installs one).
+pub trait HeapMeter {
+    /// Heap bytes in use now.
+    fn current_bytes(&self) -> usize;
+    /// The most heap bytes in use at once since the last [`HeapMeter::reset_peak`].
+    fn peak_bytes(&self) -> usize;
+    /// Starts a new peak measurement from the heap in use now.
+    fn reset_peak(&self);
+}
+
 /// Builds `case` and times `repeats` runs of `steps` steps after [`WARM_UP_STEPS`], on the
-/// current rayon pool. The steps never end on a time (the case's end time does not apply).
-pub fn time_steps<V: Vector>(case: &Case, steps: usize, repeats: usize) -> Result<Timing, Failure> {
-    let baseline = memory::current_bytes();
-    memory::reset_peak();
-    let mut sim: Simulation<V> = setup::simulation(case)
-        .map_err(|err| Failure::BadInput(format!("cannot set the case up: {err}")))?;
+/// current rayon pool, with the peak heap from `heap`. The steps never end on a time (the
+/// case's end time does not apply).
+pub fn time_steps<V: Vector>(
+    case: &Case,
+    steps: usize,
+    repeats: usize,
+    heap: &dyn HeapMeter,
+) -> Result<Timing, RunError> {
+    let baseline = heap.current_bytes();
+    heap.reset_peak();
+    let mut sim: Simulation<V> = setup::simulation(case)?;
     let step = |sim: &mut Simulation<V>| {
         sim.step(f64::INFINITY)
             .map(|_| ())
-            .map_err(|fault| Failure::RunFailed(format!("the benchmark run went bad: {fault}")))
+            .map_err(|fault| RunError::Fault(fault.to_string()))
     };
     for _ in 0..WARM_UP_STEPS {
         step(&mut sim)?;
@@ -137,7 +152,7 @@ pub fn time_steps<V: Vector>(case: &Case, steps: usize, repeats: usize) -> Resul
         steps: steps.max(1),
         seconds_per_step,
         mean_time_step: (sim.time() - timed_start) / timed_steps,
-        peak_heap_bytes: memory::peak_bytes().saturating_sub(baseline),
+        peak_heap_bytes: heap.peak_bytes().saturating_sub(baseline),
     })
 }
 
@@ -160,31 +175,5 @@ mod tests {
     fn median_of_odd_and_even_lists() {
         assert_eq!(median(&[3.0, 1.0, 2.0]), 2.0);
         assert_eq!(median(&[4.0, 1.0, 2.0, 3.0]), 2.5);
-    }
-
-    #[test]
-    fn timing_reports_steps_and_memory() {
-        let _measuring = memory::MEASURING.lock().unwrap_or_else(|e| e.into_inner());
-        let case = standard_case(1_000).unwrap();
-        let timing = time_steps::<glam::DVec2>(&case, 3, 2).unwrap();
-        assert_eq!(timing.seconds_per_step.len(), 2);
-        assert!(timing.particles > 1_000);
-        assert!(timing.mean_time_step > 0.0);
-        // The particle arrays alone hold more than 100 bytes per particle.
-        assert!(timing.peak_bytes_per_particle() > 100.0);
-    }
-
-    #[test]
-    fn measured_memory_agrees_with_the_case_estimate() {
-        let _measuring = memory::MEASURING.lock().unwrap_or_else(|e| e.into_inner());
-        let case = standard_case(20_000).unwrap();
-        let timing = time_steps::<glam::DVec2>(&case, 1, 1).unwrap();
-        let estimate = case.state_bytes_per_particle() as f64;
-        let measured = timing.peak_bytes_per_particle();
-        // Set-up transients and other test threads' allocations only add to the peak.
-        assert!(
-            measured > 0.95 * estimate && measured < 1.25 * estimate,
-            "measured {measured:.0} B/particle, estimated {estimate}"
-        );
     }
 }

@@ -4,13 +4,12 @@
 //! minimum-image separation, as in the solver. Holds no neighbour lists, so it costs a copy of
 //! the state whatever the particle count.
 
-use lamella_cells::{CellError, CellList, Domain, Vector};
+use lamella_cells::{CallerOrder, CellError, CellList, Domain, Vector};
 use lamella_sph::{Particles, ReorderScratch};
 
-/// The particles in cell order with their cell list.
+/// The particles in cell order with their cell list (and [`CallerOrder`]'s way back).
 pub(crate) struct CellOrdered<V: Vector> {
-    /// The cell list; its queries speak of [`Self::particles`].
-    pub cells: CellList<V>,
+    order: CallerOrder<V>,
     /// The particles in cell order.
     pub particles: Particles<V>,
 }
@@ -23,23 +22,23 @@ impl<V: Vector> CellOrdered<V> {
         domain: Domain<V>,
         radius: f64,
     ) -> Result<Self, CellError> {
-        let mut cells = CellList::new(domain, radius)?;
-        cells.rebuild(&particles.position)?;
+        let order = CallerOrder::new(&particles.position, domain, radius)?;
         let mut sorted = particles.clone();
-        sorted.reorder(cells.permutation(), &mut ReorderScratch::default());
+        sorted.reorder(order.permutation(), &mut ReorderScratch::default());
         Ok(CellOrdered {
-            cells,
+            order,
             particles: sorted,
         })
+    }
+
+    /// The cell list; its queries speak of [`Self::particles`].
+    pub fn cells(&self) -> &CellList<V> {
+        self.order.cells()
     }
 
     /// Per-particle `values` in cell order, put back in the order of the particles given to
     /// [`Self::new`].
     pub fn to_given_order<T: Copy + Default>(&self, values: &[T]) -> Vec<T> {
-        let mut out = vec![T::default(); values.len()];
-        for (&given, &value) in self.cells.permutation().iter().zip(values) {
-            out[given as usize] = value;
-        }
-        out
+        self.order.to_caller_order(values)
     }
 }

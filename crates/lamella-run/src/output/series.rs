@@ -202,9 +202,11 @@ fn interface_flags<V: Vector>(
         .map(|k| {
             let mut other_phase = false;
             if fluid(k) {
-                ordered.cells.for_each_neighbour(&p.position, k, |j, _, _| {
-                    other_phase |= fluid(j) && p.phase[j] != p.phase[k];
-                });
+                ordered
+                    .cells()
+                    .for_each_neighbour(&p.position, k, |j, _, _| {
+                        other_phase |= fluid(j) && p.phase[j] != p.phase[k];
+                    });
             }
             other_phase
         })

@@ -5,8 +5,8 @@
 use std::panic::{AssertUnwindSafe, catch_unwind};
 
 use glam::DVec2;
-use lamella::output::checkpoint::{ArrayData, Value, checksum, decode, encode};
-use lamella::output::{Checkpoint, SnapshotMeta, parse_snapshot, write_snapshot};
+use lamella_run::output::checkpoint::{ArrayData, Value, checksum, decode, encode};
+use lamella_run::output::{Checkpoint, SnapshotMeta, parse_snapshot, write_snapshot};
 use lamella_sph::{Kind, Particles};
 
 /// Bytes a one-byte edit puts in: digits, XML markup, base64 padding, a non-UTF-8 byte.
