@@ -18,7 +18,7 @@ use std::time::Duration;
 use criterion::{BenchmarkId, Criterion, Throughput, criterion_group, criterion_main};
 use glam::{DVec2, DVec3};
 use kiddo::{ImmutableKdTree, SquaredEuclidean};
-use lamella_cells::{CellList, CellOrder, Domain, GridOptions, Vector, apply_permutation};
+use lamella_cells::{CellList, Domain, Vector, apply_permutation};
 use rayon::prelude::*;
 
 const SPACING: f64 = 1.0;
@@ -128,21 +128,13 @@ fn neighbour_search(c: &mut Criterion) {
     for n in [10_000usize, 100_000, 1_000_000] {
         let (raw, upper) = lattice::<DVec2>((n as f64).sqrt().round() as usize);
         let domain = Domain::new(DVec2::ZERO, upper, [false; 3]).unwrap();
-        let lists: Vec<(CellOrder, CellList<DVec2>, Vec<DVec2>)> =
-            [CellOrder::RowMajor, CellOrder::Morton]
-                .into_iter()
-                .map(|order| {
-                    let options = GridOptions { margin: 0.0, order };
-                    let mut list = CellList::with_options(domain, RADIUS, options).unwrap();
-                    list.rebuild(&raw).unwrap();
-                    let mut positions = raw.clone();
-                    apply_permutation(list.permutation(), &mut positions, &mut Vec::new());
-                    (order, list, positions)
-                })
-                .collect();
-        let points: Vec<[f64; 2]> = lists[0].2.iter().map(|p| p.to_array()).collect();
+        let mut list = CellList::new(domain, RADIUS).unwrap();
+        list.rebuild(&raw).unwrap();
+        let mut positions = raw.clone();
+        apply_permutation(list.permutation(), &mut positions, &mut Vec::new());
+        let points: Vec<[f64; 2]> = positions.iter().map(|p| p.to_array()).collect();
         let (mut cells_result, kiddo_result) = (
-            cells_pass(&mut lists[0].1.clone(), &lists[0].2),
+            cells_pass(&mut list.clone(), &positions),
             kiddo_pass(&points, false),
         );
         assert_eq!(cells_result.0, kiddo_result.0, "same pairs found");
@@ -156,7 +148,7 @@ fn neighbour_search(c: &mut Criterion) {
         println!(
             "n = {count}: {pairs} neighbour pairs visited, {:.2} per particle; cell list {} B/particle",
             pairs as f64 / count as f64,
-            lists[0].1.heap_bytes() as f64 / count as f64
+            list.heap_bytes() as f64 / count as f64
         );
         let mut group = c.benchmark_group(format!("neighbours_2d_n{count}"));
         group
@@ -165,26 +157,22 @@ fn neighbour_search(c: &mut Criterion) {
             .measurement_time(Duration::from_secs(if n >= 1_000_000 { 8 } else { 2 }))
             .throughput(Throughput::Elements(pairs));
         for (threads, pool) in &pools {
-            for (order, list, positions) in &lists {
-                if *order == CellOrder::Morton && threads != "1t" {
-                    continue;
-                }
-                let mut list = list.clone();
-                group.bench_function(BenchmarkId::new(format!("cells_{order:?}"), threads), |b| {
-                    b.iter(|| {
-                        pool.install(|| cells_result = cells_pass(&mut list, black_box(positions)))
-                    })
-                });
-            }
-            if threads == "1t" && lists[0].1.uses_vector_scan() {
+            let mut timed = list.clone();
+            group.bench_function(BenchmarkId::new("cells", threads), |b| {
+                b.iter(|| {
+                    pool.install(|| cells_result = cells_pass(&mut timed, black_box(&positions)))
+                })
+            });
+            if threads == "1t" && list.uses_vector_scan() {
                 // The same list with the portable candidate test (what a processor without
                 // AVX-512 runs).
-                let (_, list, positions) = &lists[0];
-                let mut list = list.clone();
-                list.use_portable_scan();
+                let mut portable = list.clone();
+                portable.use_portable_scan();
                 group.bench_function(BenchmarkId::new("cells_portable", threads), |b| {
                     b.iter(|| {
-                        pool.install(|| cells_result = cells_pass(&mut list, black_box(positions)))
+                        pool.install(|| {
+                            cells_result = cells_pass(&mut portable, black_box(&positions))
+                        })
                     })
                 });
             }

@@ -1,13 +1,13 @@
 //! Reading a case: file → text → `Case`, with every problem reported.
 
 use std::fs;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
 use crate::error::{CaseError, Problem};
 use crate::schema::Case;
 
-/// Reads, parses and validates a case file, including that `output.folder` (when given) can
-/// be written.
+/// Reads, parses and validates a case file. It touches no other file: whether `output.folder`
+/// can be written is the runner's question (`lamella_run::feasibility::load_case`).
 ///
 /// Errors list every problem found (a syntax error stops parsing, so there is at most one).
 pub fn load(path: &Path) -> Result<Case, CaseError> {
@@ -30,20 +30,7 @@ pub fn load(path: &Path) -> Result<Case, CaseError> {
     }
     let bytes = fs::read(path).map_err(|err| refuse(cannot_read(err)))?;
     let text = utf8_text(&bytes).map_err(refuse)?;
-    let case = parse_str(text, &origin)?;
-    if let Some(folder) = &case.output.folder
-        && let Err(problem) = check_output_folder(Path::new(folder))
-    {
-        return Err(CaseError {
-            origin,
-            problems: vec![Problem::value(
-                "output.folder",
-                format!("{folder:?}"),
-                format!("a folder that can be created and written ({problem})"),
-            )],
-        });
-    }
-    Ok(case)
+    parse_str(text, &origin)
 }
 
 /// The case text, or a syntax problem at the line and column of the first byte that is not
@@ -121,82 +108,9 @@ pub fn to_ron(case: &Case) -> String {
         .expect("every case type serialises to RON")
 }
 
-/// Checks that `folder` can be created (if missing) and written, by creating and removing a
-/// probe file in it or in its nearest existing parent. Leaves nothing behind.
-pub fn check_output_folder(folder: &Path) -> Result<(), Problem> {
-    let folder: PathBuf = if folder.as_os_str().is_empty() {
-        PathBuf::from(".")
-    } else {
-        folder.to_path_buf()
-    };
-    let mut existing = folder.as_path();
-    loop {
-        match fs::metadata(existing) {
-            Ok(meta) if meta.is_dir() => break,
-            Ok(_) => {
-                return Err(Problem::File {
-                    message: format!(
-                        "{} exists and is not a folder; choose another run folder",
-                        existing.display()
-                    ),
-                });
-            }
-            Err(_) => match existing.parent() {
-                Some(parent) if !parent.as_os_str().is_empty() => existing = parent,
-                _ => {
-                    existing = Path::new(".");
-                    if fs::metadata(existing).is_err() {
-                        return Err(Problem::File {
-                            message: "the current folder cannot be read".into(),
-                        });
-                    }
-                    break;
-                }
-            },
-        }
-    }
-    let probe = existing.join(format!(".lamella-write-probe-{}", std::process::id()));
-    match fs::OpenOptions::new()
-        .write(true)
-        .create_new(true)
-        .open(&probe)
-    {
-        Ok(file) => {
-            drop(file);
-            let _ = fs::remove_file(&probe);
-            Ok(())
-        }
-        Err(err) => Err(Problem::File {
-            message: format!(
-                "cannot write in {}: {err}; choose a folder you can write to",
-                existing.display()
-            ),
-        }),
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn output_folder_check_leaves_nothing_behind() {
-        let dir = tempfile::tempdir().unwrap();
-        let target = dir.path().join("a/b/run");
-        check_output_folder(&target).unwrap();
-        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 0);
-        check_output_folder(dir.path()).unwrap();
-        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 0);
-    }
-
-    #[test]
-    fn output_folder_under_a_file_is_refused() {
-        let dir = tempfile::tempdir().unwrap();
-        let file = dir.path().join("plain");
-        fs::write(&file, "x").unwrap();
-        let err = check_output_folder(&file.join("run")).unwrap_err();
-        assert!(err.to_string().contains("is not a folder"), "{err}");
-    }
 
     #[test]
     fn syntax_errors_carry_line_and_column() {

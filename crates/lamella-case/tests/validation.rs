@@ -232,15 +232,6 @@ fn an_unknown_seed_mode_is_an_error_listing_the_modes() {
 }
 
 #[test]
-fn output_folder_that_cannot_be_written() {
-    assert_problem(
-        "output-folder-unwritable",
-        "output.folder",
-        "a folder that can be created and written (/dev/null exists and is not a folder",
-    );
-}
-
-#[test]
 fn non_periodic_side_without_a_wall() {
     assert_problem(
         "missing-wall",

@@ -3,7 +3,7 @@
 use rayon::prelude::*;
 
 use crate::domain::fold;
-use crate::grid::{CellOrder, Grid, morton_ranks};
+use crate::grid::Grid;
 #[cfg(target_arch = "x86_64")]
 use crate::scan::scan_avx512;
 use crate::scan::{Query, avx512_available, scan};
@@ -18,18 +18,6 @@ const MAX_HISTOGRAMS: usize = 4;
 /// Largest particle count a list accepts (indices and offsets are `u32`).
 pub const MAX_PARTICLES: usize = u32::MAX as usize - 1;
 
-/// Options of a [`CellList`] beyond the domain and the radius.
-#[derive(Debug, Clone, Copy, PartialEq, Default)]
-pub struct GridOptions {
-    /// Extra cell width so that queries stay exact while particles move: if no particle
-    /// has moved more than `margin / 2` since the last rebuild, every pair now closer than
-    /// the radius is still visited. Zero (the default) means queries need the positions
-    /// given to the last rebuild.
-    pub margin: f64,
-    /// Memory order of the cells (row-major by default: measured faster, see the README).
-    pub order: CellOrder,
-}
-
 /// A uniform grid of cells at least `radius` wide with the particles sorted by cell.
 ///
 /// After [`rebuild`](Self::rebuild), particle `k` of the sorted order is the particle
@@ -41,15 +29,11 @@ pub struct CellList<V: Vector> {
     domain: Domain<V>,
     radius: f64,
     radius_squared: f64,
-    options: GridOptions,
     grid: Grid,
     /// Period and half period of each periodic axis (zero on the others).
     period: [f64; 3],
     half_period: [f64; 3],
-    /// Morton order only: rank of each row-major cell, and row-major cell of each rank.
-    rank_of_cell: Vec<u32>,
-    cell_of_rank: Vec<u32>,
-    /// `cell_start[r]..cell_start[r + 1]` are the sorted particles of the cell of rank `r`.
+    /// `cell_start[c]..cell_start[c + 1]` are the sorted particles of the row-major cell `c`.
     cell_start: Vec<u32>,
     /// Old index of the `k`-th sorted particle.
     permutation: Vec<u32>,
@@ -64,23 +48,9 @@ pub struct CellList<V: Vector> {
 impl<V: Vector> CellList<V> {
     /// An empty list over `domain` for neighbours closer than `radius`.
     pub fn new(domain: Domain<V>, radius: f64) -> Result<Self, CellError> {
-        Self::with_options(domain, radius, GridOptions::default())
-    }
-
-    /// An empty list with a movement margin or a cell order other than the default.
-    pub fn with_options(
-        domain: Domain<V>,
-        radius: f64,
-        options: GridOptions,
-    ) -> Result<Self, CellError> {
         let domain = Domain::new(domain.lower, domain.upper, domain.periodic)?;
         if !(radius.is_finite() && radius > 0.0) {
             return Err(CellError::InvalidRadius { radius });
-        }
-        if !(options.margin.is_finite() && options.margin >= 0.0) {
-            return Err(CellError::InvalidMargin {
-                margin: options.margin,
-            });
         }
         let mut period = [0.0; 3];
         let mut half_period = [0.0; 3];
@@ -96,22 +66,15 @@ impl<V: Vector> CellList<V> {
             period[axis] = extent;
             half_period[axis] = 0.5 * extent;
         }
-        let grid = Grid::new(&domain, radius + options.margin)?;
-        let (rank_of_cell, cell_of_rank) = match options.order {
-            CellOrder::RowMajor => (Vec::new(), Vec::new()),
-            CellOrder::Morton => morton_ranks(&grid),
-        };
+        let grid = Grid::new(&domain, radius)?;
         let cell_start = vec![0; grid.total() + 1];
         Ok(Self {
             domain,
             radius,
             radius_squared: radius * radius,
-            options,
             grid,
             period,
             half_period,
-            rank_of_cell,
-            cell_of_rank,
             cell_start,
             permutation: Vec::new(),
             sorted_cell: Vec::new(),
@@ -128,11 +91,6 @@ impl<V: Vector> CellList<V> {
     /// The domain.
     pub fn domain(&self) -> &Domain<V> {
         &self.domain
-    }
-
-    /// The options the list was made with.
-    pub fn options(&self) -> GridOptions {
-        self.options
     }
 
     /// Number of particles binned by the last rebuild.
@@ -172,8 +130,6 @@ impl<V: Vector> CellList<V> {
     /// Heap bytes held by the structure (capacity × element size of every buffer).
     pub fn heap_bytes(&self) -> usize {
         [
-            &self.rank_of_cell,
-            &self.cell_of_rank,
             &self.cell_start,
             &self.permutation,
             &self.sorted_cell,
@@ -215,10 +171,9 @@ impl<V: Vector> CellList<V> {
         self.cell_start.fill(0);
     }
 
-    /// Writes the sort key (cell rank) of every particle into `sorted_cell`, in input order.
+    /// Writes the sort key (row-major cell) of every particle into `sorted_cell`, in input order.
     fn compute_keys(&mut self, positions: &[V]) -> Result<(), CellError> {
         let grid = &self.grid;
-        let rank = &self.rank_of_cell;
         let key_block = |start: usize, keys: &mut [u32], block: &[V]| -> Option<CellError> {
             // Fast path without branches; the checked one (wrapping periodic coordinates,
             // naming the first bad particle) only for a block with a particle outside.
@@ -228,11 +183,6 @@ impl<V: Vector> CellList<V> {
                         Ok(id) => *key = id as u32,
                         Err(error) => return Some(error),
                     }
-                }
-            }
-            if !rank.is_empty() {
-                for key in keys.iter_mut() {
-                    *key = rank[*key as usize];
                 }
             }
             None
@@ -308,18 +258,13 @@ impl<V: Vector> CellList<V> {
     /// Overwrites the keys with the row-major cell of each sorted particle.
     fn record_sorted_cells(&mut self) {
         let cells = self.grid.total();
-        for rank in 0..cells {
+        for cell in 0..cells {
             let (a, b) = (
-                self.cell_start[rank] as usize,
-                self.cell_start[rank + 1] as usize,
+                self.cell_start[cell] as usize,
+                self.cell_start[cell + 1] as usize,
             );
             if a < b {
-                let id = if self.cell_of_rank.is_empty() {
-                    rank as u32
-                } else {
-                    self.cell_of_rank[rank]
-                };
-                self.sorted_cell[a..b].fill(id);
+                self.sorted_cell[a..b].fill(cell as u32);
             }
         }
     }
@@ -327,7 +272,7 @@ impl<V: Vector> CellList<V> {
     /// Visits every particle `j != i` with `|r_ij| < radius`, where `r_ij = x_i − x_j` is the
     /// minimum-image displacement, calling `f(j, r_ij, |r_ij|)` in a fixed order (by stencil
     /// cell, then by index). Indices and `positions` are in the sorted order of the last
-    /// rebuild; positions may have moved by up to `margin / 2` since (see [`GridOptions`]).
+    /// rebuild, at the places given to it.
     ///
     /// Panics if `positions.len()` differs from the count given to the last rebuild.
     #[inline]
@@ -425,7 +370,7 @@ impl<V: Vector> CellList<V> {
         let c = self.grid.coords(id);
         let dims = self.grid.dims;
         let interior = (0..V::DIM).all(|a| c[a] >= 1 && c[a] + 2 <= dims[a]);
-        if interior && self.cell_of_rank.is_empty() {
+        if interior {
             // Row-major interior cell: each stencil row is cells id-1..=id+1 of that row.
             let (row, plane) = (dims[0], dims[0] * dims[1]);
             let planes: &[isize] = if V::DIM > 2 { &[-1, 0, 1] } else { &[0] };
@@ -449,28 +394,18 @@ impl<V: Vector> CellList<V> {
         let (xs, nx) = self.grid.axis_neighbours(0, c[0]);
         for &z in &zs[..nz] {
             for &y in &ys[..ny] {
-                if self.cell_of_rank.is_empty() {
-                    // Row-major: consecutive x cells of a row are one index range.
-                    let row = self.grid.id([0, y, z]);
-                    let mut k = 0;
-                    while k < nx {
-                        let mut end = k;
-                        while end + 1 < nx && xs[end + 1] == xs[end] + 1 {
-                            end += 1;
-                        }
-                        let a = self.cell_start[row + xs[k]] as usize;
-                        let b = self.cell_start[row + xs[end] + 1] as usize;
-                        range(a, b);
-                        k = end + 1;
+                // Consecutive x cells of a row are one index range.
+                let row = self.grid.id([0, y, z]);
+                let mut k = 0;
+                while k < nx {
+                    let mut end = k;
+                    while end + 1 < nx && xs[end + 1] == xs[end] + 1 {
+                        end += 1;
                     }
-                } else {
-                    for &x in &xs[..nx] {
-                        let rank = self.rank_of_cell[self.grid.id([x, y, z])] as usize;
-                        range(
-                            self.cell_start[rank] as usize,
-                            self.cell_start[rank + 1] as usize,
-                        );
-                    }
+                    let a = self.cell_start[row + xs[k]] as usize;
+                    let b = self.cell_start[row + xs[end] + 1] as usize;
+                    range(a, b);
+                    k = end + 1;
                 }
             }
         }

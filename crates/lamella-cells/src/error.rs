@@ -44,12 +44,6 @@ pub enum CellError {
         /// The radius given.
         radius: f64,
     },
-    /// The movement margin is negative or not finite.
-    #[error("movement margin {margin} must be finite and not negative")]
-    InvalidMargin {
-        /// The margin given.
-        margin: f64,
-    },
     /// A periodic axis is too short for the minimum image to be unique.
     #[error(
         "periodic axis {axis} is {extent} long, less than twice the search radius {radius}, so a \

@@ -1,5 +1,5 @@
-//! Geometry of the uniform cell grid: which cell a position falls in, and the order cells are
-//! laid out in memory.
+//! Geometry of the uniform cell grid: which cell a position falls in. Cells are laid out
+//! row-major (x fastest, then y, then z), so a row of stencil cells is one index range.
 
 use crate::domain::wrap_coordinate;
 use crate::prefetch::prefetch;
@@ -7,16 +7,6 @@ use crate::{CellError, Domain, Vector};
 
 /// The most cells one grid may have (keeps cell indices and offsets within `u32`).
 pub const MAX_CELLS: usize = 1 << 28;
-
-/// How cells are ordered in memory (particles are sorted by this order).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
-pub enum CellOrder {
-    /// x fastest, then y, then z. A row of stencil cells is one contiguous index range.
-    #[default]
-    RowMajor,
-    /// Z-order (Morton) curve: bits of the cell coordinates interleaved.
-    Morton,
-}
 
 /// A uniform grid over a domain: `dims[a]` cells of width at least the requested size on axis `a`.
 #[derive(Debug, Clone)]
@@ -175,32 +165,6 @@ impl Grid {
     }
 }
 
-/// Rank of every cell along the Morton curve (`rank[id]`) and its inverse (`cell[rank]`).
-pub(crate) fn morton_ranks(grid: &Grid) -> (Vec<u32>, Vec<u32>) {
-    let total = grid.total();
-    let mut by_code: Vec<(u64, u32)> = (0..total)
-        .map(|id| (morton_code(grid.coords(id)), id as u32))
-        .collect();
-    by_code.sort_unstable();
-    let mut rank = vec![0u32; total];
-    let cell: Vec<u32> = by_code.iter().map(|&(_, id)| id).collect();
-    for (r, &id) in cell.iter().enumerate() {
-        rank[id as usize] = r as u32;
-    }
-    (rank, cell)
-}
-
-/// Morton code: bit `b` of coordinate `a` goes to bit `3b + a` (up to 21 bits per axis).
-fn morton_code(c: [usize; 3]) -> u64 {
-    let mut code = 0u64;
-    for bit in 0..21 {
-        for (axis, &value) in c.iter().enumerate() {
-            code |= (((value >> bit) & 1) as u64) << (3 * bit + axis);
-        }
-    }
-    code
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -261,16 +225,5 @@ mod tests {
         assert_eq!(g.axis_neighbours(0, 8), ([0, 7, 8], 3));
         assert_eq!(g.axis_neighbours(1, 0).1, 2);
         assert_eq!(g.axis_neighbours(1, 3), ([2, 3, 0], 2));
-    }
-
-    #[test]
-    fn morton_ranks_are_a_permutation() {
-        let g = grid([false; 3]);
-        let (rank, cell) = morton_ranks(&g);
-        for (id, &r) in rank.iter().enumerate() {
-            assert_eq!(cell[r as usize] as usize, id);
-        }
-        assert_eq!(morton_code([1, 1, 0]), 0b11);
-        assert_eq!(morton_code([2, 0, 0]), 0b1000);
     }
 }

@@ -16,9 +16,9 @@ mod scan;
 mod vector;
 
 pub use caller_order::CallerOrder;
-pub use cell_list::{CellList, GridOptions, MAX_PARTICLES};
+pub use cell_list::{CellList, MAX_PARTICLES};
 pub use domain::Domain;
 pub use error::CellError;
-pub use grid::{CellOrder, MAX_CELLS};
+pub use grid::MAX_CELLS;
 pub use permute::apply_permutation;
 pub use vector::Vector;

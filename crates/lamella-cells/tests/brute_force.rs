@@ -4,7 +4,7 @@
 //! and the AVX-512 candidate test gives the portable test's visits bit for bit.
 
 use glam::{DVec2, DVec3};
-use lamella_cells::{CellList, CellOrder, Domain, GridOptions, Vector, apply_permutation};
+use lamella_cells::{CellList, Domain, Vector, apply_permutation};
 use proptest::prelude::*;
 
 /// Where one coordinate of a particle sits, relative to the grid.
@@ -43,8 +43,6 @@ struct Cloud {
     lower: [f64; 3],
     radius: f64,
     places: Vec<[Place; 3]>,
-    margin: f64,
-    order: CellOrder,
 }
 
 fn extent_for(periodic: bool) -> BoxedStrategy<f64> {
@@ -62,10 +60,8 @@ fn cloud(max_particles: usize) -> impl Strategy<Value = Cloud> {
         prop::array::uniform3(any::<bool>()),
         prop::array::uniform3(-5.0..5.0f64),
         0.05..2.0f64,
-        prop_oneof![Just(0.0), 0.0..0.5f64],
-        prop_oneof![Just(CellOrder::RowMajor), Just(CellOrder::Morton)],
     )
-        .prop_flat_map(move |(periodic, lower, radius, margin, order)| {
+        .prop_flat_map(move |(periodic, lower, radius)| {
             (
                 (
                     extent_for(periodic[0]),
@@ -80,8 +76,6 @@ fn cloud(max_particles: usize) -> impl Strategy<Value = Cloud> {
                     lower,
                     radius,
                     places,
-                    margin: margin * radius,
-                    order,
                 })
         })
 }
@@ -89,13 +83,9 @@ fn cloud(max_particles: usize) -> impl Strategy<Value = Cloud> {
 /// Builds the domain and positions of a cloud in `V`'s dimension.
 fn realise<V: Vector>(c: &Cloud) -> (CellList<V>, Vec<V>) {
     let lower = V::from_fn(|a| c.lower[a]);
-    let upper = V::from_fn(|a| c.lower[a] + c.extents[a] * (c.radius + c.margin));
+    let upper = V::from_fn(|a| c.lower[a] + c.extents[a] * c.radius);
     let domain = Domain::new(lower, upper, c.periodic).unwrap();
-    let options = GridOptions {
-        margin: c.margin,
-        order: c.order,
-    };
-    let list = CellList::with_options(domain, c.radius, options).unwrap();
+    let list = CellList::new(domain, c.radius).unwrap();
     let cells = list.cells_per_axis();
     let positions = c
         .places
@@ -237,36 +227,4 @@ fn periodic_neighbour_across_the_seam_is_found_once_with_the_short_displacement(
     let (j, r, d) = found[0];
     assert_eq!(j, 1);
     assert!((r.x - 0.2).abs() < 1e-12 && r.y == 0.0 && (d - 0.2).abs() < 1e-12);
-}
-
-#[test]
-fn moved_particles_are_still_found_within_the_margin() {
-    let domain = Domain::new(DVec2::ZERO, DVec2::splat(10.0), [false; 3]).unwrap();
-    let options = GridOptions {
-        margin: 0.2,
-        order: CellOrder::RowMajor,
-    };
-    let mut list = CellList::with_options(domain, 1.0, options).unwrap();
-    // Cells are at least 1.2 wide. The pair starts 1.15 apart (not neighbours), then each
-    // particle moves 0.0999 (< margin / 2) towards the other: now 0.9502 apart.
-    let start = vec![DVec2::new(2.2, 5.0), DVec2::new(3.35, 5.0)];
-    let mut y = start.clone();
-    list.rebuild(&y).unwrap();
-    apply_permutation(list.permutation(), &mut y, &mut Vec::new());
-    let mut count = 0;
-    list.for_each_neighbour(&y, 0, |_, _, _| count += 1);
-    assert_eq!(count, 0);
-    y[0].x += 0.0999;
-    y[1].x -= 0.0999;
-    let mut found = Vec::new();
-    list.for_each_neighbour(&y, 0, |j, _, d| found.push((j, d)));
-    assert_eq!(found.len(), 1);
-    assert!((found[0].1 - (1.15 - 0.1998)).abs() < 1e-12);
-    // Without the margin the cells are 10/9 wide and the pair was binned two cells apart,
-    // so the moved pair is missed: the margin is what makes the query above exact.
-    let mut tight = CellList::new(domain, 1.0).unwrap();
-    tight.rebuild(&start).unwrap();
-    let mut tight_count = 0;
-    tight.for_each_neighbour(&y, 0, |_, _, _| tight_count += 1);
-    assert_eq!(tight_count, 0);
 }

@@ -2,7 +2,7 @@
 //! memory the structure holds.
 
 use glam::{DVec2, DVec3};
-use lamella_cells::{CellError, CellList, CellOrder, Domain, GridOptions, apply_permutation};
+use lamella_cells::{CellError, CellList, Domain, apply_permutation};
 
 /// A square jittered lattice at spacing 1 (xorshift jitter of ±0.25), `side²` particles,
 /// listed in a scrambled order so that the sort has work to do.
@@ -37,12 +37,11 @@ fn in_pool<T: Send>(threads: usize, f: impl FnOnce() -> T + Send) -> T {
 }
 
 /// Permutation and full visit order (sorted indices, displacements) built in a pool.
-fn build_and_visit(threads: usize, order: CellOrder) -> (Vec<u32>, Vec<(usize, usize, DVec2)>) {
+fn build_and_visit(threads: usize) -> (Vec<u32>, Vec<(usize, usize, DVec2)>) {
     let raw = scrambled_lattice(250);
     in_pool(threads, || {
         let domain = Domain::new(DVec2::ZERO, DVec2::splat(250.0), [true, false, false]).unwrap();
-        let options = GridOptions { margin: 0.0, order };
-        let mut list = CellList::with_options(domain, 2.6, options).unwrap();
+        let mut list = CellList::new(domain, 2.6).unwrap();
         list.rebuild(&raw).unwrap();
         let perm = list.permutation().to_vec();
         let mut x = raw.clone();
@@ -57,16 +56,10 @@ fn build_and_visit(threads: usize, order: CellOrder) -> (Vec<u32>, Vec<(usize, u
 
 #[test]
 fn result_does_not_depend_on_the_thread_count() {
-    for order in [CellOrder::RowMajor, CellOrder::Morton] {
-        let reference = build_and_visit(1, order);
-        assert!(reference.1.len() > 62_500 * 20);
-        for threads in [2, 3, 4] {
-            assert_eq!(
-                build_and_visit(threads, order),
-                reference,
-                "{threads} threads"
-            );
-        }
+    let reference = build_and_visit(1);
+    assert!(reference.1.len() > 62_500 * 20);
+    for threads in [2, 3, 4] {
+        assert_eq!(build_and_visit(threads), reference, "{threads} threads");
     }
 }
 
@@ -140,14 +133,6 @@ fn bad_settings_are_refused_with_the_reason() {
         CellList::new(domain, f64::NAN),
         Err(CellError::InvalidRadius { .. })
     ));
-    let margin = GridOptions {
-        margin: -0.1,
-        order: CellOrder::RowMajor,
-    };
-    assert!(matches!(
-        CellList::with_options(domain, 0.1, margin),
-        Err(CellError::InvalidMargin { .. })
-    ));
     assert!(matches!(
         CellList::new(domain, 1e-4),
         Err(CellError::TooManyCells { .. })
@@ -168,19 +153,15 @@ fn bad_settings_are_refused_with_the_reason() {
 fn memory_overhead_is_at_most_16_bytes_per_particle() {
     let raw = scrambled_lattice(316);
     for threads in [1, 2, 4] {
-        for order in [CellOrder::RowMajor, CellOrder::Morton] {
-            let domain =
-                Domain::new(DVec2::ZERO, DVec2::splat(316.0), [true, false, false]).unwrap();
-            let options = GridOptions { margin: 0.0, order };
-            let mut list = CellList::with_options(domain, 2.6, options).unwrap();
-            in_pool(threads, || list.rebuild(&raw)).unwrap();
-            in_pool(threads, || list.rebuild(&raw)).unwrap();
-            let per_particle = list.heap_bytes() as f64 / raw.len() as f64;
-            assert!(
-                per_particle <= 16.0,
-                "{per_particle} B/particle with {threads} threads, {order:?}"
-            );
-            assert!(per_particle >= 8.0, "counts the two per-particle arrays");
-        }
+        let domain = Domain::new(DVec2::ZERO, DVec2::splat(316.0), [true, false, false]).unwrap();
+        let mut list = CellList::new(domain, 2.6).unwrap();
+        in_pool(threads, || list.rebuild(&raw)).unwrap();
+        in_pool(threads, || list.rebuild(&raw)).unwrap();
+        let per_particle = list.heap_bytes() as f64 / raw.len() as f64;
+        assert!(
+            per_particle <= 16.0,
+            "{per_particle} B/particle with {threads} threads"
+        );
+        assert!(per_particle >= 8.0, "counts the two per-particle arrays");
     }
 }

@@ -7,16 +7,28 @@ use std::path::Path;
 use lamella_case::{Case, CaseError, Problem, ViscosityTreatment};
 use lamella_sph::{Limit, TimeStepFactors, stable_time_step};
 
+use crate::output::folder::check_output_folder;
+
 /// Most time steps a run may need to reach `time.end`: at a few microseconds per step for the
 /// smallest cases, more would take days to years.
 pub const MAX_STEPS: f64 = 1.0e9;
 
-/// Loads and validates a case file, then checks that it can finish and fits in this machine's
-/// memory ([`problems`]); the error lists every problem. Every command that reads a case goes
-/// through here, so `check` and `run` agree.
+/// Loads and validates a case file, then checks that it can finish, fits in this machine's
+/// memory ([`problems`]) and that its `output.folder`, when given, can be created and written
+/// ([`check_output_folder`]); the error lists every problem. Every command that reads a case
+/// goes through here, so `check` and `run` agree.
 pub fn load_case(path: &Path) -> Result<Case, CaseError> {
     let case = lamella_case::load(path)?;
-    let problems = problems(&case);
+    let mut problems = problems(&case);
+    if let Some(folder) = &case.output.folder
+        && let Err(problem) = check_output_folder(Path::new(folder))
+    {
+        problems.push(Problem::value(
+            "output.folder",
+            format!("{folder:?}"),
+            format!("a folder that can be created and written ({problem})"),
+        ));
+    }
     if !problems.is_empty() {
         return Err(CaseError {
             origin: path.display().to_string(),
@@ -135,6 +147,28 @@ fn meminfo_total(text: &str) -> Option<u64> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn an_output_folder_that_cannot_be_written_is_refused_with_its_field() {
+        // The bundled Couette case with its output folder under a file.
+        let dir = tempfile::tempdir().unwrap();
+        let file = dir.path().join("plain");
+        std::fs::write(&file, "x").unwrap();
+        let bundled = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/couette.ron");
+        let mut case = lamella_case::load(&bundled).expect("bundled case");
+        case.output.folder = Some(file.join("run").display().to_string());
+        let path = dir.path().join("case.ron");
+        std::fs::write(&path, lamella_case::to_ron(&case)).unwrap();
+        let text = load_case(&path).unwrap_err().to_string();
+        assert!(text.contains("output.folder"), "{text}");
+        assert!(
+            text.contains("a folder that can be created and written")
+                && text.contains("is not a folder"),
+            "{text}"
+        );
+        // Loading alone (the case crate) does not look at the file system.
+        assert!(lamella_case::load(&path).is_ok());
+    }
 
     #[test]
     fn meminfo_total_is_read_in_bytes() {

@@ -23,6 +23,8 @@ use std::path::{Path, PathBuf};
 use std::sync::Arc;
 use std::time::{Instant, SystemTime, UNIX_EPOCH};
 
+use lamella_case::Problem;
+
 use super::OutputError;
 
 /// The entries Lamella writes into a run folder (what `--force` clears).
@@ -239,9 +241,82 @@ impl RunLog {
     }
 }
 
+/// Checks that `folder` can be created (if missing) and written, by creating and removing a
+/// probe file in it or in its nearest existing parent. Leaves nothing behind.
+pub fn check_output_folder(folder: &Path) -> Result<(), Problem> {
+    let folder: PathBuf = if folder.as_os_str().is_empty() {
+        PathBuf::from(".")
+    } else {
+        folder.to_path_buf()
+    };
+    let mut existing = folder.as_path();
+    loop {
+        match fs::metadata(existing) {
+            Ok(meta) if meta.is_dir() => break,
+            Ok(_) => {
+                return Err(Problem::File {
+                    message: format!(
+                        "{} exists and is not a folder; choose another run folder",
+                        existing.display()
+                    ),
+                });
+            }
+            Err(_) => match existing.parent() {
+                Some(parent) if !parent.as_os_str().is_empty() => existing = parent,
+                _ => {
+                    existing = Path::new(".");
+                    if fs::metadata(existing).is_err() {
+                        return Err(Problem::File {
+                            message: "the current folder cannot be read".into(),
+                        });
+                    }
+                    break;
+                }
+            },
+        }
+    }
+    let probe = existing.join(format!(".lamella-write-probe-{}", std::process::id()));
+    match fs::OpenOptions::new()
+        .write(true)
+        .create_new(true)
+        .open(&probe)
+    {
+        Ok(file) => {
+            drop(file);
+            let _ = fs::remove_file(&probe);
+            Ok(())
+        }
+        Err(err) => Err(Problem::File {
+            message: format!(
+                "cannot write in {}: {err}; choose a folder you can write to",
+                existing.display()
+            ),
+        }),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn output_folder_check_leaves_nothing_behind() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("a/b/run");
+        check_output_folder(&target).unwrap();
+        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 0);
+        check_output_folder(dir.path()).unwrap();
+        assert_eq!(fs::read_dir(dir.path()).unwrap().count(), 0);
+    }
+
+    #[test]
+    fn output_folder_under_a_file_is_refused() {
+        let dir = tempfile::tempdir().unwrap();
+        let file = dir.path().join("plain");
+        fs::write(&file, "x").unwrap();
+        let err = check_output_folder(&file.join("run")).unwrap_err();
+        assert!(err.to_string().contains("is not a folder"), "{err}");
+    }
 
     #[test]
     fn a_non_empty_folder_needs_force_and_force_keeps_foreign_files() {

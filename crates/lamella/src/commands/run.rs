@@ -58,7 +58,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             )));
         }
     };
-    lamella_case::check_output_folder(&out)
+    lamella_run::output::folder::check_output_folder(&out)
         .map_err(|problem| Failure::BadInput(format!("run folder {}: {problem}", out.display())))?;
     std::fs::create_dir_all(&out).map_err(|err| {
         Failure::BadInput(format!("cannot create run folder {}: {err}", out.display()))
