@@ -9,6 +9,7 @@ pub mod interface;
 pub mod mixing;
 pub mod neighbours;
 pub mod norms;
+pub mod number;
 pub mod plot;
 pub mod profile;
 pub mod reference;

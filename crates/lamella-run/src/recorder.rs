@@ -147,8 +147,9 @@ impl<V: Vector> Recorder<V> {
         collection.write()?;
         let mut log = RunLog::open(&folder.log())?;
         log.line(&format!(
-            "resumed at t = {:e} s, step {}",
-            checkpoint.time, checkpoint.step
+            "resumed at t = {} s, step {}",
+            log_time(checkpoint.time),
+            checkpoint.step
         ))?;
         Ok(Recorder {
             collection,
@@ -221,9 +222,9 @@ impl<V: Vector> Recorder<V> {
         self.last_checkpoint = Instant::now();
         self.newest_checkpoint = Some(path.clone());
         self.log.line(&format!(
-            "checkpoint {} at t = {:e} s, step {}",
+            "checkpoint {} at t = {} s, step {}",
             path.display(),
-            sim.time(),
+            log_time(sim.time()),
             sim.step_count()
         ))?;
         Ok(path)
@@ -246,8 +247,8 @@ impl<V: Vector> Recorder<V> {
         )?;
         self.collection.push(sim.time(), name.clone())?;
         self.log.line(&format!(
-            "snapshot {name} at t = {:e} s, step {}",
-            sim.time(),
+            "snapshot {name} at t = {} s, step {}",
+            log_time(sim.time()),
             sim.step_count()
         ))
     }
@@ -366,8 +367,8 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         self.checkpoint(sim).map_err(failed)?;
         self.log
             .line(&format!(
-                "finished at t = {:e} s, step {}",
-                sim.time(),
+                "finished at t = {} s, step {}",
+                log_time(sim.time()),
                 sim.step_count()
             ))
             .map_err(failed)
@@ -389,4 +390,9 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
             .line("interrupted; resume with `lamella resume`")
             .map_err(failed)
     }
+}
+/// A simulated time as `run.log` writes it (s): nine significant digits, enough to tell
+/// samples apart, without float noise (the exact value is in the files).
+fn log_time(t: f64) -> String {
+    lamella_post::number::significant(t, 9)
 }

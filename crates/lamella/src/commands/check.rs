@@ -291,27 +291,5 @@ fn duration(seconds: f64) -> String {
 
 /// Four significant digits, plain for moderate magnitudes and scientific otherwise.
 fn sig(x: f64) -> String {
-    if !x.is_finite() || x == 0.0 {
-        return format!("{x}");
-    }
-    let rounded: f64 = format!("{x:.3e}").parse().unwrap_or(x);
-    if (1e-3..1e5).contains(&rounded.abs()) {
-        format!("{rounded}")
-    } else {
-        format!("{rounded:e}")
-    }
-}
-
-#[cfg(test)]
-mod tests {
-    use super::sig;
-
-    #[test]
-    fn four_significant_digits() {
-        assert_eq!(sig(0.077459666), "0.07746");
-        assert_eq!(sig(6.76e-5), "6.76e-5");
-        assert_eq!(sig(100.0), "100");
-        assert_eq!(sig(4.8), "4.8");
-        assert_eq!(sig(2.5e6), "2.5e6");
-    }
+    lamella_post::number::significant(x, 4)
 }

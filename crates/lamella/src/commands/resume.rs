@@ -124,13 +124,16 @@ fn resume_case<V: Vector>(
         ))
     })?;
     if until.is_some() {
-        recorder.note(&format!("run on to t = {end:e} s (--until)"))?;
+        recorder.note(&format!(
+            "run on to t = {} s (--until)",
+            lamella_post::number::significant(end, 9)
+        ))?;
     }
     let summary = run_recorded(&mut sim, end, &mut recorder, stop, globals)?;
     if !globals.quiet {
         crate::note!(
-            "finished at t = {:.6e} s after {} more steps in {:.1} s; results in {}",
-            sim.time(),
+            "finished at t = {} s after {} more steps in {:.1} s; results in {}",
+            lamella_post::number::significant(sim.time(), 9),
             summary.steps,
             summary.seconds,
             recorder.folder().root().display()

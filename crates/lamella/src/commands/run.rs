@@ -154,9 +154,9 @@ fn run_case<V: Vector>(
     let summary = run_recorded(&mut sim, case.time.end, &mut observer, stop, globals)?;
     if !globals.quiet {
         crate::note!(
-            "{name}: finished at t = {:.4e} s after {} steps in {:.1} s; time step mostly \
+            "{name}: finished at t = {} s after {} steps in {:.1} s; time step mostly \
              limited by the {} criterion (acoustic {}, viscous {}, force {} steps); results in {}",
-            sim.time(),
+            lamella_post::number::significant(sim.time(), 9),
             summary.steps,
             summary.seconds,
             summary.dominant_limit(),
