@@ -695,9 +695,15 @@ mod tests {
     use crate::kernel::KernelKind;
     use glam::DVec2;
 
-    /// A periodic box of inviscid fluid holding one standing sound wave, ρ = ρ0 (1 + ε sin kx).
-    fn sound_wave(amplitude: f64) -> Simulation<DVec2> {
-        let (nx, ny, dx) = (20, 8, 0.1);
+    /// A periodic box of `nx` × `ny` particles at spacing `dx` of one fluid (ρ0 = 1000 kg/m³,
+    /// c0 = 10 m/s, no density diffusion) of dynamic viscosity `mu` (Pa·s) advanced with
+    /// `treatment`, each particle's velocity and density given by `state` at its position.
+    fn periodic_box(
+        (nx, ny, dx): (usize, usize, f64),
+        mu: f64,
+        treatment: ViscosityTreatment,
+        state: impl Fn(DVec2) -> (DVec2, f64),
+    ) -> Simulation<DVec2> {
         let size = DVec2::new(nx as f64 * dx, ny as f64 * dx);
         let kernel = Kernel::new(KernelKind::WendlandC2, 1.3 * dx, 2);
         let config = SolverConfig {
@@ -708,55 +714,7 @@ mod tests {
                 background_pressure: 0.0,
             },
             reference_density: vec![1000.0],
-            viscosity_laws: vec![ViscosityLaw::Newtonian { viscosity: 0.0 }],
-            pair_viscosity: PairViscosity::Harmonic,
-            body_force: DVec2::ZERO,
-            density_diffusion: 0.0,
-            viscous_normalisation: 1.0,
-            full_viscous_stress: false,
-            viscosity_treatment: ViscosityTreatment::Explicit,
-            time_step: TimeStepFactors::default(),
-            regularisation: Regularisation::None,
-            density_tolerance: 0.5,
-            search_domain: Domain::new(DVec2::ZERO, size, [true, true, false]).unwrap(),
-            fluid_lower: DVec2::ZERO,
-            fluid_upper: size,
-        };
-        let mut p = Particles::default();
-        for k in 0..nx * ny {
-            let x = DVec2::new((k % nx) as f64 + 0.5, (k / nx) as f64 + 0.5) * dx;
-            let phase = std::f64::consts::TAU * x.x / size.x;
-            p.position.push(x);
-            p.initial_position.push(x);
-            p.velocity.push(DVec2::ZERO);
-            p.density.push(1000.0 * (1.0 + amplitude * phase.sin()));
-            p.pressure.push(0.0);
-            p.mass.push(1000.0 * dx * dx);
-            p.viscosity.push(0.0);
-            p.phase.push(0);
-            p.kind.push(Kind::Fluid);
-            p.id.push(k as u64);
-        }
-        Simulation::new(config, p).unwrap()
-    }
-
-    /// A periodic box of `rows` × 8 particles holding the shear wave u = U sin(2π y), v = 0,
-    /// with kinematic viscosity `nu` (m²/s), c0 = 10 m/s, and the given viscosity treatment.
-    fn shear_wave(rows: usize, nu: f64, treatment: ViscosityTreatment) -> Simulation<DVec2> {
-        let (nx, dx) = (8, 1.0 / rows as f64);
-        let size = DVec2::new(nx as f64 * dx, 1.0);
-        let kernel = Kernel::new(KernelKind::WendlandC2, 1.3 * dx, 2);
-        let config = SolverConfig {
-            kernel,
-            state_law: StateLaw {
-                form: EquationOfState::Linear,
-                sound_speed: 10.0,
-                background_pressure: 0.0,
-            },
-            reference_density: vec![1000.0],
-            viscosity_laws: vec![ViscosityLaw::Newtonian {
-                viscosity: 1000.0 * nu,
-            }],
+            viscosity_laws: vec![ViscosityLaw::Newtonian { viscosity: mu }],
             pair_viscosity: PairViscosity::Harmonic,
             body_force: DVec2::ZERO,
             density_diffusion: 0.0,
@@ -771,21 +729,39 @@ mod tests {
             fluid_upper: size,
         };
         let mut p = Particles::default();
-        for k in 0..nx * rows {
+        for k in 0..nx * ny {
             let x = DVec2::new((k % nx) as f64 + 0.5, (k / nx) as f64 + 0.5) * dx;
+            let (velocity, density) = state(x);
             p.position.push(x);
             p.initial_position.push(x);
-            p.velocity
-                .push(DVec2::new((std::f64::consts::TAU * x.y).sin(), 0.0));
-            p.density.push(1000.0);
+            p.velocity.push(velocity);
+            p.density.push(density);
             p.pressure.push(0.0);
             p.mass.push(1000.0 * dx * dx);
-            p.viscosity.push(1000.0 * nu);
+            p.viscosity.push(mu);
             p.phase.push(0);
             p.kind.push(Kind::Fluid);
             p.id.push(k as u64);
         }
         Simulation::new(config, p).unwrap()
+    }
+
+    /// A periodic box of inviscid fluid holding one standing sound wave, ρ = ρ0 (1 + ε sin kx).
+    fn sound_wave(amplitude: f64) -> Simulation<DVec2> {
+        let (nx, dx) = (20, 0.1);
+        let k = std::f64::consts::TAU / (nx as f64 * dx);
+        periodic_box((nx, 8, dx), 0.0, ViscosityTreatment::Explicit, |x| {
+            (DVec2::ZERO, 1000.0 * (1.0 + amplitude * (k * x.x).sin()))
+        })
+    }
+
+    /// A periodic box of `rows` × 8 particles holding the shear wave u = U sin(2π y), v = 0,
+    /// with kinematic viscosity `nu` (m²/s), c0 = 10 m/s, and the given viscosity treatment.
+    fn shear_wave(rows: usize, nu: f64, treatment: ViscosityTreatment) -> Simulation<DVec2> {
+        let shear = |x: DVec2| DVec2::new((std::f64::consts::TAU * x.y).sin(), 0.0);
+        periodic_box((8, rows, 1.0 / rows as f64), 1000.0 * nu, treatment, |x| {
+            (shear(x), 1000.0)
+        })
     }
 
     /// Amplitude of the sin(2π y) mode of u: Σ u sin / Σ sin² over the particles.
