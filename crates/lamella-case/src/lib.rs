@@ -15,7 +15,7 @@ mod validate;
 pub use derived::{ChannelFlow, LayerBand, LayerPair, SoundSpeedCriterion};
 pub use error::{CaseError, Problem, Warning};
 pub use generate::{Generated, Seed, generate};
-pub use load::{load, parse_str, parse_unvalidated, to_ron};
+pub use load::{load, parse_listing, parse_str, parse_unvalidated, to_ron};
 pub use schema::{
     Analysis, Axis, Case, Domain, EquationOfState, InitialVelocity, Kernel, Output, PairViscosity,
     ParticleSettings, Perturbation, Phase, Probe, Region, Scales, SeedMode, Side, Time,

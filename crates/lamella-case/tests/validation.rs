@@ -285,6 +285,44 @@ fn unknown_fields_are_errors_with_their_place() {
 }
 
 #[test]
+fn every_misspelt_name_is_listed_at_once_with_the_bad_values() {
+    let path = invalid("several-typos");
+    let err = load(&path).unwrap_err();
+    let text = err.to_string();
+    let lines: Vec<&str> = text.lines().collect();
+    let file = path.display().to_string();
+    // In file order, each at its own line and column, each with the accepted names.
+    let expected = [
+        (format!("{file}:4:72: "), "`Q`"),
+        (format!("{file}:5:34: "), "`smothing_ratio`"),
+        (format!("{file}:16:5: "), "`colour`"),
+        (format!("{file}:18:22: "), "`snapshot_intervall`"),
+    ];
+    assert_eq!(lines.len(), expected.len() + 1, "{text}");
+    for ((place, name), line) in expected.iter().zip(&lines) {
+        assert!(line.starts_with(place.as_str()), "{place} expected: {text}");
+        assert!(line.contains(name) && line.contains("expected"), "{line}");
+    }
+    assert!(
+        lines[1].contains("did you mean `smoothing_ratio`?"),
+        "{}",
+        lines[1]
+    );
+    assert!(
+        lines[3].contains("did you mean `snapshot_interval`?"),
+        "{}",
+        lines[3]
+    );
+    assert!(!lines[2].contains("did you mean"), "{}", lines[2]);
+    // The misspelt fields' values are still read: the bad density is reported too.
+    assert!(
+        lines[4].contains("phases[0].density") && lines[4].contains("-1"),
+        "{}",
+        lines[4]
+    );
+}
+
+#[test]
 fn a_missing_file_is_a_clear_error() {
     let err = load(&invalid("does-not-exist")).unwrap_err();
     assert!(
