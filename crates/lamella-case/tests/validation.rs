@@ -361,3 +361,55 @@ fn warnings_on_large_ratio_averaging_and_unstable_factors() {
     assert!((criteria[1].sound_speed - 0.1).abs() < 1e-12);
     assert_eq!(case.sound_speed(), criteria[1].sound_speed);
 }
+
+/// Densities and viscosities outside the ranges of liquids draw a warning (never a refusal)
+/// that names the likely unit slip.
+#[test]
+fn implausible_magnitudes_warn_with_the_likely_unit_slip() {
+    use lamella_case::ViscosityLaw;
+    let base = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/base.ron");
+    let valid = load(&base).expect("the base case is valid");
+    let messages = |case: &lamella_case::Case| -> Vec<String> {
+        case.warnings().into_iter().map(|w| w.to_string()).collect()
+    };
+    // Density 1: g/cm³ typed as kg/m³.
+    let mut case = valid.clone();
+    case.phases[1].density = 1.0;
+    let found = messages(&case);
+    assert_eq!(found.len(), 1, "{found:?}");
+    assert!(
+        found[0].starts_with("phases[1].density: 1 kg/m³")
+            && found[0].contains("common practice")
+            && found[0].contains("did you mean 1 g/cm³ = 1000 kg/m³?"),
+        "{}",
+        found[0]
+    );
+    // A viscosity in mPa·s typed as Pa·s, far beyond any liquid.
+    let mut case = valid.clone();
+    case.phases[0].viscosity_law = ViscosityLaw::Newtonian { viscosity: 2.0e5 };
+    let found = messages(&case);
+    assert!(
+        found.iter().any(
+            |w| w.starts_with("phases[0].viscosity_law.viscosity: 2e5 Pa·s")
+                && w.contains("did you mean 2e5 mPa·s = 200 Pa·s?")
+        ),
+        "{found:?}"
+    );
+    // A kinematic viscosity (water, 1e-6 m²/s) typed as the dynamic one.
+    let mut case = valid.clone();
+    case.phases[1].viscosity_law = ViscosityLaw::Newtonian { viscosity: 1.0e-6 };
+    let found = messages(&case);
+    assert!(
+        found
+            .iter()
+            .any(|w| w.contains("kinematic viscosity") && w.contains("μ = ρ ν = 0.001 Pa·s")),
+        "{found:?}"
+    );
+    // The limits themselves are liquids.
+    let mut case = valid;
+    case.phases[0].density = lamella_case::LIQUID_DENSITY_COMMON.1;
+    case.phases[1].viscosity_law = ViscosityLaw::Newtonian {
+        viscosity: lamella_case::LIQUID_VISCOSITY_COMMON.0,
+    };
+    assert!(messages(&case).is_empty(), "{:?}", messages(&case));
+}
