@@ -255,3 +255,32 @@ fn help_explains_every_subcommand_and_option() {
         }
     }
 }
+
+#[test]
+fn global_options_have_their_own_heading_and_bench_alone_describes_a_thread_list() {
+    for command in ["run", "check", "stability", "converge", "resume"] {
+        let out = lamella(&[command, "--help"]);
+        assert_eq!(out.status.code(), Some(0), "{command} --help");
+        let help = text(&out.stdout);
+        assert!(
+            !help.contains("bench"),
+            "{command} --help mentions bench:\n{help}"
+        );
+        // Both global options come after the heading, none of the command's own options do.
+        let heading = help
+            .find("Global options:")
+            .unwrap_or_else(|| panic!("{command} --help has no global heading:\n{help}"));
+        let globals = &help[heading..];
+        assert!(
+            globals.contains("--threads") && globals.contains("--quiet"),
+            "{command}: {globals}"
+        );
+        assert!(
+            !help[..heading].contains("--threads") && !help[..heading].contains("--quiet"),
+            "{command} --help lists a global option among its own:\n{help}"
+        );
+    }
+    let out = lamella(&["bench", "--help"]);
+    let help = text(&out.stdout);
+    assert!(help.contains("--threads 1,2"), "{help}");
+}
