@@ -284,3 +284,21 @@ fn global_options_have_their_own_heading_and_bench_alone_describes_a_thread_list
     let help = text(&out.stdout);
     assert!(help.contains("--threads 1,2"), "{help}");
 }
+
+#[test]
+fn every_misspelt_field_of_a_case_is_listed_at_once_with_exit_code_2() {
+    let case = root().join("crates/lamella-case/tests/invalid/several-typos.ron");
+    let out = lamella(&["check", path_str(&case)]);
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = text(&out.stderr);
+    assert!(stderr.contains("5 problems in the case file"), "{stderr}");
+    for name in [
+        "`smothing_ratio`",
+        "`snapshot_intervall`",
+        "`colour`",
+        "`Q`",
+    ] {
+        assert!(stderr.contains(name), "{name} not listed:\n{stderr}");
+    }
+    assert!(stderr.contains("phases[0].density"), "{stderr}");
+}

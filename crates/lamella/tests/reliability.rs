@@ -214,7 +214,10 @@ fn sighup_and_sigterm_save_like_ctrl_c() {
     let case = write_case(dir.path(), intervals);
     for name in ["HUP", "TERM"] {
         let out = dir.path().join(name);
-        let child = run_command(&case, &out).spawn().unwrap();
+        let child = run_command(&case, &out)
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap();
         wait_until_stepping(&out);
         signal(&child, name);
         let output = child.wait_with_output().unwrap();
