@@ -32,7 +32,8 @@ const PNG_SIZE: (u32, u32) = (800, 560);
 /// Options of `lamella stability`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "Scaled units: lengths by the channel half-width h, velocities by the \
+    after_help = "Modes: a CASE file; --m, --n and --re with --wavenumber or --scan; --re and \
+    --wavenumber with --map-m and --map-n (a map over the ratios); or --run DIR.\n\nScaled units: lengths by the channel half-width h, velocities by the \
     peak velocity U_max of the steady profile, Re = rho U_max h / mu_lower, m = mu_lower/mu_upper, \
     n = d_lower/d_upper, growth rate = wavenumber x Im(c) in U_max/h, tension S = gamma/(rho \
     U_max^2 h).\n\nWith --run: the verdict is \"agrees\" when the prediction lies within the \
