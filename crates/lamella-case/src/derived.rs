@@ -175,7 +175,8 @@ impl Case {
     }
 
     /// Reynolds number U L / ν_min with the expected peak speed, the reference length and the
-    /// least viscous phase (the most inertial one).
+    /// least viscous phase (the most inertial one). `lamella check` shows it for cases that are
+    /// not channels; a channel gets ρ U_max h/μ_lower from its steady profile instead.
     pub fn reynolds_number(&self) -> f64 {
         let nu = self
             .kinematic_viscosities()

@@ -15,7 +15,7 @@ mod validate;
 pub use derived::{ChannelFlow, LayerBand, LayerPair, SoundSpeedCriterion};
 pub use error::{CaseError, Problem, Warning};
 pub use generate::{Generated, Seed, generate};
-pub use load::{load, parse_str, parse_unvalidated, to_ron};
+pub use load::{load, parse_listing, parse_str, parse_unvalidated, to_ron};
 pub use schema::{
     Analysis, Axis, Case, Domain, EquationOfState, InitialVelocity, Kernel, Output, PairViscosity,
     ParticleSettings, Perturbation, Phase, Probe, Region, Scales, SeedMode, Side, Time,
@@ -23,6 +23,6 @@ pub use schema::{
 };
 pub use validate::{
     ACOUSTIC_FORCE_FACTOR_LIMIT, ARITHMETIC_WARNING_RATIO, IMPLICIT_TOLERANCE_RANGE,
-    MAX_IMPLICIT_ITERATIONS, MAX_PARTICLES, SMOOTHING_RATIO_COMMON, SMOOTHING_RATIO_RANGE,
-    VISCOUS_FACTOR_LIMIT,
+    LIQUID_DENSITY_COMMON, LIQUID_VISCOSITY_COMMON, MAX_IMPLICIT_ITERATIONS, MAX_PARTICLES,
+    SMOOTHING_RATIO_COMMON, SMOOTHING_RATIO_RANGE, VISCOUS_FACTOR_LIMIT,
 };

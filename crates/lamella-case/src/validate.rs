@@ -14,6 +14,12 @@ use crate::schema::{
 pub const SMOOTHING_RATIO_RANGE: (f64, f64) = (1.0, 2.0);
 /// Smoothing ratios of common practice; outside them `check` warns.
 pub const SMOOTHING_RATIO_COMMON: (f64, f64) = (1.2, 1.5);
+/// Densities of liquids (kg/m³), common practice: from about 420 (liquefied methane) to
+/// 13 534 (mercury) at their usual conditions; outside them `check` warns of a unit slip.
+pub const LIQUID_DENSITY_COMMON: (f64, f64) = (400.0, 14_000.0);
+/// Dynamic viscosities of liquids (Pa·s), common practice: from about 1e-4 (liquefied gases,
+/// light solvents) to 1e5 (bitumen, polymer melts); outside them `check` warns of a unit slip.
+pub const LIQUID_VISCOSITY_COMMON: (f64, f64) = (1.0e-4, 1.0e5);
 /// Accepted particle-shifting coefficients A (inclusive); 0 turns shifting off, Skillen et al.
 /// 2013 use 1 … 6.
 pub const SHIFTING_RANGE: (f64, f64) = (0.0, 10.0);
@@ -178,6 +184,7 @@ impl Case {
                 });
             }
         }
+        warnings.extend(self.magnitude_warnings());
         let contrast = self.viscosity_contrast();
         if self.pair_viscosity == PairViscosity::Arithmetic && contrast > ARITHMETIC_WARNING_RATIO {
             warnings.push(Warning {
@@ -215,6 +222,66 @@ impl Case {
                     ),
                 });
             }
+        }
+        warnings
+    }
+
+    /// Densities and viscosities outside the ranges of liquids, with the likely unit slip.
+    fn magnitude_warnings(&self) -> Vec<Warning> {
+        let mut warnings = Vec::new();
+        let (rho_lo, rho_hi) = LIQUID_DENSITY_COMMON;
+        let (mu_lo, mu_hi) = LIQUID_VISCOSITY_COMMON;
+        for (i, phase) in self.phases.iter().enumerate() {
+            let rho = phase.density;
+            if rho.is_finite() && rho > 0.0 && !(rho_lo..=rho_hi).contains(&rho) {
+                let hint = if (rho_lo..=rho_hi).contains(&(rho * 1000.0)) {
+                    format!(
+                        " — did you mean {} g/cm³ = {} kg/m³?",
+                        num(rho),
+                        approx(rho * 1000.0)
+                    )
+                } else {
+                    "; density is in kg/m³ (water 1000)".to_string()
+                };
+                warnings.push(Warning {
+                    path: format!("phases[{i}].density"),
+                    message: format!(
+                        "{} kg/m³ is outside the densities of liquids, {} … {} kg/m³ (common \
+                         practice){hint}",
+                        num(rho),
+                        num(rho_lo),
+                        num(rho_hi)
+                    ),
+                });
+            }
+            let mu = phase.viscosity_law.reference_viscosity();
+            if !(mu.is_finite() && mu > 0.0) || (mu_lo..=mu_hi).contains(&mu) {
+                continue;
+            }
+            let hint = if mu > mu_hi {
+                format!(
+                    " — did you mean {} mPa·s = {} Pa·s?",
+                    num(mu),
+                    approx(mu * 1e-3)
+                )
+            } else if rho.is_finite() && rho > 0.0 {
+                format!(
+                    " — a kinematic viscosity in m²/s? The dynamic viscosity is μ = ρ ν = {} Pa·s",
+                    approx(rho * mu)
+                )
+            } else {
+                String::new()
+            };
+            warnings.push(Warning {
+                path: format!("phases[{i}].viscosity_law.viscosity"),
+                message: format!(
+                    "{} Pa·s is outside the viscosities of liquids, {} … {} Pa·s (common \
+                     practice){hint}",
+                    num(mu),
+                    num(mu_lo),
+                    num(mu_hi)
+                ),
+            });
         }
         warnings
     }

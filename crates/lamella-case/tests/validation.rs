@@ -285,6 +285,44 @@ fn unknown_fields_are_errors_with_their_place() {
 }
 
 #[test]
+fn every_misspelt_name_is_listed_at_once_with_the_bad_values() {
+    let path = invalid("several-typos");
+    let err = load(&path).unwrap_err();
+    let text = err.to_string();
+    let lines: Vec<&str> = text.lines().collect();
+    let file = path.display().to_string();
+    // In file order, each at its own line and column, each with the accepted names.
+    let expected = [
+        (format!("{file}:4:72: "), "`Q`"),
+        (format!("{file}:5:34: "), "`smothing_ratio`"),
+        (format!("{file}:16:5: "), "`colour`"),
+        (format!("{file}:18:22: "), "`snapshot_intervall`"),
+    ];
+    assert_eq!(lines.len(), expected.len() + 1, "{text}");
+    for ((place, name), line) in expected.iter().zip(&lines) {
+        assert!(line.starts_with(place.as_str()), "{place} expected: {text}");
+        assert!(line.contains(name) && line.contains("expected"), "{line}");
+    }
+    assert!(
+        lines[1].contains("did you mean `smoothing_ratio`?"),
+        "{}",
+        lines[1]
+    );
+    assert!(
+        lines[3].contains("did you mean `snapshot_interval`?"),
+        "{}",
+        lines[3]
+    );
+    assert!(!lines[2].contains("did you mean"), "{}", lines[2]);
+    // The misspelt fields' values are still read: the bad density is reported too.
+    assert!(
+        lines[4].contains("phases[0].density") && lines[4].contains("-1"),
+        "{}",
+        lines[4]
+    );
+}
+
+#[test]
 fn a_missing_file_is_a_clear_error() {
     let err = load(&invalid("does-not-exist")).unwrap_err();
     assert!(
@@ -322,4 +360,56 @@ fn warnings_on_large_ratio_averaging_and_unstable_factors() {
     assert_eq!(criteria[1].name, "viscous");
     assert!((criteria[1].sound_speed - 0.1).abs() < 1e-12);
     assert_eq!(case.sound_speed(), criteria[1].sound_speed);
+}
+
+/// Densities and viscosities outside the ranges of liquids draw a warning (never a refusal)
+/// that names the likely unit slip.
+#[test]
+fn implausible_magnitudes_warn_with_the_likely_unit_slip() {
+    use lamella_case::ViscosityLaw;
+    let base = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/base.ron");
+    let valid = load(&base).expect("the base case is valid");
+    let messages = |case: &lamella_case::Case| -> Vec<String> {
+        case.warnings().into_iter().map(|w| w.to_string()).collect()
+    };
+    // Density 1: g/cm³ typed as kg/m³.
+    let mut case = valid.clone();
+    case.phases[1].density = 1.0;
+    let found = messages(&case);
+    assert_eq!(found.len(), 1, "{found:?}");
+    assert!(
+        found[0].starts_with("phases[1].density: 1 kg/m³")
+            && found[0].contains("common practice")
+            && found[0].contains("did you mean 1 g/cm³ = 1000 kg/m³?"),
+        "{}",
+        found[0]
+    );
+    // A viscosity in mPa·s typed as Pa·s, far beyond any liquid.
+    let mut case = valid.clone();
+    case.phases[0].viscosity_law = ViscosityLaw::Newtonian { viscosity: 2.0e5 };
+    let found = messages(&case);
+    assert!(
+        found.iter().any(
+            |w| w.starts_with("phases[0].viscosity_law.viscosity: 2e5 Pa·s")
+                && w.contains("did you mean 2e5 mPa·s = 200 Pa·s?")
+        ),
+        "{found:?}"
+    );
+    // A kinematic viscosity (water, 1e-6 m²/s) typed as the dynamic one.
+    let mut case = valid.clone();
+    case.phases[1].viscosity_law = ViscosityLaw::Newtonian { viscosity: 1.0e-6 };
+    let found = messages(&case);
+    assert!(
+        found
+            .iter()
+            .any(|w| w.contains("kinematic viscosity") && w.contains("μ = ρ ν = 0.001 Pa·s")),
+        "{found:?}"
+    );
+    // The limits themselves are liquids.
+    let mut case = valid;
+    case.phases[0].density = lamella_case::LIQUID_DENSITY_COMMON.1;
+    case.phases[1].viscosity_law = ViscosityLaw::Newtonian {
+        viscosity: lamella_case::LIQUID_VISCOSITY_COMMON.0,
+    };
+    assert!(messages(&case).is_empty(), "{:?}", messages(&case));
 }

@@ -23,7 +23,10 @@ pub enum RunError {
     Fault(String),
     /// The stop flag was raised; the state after the last completed step was handed to the
     /// observer (a run folder writes a checkpoint to resume from).
-    #[error("stopped at t = {time:.6e} s (step {step}) on request")]
+    #[error(
+        "interrupted at t = {} s (step {step})",
+        lamella_post::number::significant(*time, 6)
+    )]
     Interrupted {
         /// Simulated time of the last completed step (s).
         time: f64,

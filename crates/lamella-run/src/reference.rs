@@ -73,6 +73,18 @@ impl Reference {
         }
     }
 
+    /// Peak speed of the steady profile (m/s): the largest |u_x| across the channel once the
+    /// flow has settled (for a start-up series, the profile it tends to).
+    pub fn steady_peak_speed(&self) -> f64 {
+        match *self {
+            Reference::Layered(c) => c.peak().velocity.abs(),
+            Reference::Poiseuille { gap, force, .. } => {
+                gap.poiseuille_steady(force, 0.5 * gap.gap).abs()
+            }
+            Reference::Couette { wall_speed, .. } => wall_speed.abs(),
+        }
+    }
+
     /// Short name for titles and messages.
     pub fn name(&self) -> &'static str {
         match self {

@@ -14,19 +14,27 @@ use crate::commands::{self, Command, Globals};
 #[derive(Debug, Parser)]
 #[command(name = "lamella", version, propagate_version = true)]
 pub struct Cli {
-    /// Worker threads for the solver and analyses [default: all cores].
-    /// Results are identical whatever the thread count. `lamella bench` takes a list
-    /// (e.g. 1,2) and measures each count.
-    #[arg(long, global = true, value_name = "N", value_delimiter = ',')]
+    /// Worker threads [default: all cores]; results are identical whatever the thread count.
+    // `lamella bench` alone reads a list here (its help says so), hence the delimiter.
+    #[arg(
+        long,
+        global = true,
+        value_name = "N",
+        value_delimiter = ',',
+        help_heading = GLOBAL_OPTIONS
+    )]
     pub threads: Vec<NonZeroUsize>,
 
-    /// Print errors only: no progress bar, no summaries.
-    #[arg(long, short, global = true)]
+    /// Print errors only: no progress, no summaries.
+    #[arg(long, short, global = true, help_heading = GLOBAL_OPTIONS)]
     pub quiet: bool,
 
     #[command(subcommand)]
     pub command: Command,
 }
+
+/// The help heading of the options every subcommand accepts.
+const GLOBAL_OPTIONS: &str = "Global options";
 
 /// Parses the command line, runs the subcommand and turns the outcome into an exit code.
 pub fn main() -> ExitCode {
@@ -64,6 +72,6 @@ fn start_thread_pool(threads: &[NonZeroUsize]) -> Result<(), Failure> {
 }
 
 fn report(failure: Failure) -> ExitCode {
-    crate::note!("error: {failure}");
+    crate::note!("{}", failure.report_line());
     failure.into()
 }

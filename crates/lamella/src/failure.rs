@@ -1,6 +1,7 @@
 //! Failures of a command and the documented exit codes they map to. [`Failure::exit_code`] is
 //! the only place that decides an exit code.
 
+use std::path::Path;
 use std::process::ExitCode;
 
 use lamella_case::CaseError;
@@ -23,6 +24,10 @@ pub enum Failure {
     /// Setting up, running or writing a run, or reading a run folder, failed.
     #[error(transparent)]
     Run(#[from] RunError),
+    /// A stop signal (Ctrl-C, `kill`) ended the run after its state was saved; the message
+    /// says where and how to continue. Not an error: it is printed without "error:".
+    #[error("{0}")]
+    Interrupted(String),
 }
 
 fn problem_count(err: &CaseError) -> String {
@@ -39,6 +44,28 @@ impl From<OutputError> for Failure {
 }
 
 impl Failure {
+    /// A run stopped by a signal at simulated time `time` (s) after `step` steps, its state
+    /// saved in `checkpoint` of the run folder `folder`.
+    pub fn interrupted(time: f64, step: u64, checkpoint: &Path, folder: &Path) -> Self {
+        Failure::Interrupted(format!(
+            "{}; the state is saved in {}; continue with `lamella resume {}`",
+            RunError::Interrupted { time, step },
+            checkpoint.display(),
+            folder.display()
+        ))
+    }
+
+    /// The line printed on standard error: "error: " and the message, except for an
+    /// interrupt, which is what the user asked for and is reported as such.
+    pub fn report_line(&self) -> String {
+        match self {
+            Failure::Interrupted(_) | Failure::Run(RunError::Interrupted { .. }) => {
+                self.to_string()
+            }
+            _ => format!("error: {self}"),
+        }
+    }
+
     /// The process exit code of this failure, as the README documents it: 1 the run failed
     /// (the solution went bad, a file could not be written), 2 bad input (case file, option,
     /// run folder, checkpoint), 130 interrupted after saving what is needed to resume.
@@ -49,6 +76,7 @@ impl Failure {
         match self {
             Failure::BadInput(_) | Failure::Case(_) => BAD_INPUT,
             Failure::RunFailed(_) => FAILED,
+            Failure::Interrupted(_) => INTERRUPTED,
             Failure::Run(err) => match err {
                 RunError::Case(_) | RunError::Setup(_) => BAD_INPUT,
                 RunError::Fault(_) => FAILED,
@@ -73,7 +101,6 @@ impl From<Failure> for ExitCode {
 #[cfg(test)]
 mod tests {
     use std::io;
-    use std::path::Path;
 
     use super::*;
 
@@ -87,6 +114,34 @@ mod tests {
         assert_eq!(
             Failure::from(RunError::Case("too small".into())).exit_code(),
             2
+        );
+    }
+
+    #[test]
+    fn an_interrupt_is_reported_as_an_interrupt_with_where_to_continue() {
+        let failure = Failure::interrupted(
+            0.15000000000000002,
+            1200,
+            Path::new("out/checkpoints/checkpoint_000003.bin"),
+            Path::new("out"),
+        );
+        assert_eq!(
+            failure.report_line(),
+            "interrupted at t = 0.15 s (step 1200); the state is saved in \
+             out/checkpoints/checkpoint_000003.bin; continue with `lamella resume out`"
+        );
+        assert_eq!(failure.exit_code(), 130);
+        // Without a saved state (a run stopped before its first checkpoint) still no "error".
+        let bare = Failure::from(RunError::Interrupted {
+            time: 2.5e-3,
+            step: 7,
+        });
+        assert_eq!(bare.report_line(), "interrupted at t = 0.0025 s (step 7)");
+        assert_eq!(bare.exit_code(), 130);
+        // Everything else is an error.
+        assert_eq!(
+            Failure::BadInput("no case".into()).report_line(),
+            "error: no case"
         );
     }
 

@@ -7,6 +7,7 @@ mod commands;
 mod console;
 mod failure;
 mod memory;
+mod point_progress;
 mod progress;
 mod signals;
 

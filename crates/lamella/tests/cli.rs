@@ -255,3 +255,50 @@ fn help_explains_every_subcommand_and_option() {
         }
     }
 }
+
+#[test]
+fn global_options_have_their_own_heading_and_bench_alone_describes_a_thread_list() {
+    for command in ["run", "check", "stability", "converge", "resume"] {
+        let out = lamella(&[command, "--help"]);
+        assert_eq!(out.status.code(), Some(0), "{command} --help");
+        let help = text(&out.stdout);
+        assert!(
+            !help.contains("bench"),
+            "{command} --help mentions bench:\n{help}"
+        );
+        // Both global options come after the heading, none of the command's own options do.
+        let heading = help
+            .find("Global options:")
+            .unwrap_or_else(|| panic!("{command} --help has no global heading:\n{help}"));
+        let globals = &help[heading..];
+        assert!(
+            globals.contains("--threads") && globals.contains("--quiet"),
+            "{command}: {globals}"
+        );
+        assert!(
+            !help[..heading].contains("--threads") && !help[..heading].contains("--quiet"),
+            "{command} --help lists a global option among its own:\n{help}"
+        );
+    }
+    let out = lamella(&["bench", "--help"]);
+    let help = text(&out.stdout);
+    assert!(help.contains("--threads 1,2"), "{help}");
+}
+
+#[test]
+fn every_misspelt_field_of_a_case_is_listed_at_once_with_exit_code_2() {
+    let case = root().join("crates/lamella-case/tests/invalid/several-typos.ron");
+    let out = lamella(&["check", path_str(&case)]);
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = text(&out.stderr);
+    assert!(stderr.contains("5 problems in the case file"), "{stderr}");
+    for name in [
+        "`smothing_ratio`",
+        "`snapshot_intervall`",
+        "`colour`",
+        "`Q`",
+    ] {
+        assert!(stderr.contains(name), "{name} not listed:\n{stderr}");
+    }
+    assert!(stderr.contains("phases[0].density"), "{stderr}");
+}

@@ -214,11 +214,21 @@ fn sighup_and_sigterm_save_like_ctrl_c() {
     let case = write_case(dir.path(), intervals);
     for name in ["HUP", "TERM"] {
         let out = dir.path().join(name);
-        let child = run_command(&case, &out).spawn().unwrap();
+        let child = run_command(&case, &out)
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap();
         wait_until_stepping(&out);
         signal(&child, name);
         let output = child.wait_with_output().unwrap();
         assert_eq!(output.status.code(), Some(130), "SIG{name}");
+        // Reported as an interrupt with where to continue, not as an error.
+        let stderr = String::from_utf8_lossy(&output.stderr);
+        assert!(
+            stderr.contains("interrupted at t = ") && stderr.contains("lamella resume"),
+            "SIG{name}: {stderr}"
+        );
+        assert!(!stderr.contains("error"), "SIG{name}: {stderr}");
         assert_saved_mid_run(&out, intervals * SNAPSHOT_INTERVAL);
         let log = fs::read_to_string(out.join("run.log")).unwrap();
         assert!(log.contains("interrupted"), "SIG{name}: {log}");

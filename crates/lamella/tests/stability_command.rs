@@ -63,12 +63,10 @@ fn scan_and_map_write_csv_and_png_files() {
     assert!(out.status.success(), "{}", text(&out.stderr));
     let stdout = text(&out.stdout);
     assert!(stdout.contains("most unstable wavenumber"), "{stdout}");
+    // A map needs no --m/--n (it sets them at each pair); progress goes to stderr, the
+    // report to stdout.
     let out = lamella(&[
         "stability",
-        "--m",
-        "3",
-        "--n",
-        "1",
         "--re",
         "100",
         "--wavenumber",
@@ -93,6 +91,86 @@ fn scan_and_map_write_csv_and_png_files() {
         let bytes = std::fs::read(dir.path().join(png)).unwrap();
         assert_eq!(&bytes[1..4], b"PNG");
     }
+}
+
+#[test]
+fn a_bare_stability_names_its_four_modes_and_exits_with_code_2() {
+    let out = lamella(&["stability"]);
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = text(&out.stderr);
+    for mode in [
+        "CASE",
+        "--m M --n N --re RE",
+        "--map-m",
+        "--map-n",
+        "--run DIR",
+    ] {
+        assert!(stderr.contains(mode), "{mode} not named: {stderr}");
+    }
+    // Half a ratio mode is refused with the modes, a map without --re with what it lacks.
+    let out = lamella(&["stability", "--re", "100", "--wavenumber", "1"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("--run DIR"),
+        "{}",
+        text(&out.stderr)
+    );
+    let out = lamella(&[
+        "stability",
+        "--wavenumber",
+        "1",
+        "--map-m",
+        "1,2,2",
+        "--map-n",
+        "1,2,2",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("--re RE"),
+        "{}",
+        text(&out.stderr)
+    );
+    // --m/--n would be ignored by a map: refused, not silently dropped.
+    let out = lamella(&[
+        "stability",
+        "--m",
+        "2",
+        "--n",
+        "1",
+        "--re",
+        "100",
+        "--wavenumber",
+        "1",
+        "--map-m",
+        "1,2,2",
+        "--map-n",
+        "1,2,2",
+    ]);
+    assert_eq!(out.status.code(), Some(2), "{}", text(&out.stderr));
+}
+
+#[test]
+fn quiet_scans_and_maps_print_nothing_on_stderr() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = lamella(&[
+        "--quiet",
+        "stability",
+        "--re",
+        "100",
+        "--wavenumber",
+        "0.5",
+        "--points",
+        "16",
+        "--map-m",
+        "0.5,2,2",
+        "--map-n",
+        "1,2,2",
+        "--out",
+        dir.path().to_str().unwrap(),
+    ]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    assert!(out.stderr.is_empty(), "{}", text(&out.stderr));
+    assert!(out.stdout.is_empty(), "{}", text(&out.stdout));
 }
 
 #[test]

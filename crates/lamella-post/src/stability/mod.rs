@@ -57,7 +57,8 @@ pub use eigenmode::Eigenmode;
 pub use long_wave::{LongWave, long_wave_coefficient};
 pub use search::{
     CheckedMode, CriticalPoint, CurvePoint, MapPoint, critical_point, growth_curve,
-    leading_checked, most_unstable, neutral_reynolds, stability_map,
+    growth_curve_observed, leading_checked, most_unstable, neutral_reynolds, stability_map,
+    stability_map_observed,
 };
 pub use spectrum::{DEFAULT_POINTS_PER_LAYER, SPURIOUS_SPEED, Spectrum, StabilityProblem};
 

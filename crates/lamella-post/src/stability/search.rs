@@ -56,12 +56,23 @@ fn curve_point(problem: &StabilityProblem, wavenumber: f64) -> Result<CurvePoint
 }
 
 /// Leading mode at `steps` evenly spaced wavenumbers from `first` to `last` (inclusive).
-#[allow(clippy::neg_cmp_op_on_partial_ord)] // `!(a > b)` also rejects NaN on purpose
 pub fn growth_curve(
     problem: &StabilityProblem,
     first: f64,
     last: f64,
     steps: usize,
+) -> Result<Vec<CurvePoint>, StabilityError> {
+    growth_curve_observed(problem, first, last, steps, &mut |_| {})
+}
+
+/// [`growth_curve`], calling `done(points)` after each solved point (for a progress display).
+#[allow(clippy::neg_cmp_op_on_partial_ord)] // `!(a > b)` also rejects NaN on purpose
+pub fn growth_curve_observed(
+    problem: &StabilityProblem,
+    first: f64,
+    last: f64,
+    steps: usize,
+    done: &mut dyn FnMut(usize),
 ) -> Result<Vec<CurvePoint>, StabilityError> {
     if steps < 2 || !(first > 0.0) || !(last > first) || !last.is_finite() {
         return Err(StabilityError::InvalidParameter(format!(
@@ -71,7 +82,9 @@ pub fn growth_curve(
     (0..steps)
         .map(|k| {
             let t = k as f64 / (steps - 1) as f64;
-            curve_point(problem, first + t * (last - first))
+            let point = curve_point(problem, first + t * (last - first));
+            done(k + 1);
+            point
         })
         .collect()
 }
@@ -232,6 +245,16 @@ pub fn stability_map(
     ms: &[f64],
     ns: &[f64],
 ) -> Result<Vec<MapPoint>, StabilityError> {
+    stability_map_observed(problem, ms, ns, &mut |_| {})
+}
+
+/// [`stability_map`], calling `done(points)` after each solved pair (for a progress display).
+pub fn stability_map_observed(
+    problem: &StabilityProblem,
+    ms: &[f64],
+    ns: &[f64],
+    done: &mut dyn FnMut(usize),
+) -> Result<Vec<MapPoint>, StabilityError> {
     let mut out = Vec::with_capacity(ms.len() * ns.len());
     for &n in ns {
         for &m in ms {
@@ -246,6 +269,7 @@ pub fn stability_map(
                 speed,
                 growth_rate: problem.wavenumber * speed.im,
             });
+            done(out.len());
         }
     }
     Ok(out)

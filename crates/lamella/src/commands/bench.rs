@@ -24,7 +24,8 @@ const PARTICLE_STEPS_PER_REPEAT: f64 = 2.0e6;
     stepped twice to warm up, then timed over --repeats runs of --steps steps; the table \
     quotes the median. Use the global --threads option with a list (e.g. --threads 1,2) to \
     choose the thread counts [default: 1 and all cores].",
-    after_help = "Peak memory is the most heap the run held at once (setup included), counted \
+    after_help = "Thread counts: the global --threads option takes a list here (e.g. \
+    --threads 1,2) and each count is measured [default: 1 and all cores].\n\nPeak memory is the most heap the run held at once (setup included), counted \
     by Lamella's allocator, divided by the particle count. Exit codes: 0 done, 1 a benchmark \
     run failed, 2 bad options."
 )]

@@ -10,6 +10,7 @@ use lamella_sph::Limit;
 use crate::Failure;
 use crate::commands::Globals;
 use lamella_run::feasibility::{self, load_case};
+use lamella_run::reference::channel_reference;
 
 /// Largest particle count `check` generates to count exactly; above it, counts are estimated.
 const COUNT_BY_GENERATION_LIMIT: f64 = 2.0e7;
@@ -185,13 +186,7 @@ fn summary(path: &Path, case: &Case) -> String {
         sig(dt),
         sig(case.time.end)
     );
-    let _ = writeln!(
-        s,
-        "  Reynolds      {} (U L/ν with U = {} m/s, L = {} m, least viscous phase)",
-        sig(case.reynolds_number()),
-        sig(case.scales.expected_max_speed),
-        sig(case.reference_length())
-    );
+    let _ = writeln!(s, "  Reynolds      {}", reynolds(case));
     if case.phases.len() > 1 {
         let _ = writeln!(
             s,
@@ -214,6 +209,12 @@ fn summary(path: &Path, case: &Case) -> String {
     if let Some(warning) = cost_warning(case, steps, counts.total(), limit) {
         let _ = writeln!(s, "  warning: {warning}");
     }
+    if let Some(warning) = viscosity_slip_warning(case, steps, limit) {
+        let _ = writeln!(s, "  warning: {warning}");
+    }
+    if let Some(warning) = drive_warning(case) {
+        let _ = writeln!(s, "  warning: {warning}");
+    }
     let per_particle = lamella_run::setup::heap_bytes_per_particle(case);
     let bytes = counts.total() * per_particle;
     let _ = writeln!(
@@ -234,6 +235,122 @@ fn summary(path: &Path, case: &Case) -> String {
         );
     }
     s
+}
+
+/// The Reynolds number of a case with its definition. A channel (layered or one liquid,
+/// driven by a body force or a moving wall) gets the convention of `lamella stability` and of
+/// linear stability theory (Orszag 1971; Yih 1967): Re = ρ U_max h/μ_lower, U_max the peak of
+/// the steady profile, h the channel half-width, μ_lower the viscosity of the lower layer.
+/// Anything else gets U L/ν from the case's scales and its least viscous phase.
+pub(crate) fn reynolds(case: &Case) -> String {
+    if let Some(reference) = channel_reference(case) {
+        let lower = case.layer_pairs().first().map_or(0, |pair| pair.lower);
+        let phase = &case.phases[lower];
+        let (peak, half_width) = (reference.steady_peak_speed(), case.extent(1) / 2.0);
+        let mu = phase.viscosity_law.reference_viscosity();
+        let (mu_name, which) = if case.phases.len() > 1 {
+            ("μ_lower", format!("lower liquid '{}'", phase.name))
+        } else {
+            ("μ", format!("liquid '{}'", phase.name))
+        };
+        return format!(
+            "Re = ρ U_max h/{mu_name} = {} (U_max = {} m/s the peak of the steady profile, h = {} \
+             m the channel half-width, ρ and {mu_name} = {} Pa·s of the {which}; the convention \
+             of `lamella stability`)",
+            sig(phase.density * peak * half_width / mu),
+            sig(peak),
+            sig(half_width),
+            sig(mu)
+        );
+    }
+    let (slowest, nu) = case.kinematic_viscosities().into_iter().enumerate().fold(
+        (0, f64::INFINITY),
+        |best, (i, nu)| {
+            if nu < best.1 { (i, nu) } else { best }
+        },
+    );
+    format!(
+        "Re = U L/ν = {} (U = {} m/s scales.expected_max_speed, L = {} m the reference length, \
+         ν = {} m²/s of the least viscous phase '{}')",
+        sig(case.reynolds_number()),
+        sig(case.scales.expected_max_speed),
+        sig(case.reference_length()),
+        sig(nu),
+        case.phases.get(slowest).map_or("", |p| p.name.as_str())
+    )
+}
+
+/// The factor by which the expected peak speed may differ from a channel's steady peak before
+/// `check` warns.
+const SPEED_MISMATCH: f64 = 2.0;
+
+/// A warning when a channel's drive (body force or wall speed) and viscosities give a steady
+/// peak speed far from `scales.expected_max_speed`, from which the sound speed and with it the
+/// time step are derived: a drive 1000 times too strong outruns them and the run goes bad.
+pub(crate) fn drive_warning(case: &Case) -> Option<String> {
+    let reference = channel_reference(case)?;
+    let peak = reference.steady_peak_speed();
+    let expected = case.scales.expected_max_speed;
+    let ratio = peak / expected;
+    if !(peak > 0.0 && expected > 0.0) || (1.0 / SPEED_MISMATCH..=SPEED_MISMATCH).contains(&ratio) {
+        return None;
+    }
+    let drive = if case.body_force_magnitude() > 0.0 {
+        "body_force (per unit mass, m/s²)"
+    } else {
+        "wall speed"
+    };
+    let consequence = if ratio > 1.0 {
+        "the sound speed and the time step follow the expected speed, so a flow this much \
+         faster compresses the liquid and the run is likely to go bad"
+    } else {
+        "the sound speed follows the expected speed, so the run takes more steps than it needs"
+    };
+    Some(format!(
+        "scales.expected_max_speed: {} m/s, but this channel's {drive} and viscosities give a \
+         steady peak speed of {} m/s, {}× {} ({}); {consequence}. Set expected_max_speed to \
+         about {} m/s, or check the {drive} and the viscosities",
+        sig(expected),
+        sig(peak),
+        sig(ratio.max(1.0 / ratio)),
+        if ratio > 1.0 { "faster" } else { "slower" },
+        reference.name(),
+        sig(peak)
+    ))
+}
+
+/// A warning when a viscosity of 1 Pa·s or more makes the viscous limit set the time step of a
+/// long run: the likely slip is mPa·s written as Pa·s, and the warning says what the run
+/// would take with the viscosity 1000 times smaller.
+fn viscosity_slip_warning(case: &Case, steps: f64, limit: Limit) -> Option<String> {
+    if limit != Limit::Viscous || steps <= MANY_STEPS {
+        return None;
+    }
+    let (index, mu) = case
+        .phases
+        .iter()
+        .map(|p| p.viscosity_law.reference_viscosity())
+        .enumerate()
+        .fold(
+            (0, 0.0),
+            |best, (i, mu)| if mu > best.1 { (i, mu) } else { best },
+        );
+    if mu < 1.0 {
+        return None;
+    }
+    let mut smaller = case.clone();
+    smaller.phases[index].viscosity_law = lamella_case::ViscosityLaw::Newtonian {
+        viscosity: mu * 1e-3,
+    };
+    let (dt, _) = feasibility::time_step(&smaller);
+    Some(format!(
+        "phases[{index}].viscosity_law.viscosity: {} Pa·s makes the viscous limit set the time \
+         step ({steps:.3e} steps) — did you mean {} mPa·s = {} Pa·s? That run takes {:.3e} steps",
+        sig(mu),
+        sig(mu),
+        sig(mu * 1e-3),
+        (smaller.time.end / dt).ceil()
+    ))
 }
 
 /// Seconds one step takes per particle on one thread: 46.1 ms a step at 1e5 particles, measured

@@ -32,8 +32,10 @@ use lamella_run::reference::channel_reference;
 #[command(
     after_help = "Writes one run folder per spacing, convergence.csv and convergence.png \
     into --out; for a case that records InterfaceAmplitude, growth_convergence.csv: the growth \
-    rate and wave speed of each run against linear theory. Exit codes: 0 done, 1 a run failed \
-    or its growth fit refused, 2 bad input."
+    rate and wave speed of each run against linear theory. A study starts new runs: an --out \
+    folder that already holds files is refused (choose another, remove it, or pass --force), \
+    and a refused study writes nothing. Exit codes: 0 done, 1 a run failed or its growth fit \
+    refused, 2 bad input (case, spacings, an --out folder in use)."
 )]
 pub struct Args {
     /// The case file (RON); it needs an analytical profile (layered channel, Poiseuille or
@@ -86,20 +88,43 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         .out
         .clone()
         .unwrap_or_else(|| PathBuf::from(format!("convergence-{stem}")));
-    std::fs::create_dir_all(&out)
-        .map_err(|e| Failure::BadInput(format!("cannot create {}: {e}", out.display())))?;
     if let Some(end) = args.end {
         case.time.end = end;
     }
-    // Write and validate one case file per spacing before running anything.
-    let mut runs = Vec::new();
-    for (k, &dx) in spacings.iter().enumerate() {
+    // Build and validate one case per spacing before anything is written: a refused study
+    // leaves no folder and no file behind.
+    let mut texts = Vec::new();
+    for &dx in &spacings {
         case.particles.spacing = dx;
         let text = lamella_case::to_ron(&case);
+        let problems = match lamella_case::parse_str(&text, &args.case.display().to_string()) {
+            Ok(valid) => lamella_run::feasibility::problems(&valid),
+            Err(err) => err.problems,
+        };
+        if !problems.is_empty() {
+            let listed: Vec<String> = problems.iter().map(ToString::to_string).collect();
+            return Err(Failure::BadInput(format!(
+                "{}: at spacing {dx:e} m: {}",
+                args.case.display(),
+                listed.join("; ")
+            )));
+        }
+        texts.push((dx, text));
+    }
+    refuse_earlier_study(&out, args.force)?;
+    let created = !out.exists();
+    std::fs::create_dir_all(&out)
+        .map_err(|e| Failure::BadInput(format!("cannot create {}: {e}", out.display())))?;
+    let mut runs = Vec::new();
+    for (k, (dx, text)) in texts.into_iter().enumerate() {
         let path = out.join(format!("{stem}-dx{k}.ron"));
-        lamella_case::parse_str(&text, &path.display().to_string())
-            .map_err(|e| Failure::BadInput(format!("spacing {dx:e} m: {e}")))?;
-        write_bytes(&path, text.as_bytes())?;
+        if let Err(err) = write_bytes(&path, text.as_bytes()) {
+            if created {
+                // Best effort: the write error is what the user needs to see.
+                let _ = std::fs::remove_dir_all(&out);
+            }
+            return Err(err.into());
+        }
         runs.push((dx, path, out.join(format!("run-dx{k}"))));
     }
     let cores = std::thread::available_parallelism().map_or(1, |n| n.get());
@@ -133,6 +158,11 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             let status = child
                 .wait()
                 .map_err(|e| Failure::RunFailed(format!("run at spacing {dx:e} m: {e}")))?;
+            if status.code() == Some(2) {
+                return Err(Failure::BadInput(format!(
+                    "the run at spacing {dx:e} m refused its input (its message is above)"
+                )));
+            }
             if !status.success() {
                 return Err(Failure::RunFailed(format!(
                     "the run at spacing {dx:e} m failed ({status})"
@@ -154,6 +184,26 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         max.push(c.max_abs);
     }
     summarise(&out, &case.title, &spacings, &l2, &max, globals)
+}
+
+/// Refuses a study folder that holds anything already, unless `force` (which replaces the
+/// results of the runs in it). Converge starts new runs; it cannot continue an earlier study.
+fn refuse_earlier_study(out: &Path, force: bool) -> Result<(), Failure> {
+    if out.exists() && !out.is_dir() {
+        return Err(Failure::BadInput(format!(
+            "--out {} is a file, not a folder; choose another --out",
+            out.display()
+        )));
+    }
+    let non_empty = std::fs::read_dir(out).is_ok_and(|mut entries| entries.next().is_some());
+    if non_empty && !force {
+        return Err(Failure::BadInput(format!(
+            "{} exists and is not empty (an earlier study?); choose another --out, remove the \
+             folder, or pass --force to replace its results",
+            out.display()
+        )));
+    }
+    Ok(())
 }
 
 /// The wave resolution study: growth rate and wave speed of each run against theory, into

@@ -89,14 +89,15 @@ pub fn run_recorded<V: Vector>(
 ) -> Result<RunSummary, Failure> {
     let mut progress = progress::for_command(globals.quiet);
     let outcome = run_to_end(sim, end_time, recorder, stop, progress.as_mut());
-    if let (Err(RunError::Interrupted { .. }), Some(path)) =
+    if let (Err(RunError::Interrupted { time, step }), Some(path)) =
         (&outcome, recorder.newest_checkpoint())
     {
-        crate::note!(
-            "interrupted: state saved in {}; continue with `lamella resume {}`",
-            path.display(),
-            recorder.folder().root().display()
-        );
+        return Err(Failure::interrupted(
+            *time,
+            *step,
+            path,
+            recorder.folder().root(),
+        ));
     }
     Ok(outcome?)
 }

@@ -21,6 +21,7 @@ use crate::Failure;
 use crate::commands::Globals;
 use crate::commands::analysis::open_case;
 use crate::commands::growth::{self, FitArgs, Measurement};
+use crate::point_progress::PointProgress;
 use lamella_run::feasibility::load_case;
 use lamella_run::output::OutputError;
 use lamella_run::output::atomic::write_bytes;
@@ -31,7 +32,8 @@ const PNG_SIZE: (u32, u32) = (800, 560);
 /// Options of `lamella stability`.
 #[derive(Debug, clap::Args)]
 #[command(
-    after_help = "Scaled units: lengths by the channel half-width h, velocities by the \
+    after_help = "Modes: a CASE file; --m, --n and --re with --wavenumber or --scan; --re and \
+    --wavenumber with --map-m and --map-n (a map over the ratios); or --run DIR.\n\nScaled units: lengths by the channel half-width h, velocities by the \
     peak velocity U_max of the steady profile, Re = rho U_max h / mu_lower, m = mu_lower/mu_upper, \
     n = d_lower/d_upper, growth rate = wavenumber x Im(c) in U_max/h, tension S = gamma/(rho \
     U_max^2 h).\n\nWith --run: the verdict is \"agrees\" when the prediction lies within the \
@@ -49,15 +51,14 @@ pub struct Args {
         long,
         value_name = "M",
         value_parser = super::values::positive,
-        requires_all = ["n", "re"],
-        required_unless_present_any = ["case", "run"]
+        requires_all = ["n", "re"]
     )]
     pub m: Option<f64>,
     /// Width ratio n = d_lower / d_upper.
     #[arg(long, value_name = "N", value_parser = super::values::positive, requires_all = ["m", "re"])]
     pub n: Option<f64>,
-    /// Reynolds number rho U_max h / mu_lower.
-    #[arg(long, value_name = "RE", value_parser = super::values::positive, requires_all = ["m", "n"])]
+    /// Reynolds number rho U_max h / mu_lower (with --m and --n, or with --map-m and --map-n).
+    #[arg(long, value_name = "RE", value_parser = super::values::positive)]
     pub re: Option<f64>,
     /// Scaled wavenumber k h [case mode default: from the perturbation wavelength].
     #[arg(long, value_name = "K", value_parser = super::values::positive, conflicts_with = "scan")]
@@ -69,16 +70,17 @@ pub struct Args {
     /// Scaled interfacial tension S = gamma / (rho U_max^2 h).
     #[arg(long, value_name = "S", default_value_t = 0.0, value_parser = super::values::finite)]
     pub tension: f64,
-    /// Stability map over viscosity ratios: first,last,steps (log-spaced); needs --map-n.
+    /// Stability map over viscosity ratios: first,last,steps (log-spaced); needs --map-n, and
+    /// --re and --wavenumber unless a CASE gives them.
     #[arg(
         long,
         value_name = "M0,M1,STEPS",
         requires = "map_n",
-        conflicts_with = "scan"
+        conflicts_with_all = ["scan", "m", "n"]
     )]
     pub map_m: Option<String>,
     /// Stability map over width ratios: first,last,steps (log-spaced); needs --map-m.
-    #[arg(long, value_name = "N0,N1,STEPS", requires = "map_m")]
+    #[arg(long, value_name = "N0,N1,STEPS", requires = "map_m", conflicts_with_all = ["m", "n"])]
     pub map_n: Option<String>,
     /// Chebyshev collocation points per layer.
     #[arg(long, value_name = "P", default_value_t = DEFAULT_POINTS_PER_LAYER, value_parser = super::values::stability_points)]
@@ -178,8 +180,13 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let mut written = Vec::new();
     if let Some(scan) = &args.scan {
         let (first, last, steps) = parse_range(scan, "--scan")?;
+        let mut progress = PointProgress::new("wavenumber", steps, globals.quiet);
         let curve =
-            stability::growth_curve(&setup.problem, first, last, steps).map_err(solve_failure)?;
+            stability::growth_curve_observed(&setup.problem, first, last, steps, &mut |k| {
+                progress.set(k)
+            });
+        progress.finish();
+        let curve = curve.map_err(solve_failure)?;
         let best = stability::most_unstable(&setup.problem, &curve).map_err(solve_failure)?;
         let edge = best.wavenumber <= first || best.wavenumber >= last;
         writeln!(
@@ -254,7 +261,11 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     if let (Some(map_m), Some(map_n)) = (&args.map_m, &args.map_n) {
         let ms = log_spaced(parse_range(map_m, "--map-m")?, "--map-m")?;
         let ns = log_spaced(parse_range(map_n, "--map-n")?, "--map-n")?;
-        let map = stability::stability_map(&setup.problem, &ms, &ns).map_err(solve_failure)?;
+        let mut progress = PointProgress::new("(m, n) pair", ms.len() * ns.len(), globals.quiet);
+        let map =
+            stability::stability_map_observed(&setup.problem, &ms, &ns, &mut |k| progress.set(k));
+        progress.finish();
+        let map = map.map_err(solve_failure)?;
         let unstable = map.iter().filter(|p| p.growth_rate > 0.0).count();
         writeln!(
             report,
@@ -297,18 +308,42 @@ fn write_failure(path: &Path, err: impl std::fmt::Display) -> Failure {
     Failure::RunFailed(format!("cannot write {}: {err}", path.display()))
 }
 
+/// What a bare `lamella stability` (or one with too little to go on) says.
+pub const MODES: &str = "say which flow to analyse, in one of four ways:
+  lamella stability CASE                     a two-layer channel case file (m, n, Re and the
+                                             wavenumber from the case)
+  lamella stability --m M --n N --re RE --wavenumber K   (or --scan K0,K1,STEPS)
+                                             the ratios directly, in scaled units
+  lamella stability --re RE --wavenumber K --map-m M0,M1,STEPS --map-n N0,N1,STEPS
+                                             a map of growth over viscosity and width ratios
+  lamella stability --run DIR                a run folder: prediction beside the measured growth
+`lamella stability --help` lists every option";
+
 fn from_ratios(args: &Args) -> Result<Setup, Failure> {
+    let map = args.map_m.is_some();
     let (m, n, re) = match (args.m, args.n, args.re) {
         (Some(m), Some(n), Some(re)) => (m, n, re),
-        _ => {
+        // The map replaces the channel at each (m, n) pair; one layer stands in until then.
+        (None, None, Some(re)) if map => (1.0, 1.0, re),
+        (None, None, None) if map => {
             return Err(Failure::BadInput(
-                "give a CASE, or all of --m, --n and --re".into(),
+                "a stability map without a CASE needs the Reynolds number: add --re RE and \
+                 --wavenumber K"
+                    .into(),
             ));
         }
+        _ => return Err(Failure::BadInput(MODES.into())),
     };
     let wavenumber = match (args.wavenumber, &args.scan) {
         (Some(k), _) => k,
         (None, Some(_)) => 1.0,
+        (None, None) if map => {
+            return Err(Failure::BadInput(
+                "a stability map without a CASE needs the wavenumber: add --wavenumber K (scaled \
+                 by the half-width)"
+                    .into(),
+            ));
+        }
         (None, None) => {
             return Err(Failure::BadInput(
                 "give --wavenumber K or --scan K0,K1,STEPS (scaled by the half-width)".into(),
@@ -320,10 +355,18 @@ fn from_ratios(args: &Args) -> Result<Setup, Failure> {
     } else {
         LayeredChannel::two_layer(m, n).map_err(solve_failure)?
     };
-    let description = format!(
-        "layered channel: m = {m}, n = {n}, Re = {re}, tension S = {} (scaled units)\n",
-        args.tension
-    );
+    let description = if map {
+        format!(
+            "layered channel map: Re = {re}, tension S = {} (scaled units)\n",
+            args.tension
+        )
+    } else {
+        format!(
+            "layered channel: m = {m}, n = {n}, Re = ρ U_max h/μ_lower = {re}, tension S = {} \
+             (scaled units)\n",
+            args.tension
+        )
+    };
     Ok(Setup {
         problem: StabilityProblem::new(channel, re, wavenumber),
         units: None,
@@ -514,7 +557,7 @@ fn from_case(case: &Case, path: &Path, wavenumber: Wavenumber<'_>) -> Result<Set
         }
     };
     let description = format!(
-        "case {}: phases '{}' (lower) and '{}' (upper), m = {m:.6}, n = {n:.6}, Re = {re:.6}\n  \
+        "case {}: phases '{}' (lower) and '{}' (upper), m = {m:.6}, n = {n:.6}, Re = ρ U_max h/μ_lower = {re:.6}\n  \
          half-width h = {half_width} m, peak velocity of the steady profile U_max = {peak_velocity:.6e} m/s\n",
         path.display(),
         lower.name,

@@ -1,0 +1,72 @@
+//! `lamella converge` refusals, run on the binary: a study never starts into a folder that
+//! holds an earlier study, and a refused study writes nothing.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn couette() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/couette.ron")
+}
+
+fn lamella(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_lamella"))
+        .args(args)
+        .output()
+        .expect("lamella starts")
+}
+
+fn stderr(out: &Output) -> String {
+    String::from_utf8_lossy(&out.stderr).into_owned()
+}
+
+#[test]
+fn an_existing_study_folder_is_bad_input_with_advice_that_fits_converge() {
+    let dir = tempfile::tempdir().unwrap();
+    let study = dir.path().join("study");
+    std::fs::create_dir(&study).unwrap();
+    std::fs::write(study.join("convergence.csv"), "earlier results\n").unwrap();
+    let out = lamella(&[
+        "converge",
+        couette().to_str().unwrap(),
+        "--spacings",
+        "1.2e-4,8e-5",
+        "--out",
+        study.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    let message = stderr(&out);
+    assert!(message.contains(study.to_str().unwrap()), "{message}");
+    assert!(
+        message.contains("choose another --out") && message.contains("remove the folder"),
+        "{message}"
+    );
+    assert!(!message.contains("resume"), "{message}");
+    // Nothing was added: the earlier study is as it was.
+    let names: Vec<_> = std::fs::read_dir(&study)
+        .unwrap()
+        .map(|e| e.unwrap().file_name())
+        .collect();
+    assert_eq!(names, ["convergence.csv"]);
+}
+
+#[test]
+fn a_refused_study_leaves_no_folder_behind() {
+    let dir = tempfile::tempdir().unwrap();
+    let study = dir.path().join("study");
+    // The second spacing is larger than the channel: that case is invalid, so nothing runs.
+    let out = lamella(&[
+        "converge",
+        couette().to_str().unwrap(),
+        "--spacings",
+        "1.2e-4,0.1",
+        "--out",
+        study.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert!(stderr(&out).contains("spacing 1e-1 m"), "{}", stderr(&out));
+    assert!(
+        !study.exists(),
+        "the refused study left {}",
+        study.display()
+    );
+}
