@@ -5,6 +5,7 @@ use std::process::ExitCode;
 
 use lamella_case::CaseError;
 use lamella_run::RunError;
+use lamella_run::analysis::AnalysisError;
 use lamella_run::output::OutputError;
 
 /// Why a command did not succeed.
@@ -23,6 +24,9 @@ pub enum Failure {
     /// Setting up, running or writing a run, or reading a run folder, failed.
     #[error(transparent)]
     Run(#[from] RunError),
+    /// Analysing a run folder failed: bad input, a failed solve, or reading or writing files.
+    #[error(transparent)]
+    Analysis(#[from] AnalysisError),
 }
 
 fn problem_count(err: &CaseError) -> String {
@@ -46,6 +50,16 @@ impl Failure {
         const FAILED: u8 = 1;
         const BAD_INPUT: u8 = 2;
         const INTERRUPTED: u8 = 130;
+        /// A file that cannot be written fails the command; one that cannot be read, or is
+        /// not what Lamella wrote, is bad input.
+        fn output_code(err: &OutputError) -> u8 {
+            match err {
+                OutputError::Write { .. } | OutputError::Neighbours(_) => FAILED,
+                OutputError::Read { .. } | OutputError::Invalid { .. } | OutputError::Folder(_) => {
+                    BAD_INPUT
+                }
+            }
+        }
         match self {
             Failure::BadInput(_) | Failure::Case(_) => BAD_INPUT,
             Failure::RunFailed(_) => FAILED,
@@ -53,12 +67,12 @@ impl Failure {
                 RunError::Case(_) | RunError::Setup(_) => BAD_INPUT,
                 RunError::Fault(_) => FAILED,
                 RunError::Interrupted { .. } => INTERRUPTED,
-                RunError::Output(output) => match output {
-                    OutputError::Write { .. } | OutputError::Neighbours(_) => FAILED,
-                    OutputError::Read { .. }
-                    | OutputError::Invalid { .. }
-                    | OutputError::Folder(_) => BAD_INPUT,
-                },
+                RunError::Output(output) => output_code(output),
+            },
+            Failure::Analysis(err) => match err {
+                AnalysisError::BadInput(_) => BAD_INPUT,
+                AnalysisError::Failed(_) => FAILED,
+                AnalysisError::Output(output) => output_code(output),
             },
         }
     }
@@ -99,6 +113,17 @@ mod tests {
             "{text}"
         );
         assert_eq!(Failure::from(err).exit_code(), 1);
+    }
+
+    #[test]
+    fn analysis_failures_map_like_run_failures() {
+        let code = |err: AnalysisError| Failure::from(err).exit_code();
+        assert_eq!(code(AnalysisError::BadInput(String::new())), 2);
+        assert_eq!(code(AnalysisError::Failed(String::new())), 1);
+        let path = Path::new("analysis/profile.csv");
+        let denied = || io::Error::from(io::ErrorKind::PermissionDenied);
+        assert_eq!(code(OutputError::write(path, denied()).into()), 1);
+        assert_eq!(code(OutputError::read(path, denied()).into()), 2);
     }
 
     #[test]
