@@ -19,68 +19,40 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella_case::{Case, PairViscosity, Region, ViscosityLaw};
+use lamella_case::{Case, PairViscosity};
 use lamella_post::convergence::fit_observed_order;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::layered::LayeredChannel;
 use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
+use lamella_suite::layered::{self, DENSITY, HEIGHT, Layering};
 
-const HEIGHT: f64 = 1.2e-3;
 /// Lower-layer share of the height: h1 = 0.4 H, h2 = 0.6 H.
 const LOWER_SHARE: f64 = 0.4;
 /// Periodic length in units of H/15, a whole number of spacings at 15, 30 and 60 rows.
 const LENGTH_UNITS: f64 = 6.0;
-const DENSITY: f64 = 1000.0;
 /// Viscosity of the less viscous layer (Pa·s); the other has `ratio` or `1/ratio` times more.
 const THIN_VISCOSITY: f64 = 1.0e-3;
 
 /// The bundled two-layer case rebuilt for `rows` particles across with μ1/μ2 = `ratio`.
 fn layered_case(rows: usize, ratio: f64, pair: PairViscosity) -> (Case, LayeredChannel) {
-    let mut case = lamella_case::load(&lamella_suite::cases_dir().join("two-layer-channel.ron"))
-        .expect("bundled case loads");
-    let dx = HEIGHT / rows as f64;
-    let h1 = LOWER_SHARE * HEIGHT;
     let (mu1, mu2) = if ratio >= 1.0 {
         (ratio * THIN_VISCOSITY, THIN_VISCOSITY)
     } else {
         (THIN_VISCOSITY, THIN_VISCOSITY / ratio)
     };
-    case.particles.spacing = dx;
-    case.domain.upper = vec![LENGTH_UNITS * HEIGHT / 15.0, HEIGHT];
-    case.phases[0].viscosity_law = ViscosityLaw::Newtonian { viscosity: mu1 };
-    case.phases[1].viscosity_law = ViscosityLaw::Newtonian { viscosity: mu2 };
-    case.regions = vec![
-        Region::Layer {
-            phase: case.phases[0].name.clone(),
-            bottom: 0.0,
-            top: h1,
-        },
-        Region::Layer {
-            phase: case.phases[1].name.clone(),
-            bottom: h1,
-            top: HEIGHT,
-        },
-    ];
-    case.pair_viscosity = pair;
-    case.output.probes.clear();
-    let force = case.body_force.as_ref().expect("body force")[0];
-    let exact = LayeredChannel {
-        lower_width: h1,
-        upper_width: HEIGHT - h1,
-        lower_viscosity: mu1,
-        upper_viscosity: mu2,
-        force_density: DENSITY * force,
-    };
-    let peak = exact.peak().velocity;
-    case.scales.expected_max_speed = 1.1 * peak;
     let nu_min = THIN_VISCOSITY / DENSITY;
-    case.time.end = 6.0 * HEIGHT * HEIGHT / (std::f64::consts::PI.powi(2) * nu_min);
-    case.time.snapshot_interval = case.time.end;
-    // Re-validate the modified case as a user's file would be.
-    let text = lamella_case::to_ron(&case);
-    let case = lamella_case::parse_str(&text, "layered test case").expect("valid case");
-    (case, exact)
+    layered::channel(
+        rows,
+        LENGTH_UNITS * HEIGHT / 15.0,
+        Layering {
+            lower_width: LOWER_SHARE * HEIGHT,
+            lower_viscosity: mu1,
+            upper_viscosity: mu2,
+        },
+        6.0 * HEIGHT * HEIGHT / (std::f64::consts::PI.powi(2) * nu_min),
+        |case| case.pair_viscosity = pair,
+    )
 }
 
 /// Measured quantities of one steady layered run.

@@ -12,16 +12,13 @@
 //!   series solution of Morris, Fox & Zhu 1997 (J. Comput. Phys. 136, §4.1), at times before
 //!   the steady state.
 
-#[path = "common/viscous_layers.rs"]
-mod viscous_layers;
-
 use glam::DVec2;
 use lamella_case::ViscosityTreatment;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
 use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
-use viscous_layers::Layers;
+use lamella_suite::viscous_layers::Layers;
 
 fn implicit() -> ViscosityTreatment {
     ViscosityTreatment::Implicit {
