@@ -10,7 +10,9 @@
 //! Checks (bounds from the task):
 //! - viscosity ratios μ1/μ2 = 1/4 and 4: relative L2 error of u(y) ≤ 3 %, interface velocity
 //!   within 3 %, the peak velocity in the less viscous layer, and the gradient jump
-//!   (du/dy)₂/(du/dy)₁ at the interface within 10 % of μ1/μ2 (shear-stress continuity);
+//!   (du/dy)₂/(du/dy)₁ at the interface within 10 % of μ1/μ2 (shear-stress continuity); the
+//!   tests hold each ratio to regression bounds about twice what it measures (2026-12-04) and
+//!   name the task's bounds in their messages;
 //! - convergence: the error at three resolutions falls with a fitted order ≥ 0.8 (about first
 //!   order with simple walls is common practice);
 //! - viscosity ratio 10 with harmonic and with arithmetic pair viscosity: both errors printed,
@@ -133,15 +135,23 @@ fn quadratic_at_zero(s: &[f64], v: &[f64]) -> (f64, f64) {
     (value, slope)
 }
 
-fn check_layered(ratio: f64) {
+/// Relative errors one layered run measured (2026-12-04) and its regression bounds, about
+/// twice as large: (measured, bound) each.
+struct Bounds {
+    relative_l2: (f64, f64),
+    interface_velocity: (f64, f64),
+    gradient_jump: (f64, f64),
+}
+
+fn check_layered(ratio: f64, bounds: Bounds) {
     let (m, exact) = run_layered(30, ratio, PairViscosity::Harmonic);
     let ui = exact.interface_velocity();
     let interface_error = (m.interface_velocity - ui).abs() / ui;
     let jump = exact.gradient_jump_ratio(); // μ1/μ2
     let jump_error = (m.gradient_ratio - jump).abs() / jump.abs();
     println!(
-        "layered μ1/μ2 = {ratio}: L2 {:.2} %, interface velocity {:.2} %, gradient jump {:.3} vs \
-         {:.3} ({:.1} %), peak at y = {:.3e} m (exact {:.3e}), max density deviation {:.2} %, {} steps in {:.1} s",
+        "layered μ1/μ2 = {ratio}: L2 {:.3} %, interface velocity {:.3} %, gradient jump {:.3} vs \
+         {:.3} ({:.2} %), peak at y = {:.3e} m (exact {:.3e}), max density deviation {:.2} %, {} steps in {:.1} s",
         100.0 * m.relative_l2,
         100.0 * interface_error,
         m.gradient_ratio,
@@ -153,14 +163,23 @@ fn check_layered(ratio: f64) {
         m.steps,
         m.seconds
     );
-    assert!(
-        m.relative_l2 <= 0.03,
-        "relative L2 error {} > 3 %",
-        m.relative_l2
-    );
-    assert!(
-        interface_error <= 0.03,
-        "interface velocity off by {interface_error}"
+    let check = |what: &str, error: f64, (measured, bound): (f64, f64), task: f64| {
+        assert!(
+            error <= bound,
+            "μ1/μ2 = {ratio}: {what} {:.3} % > the regression bound {:.2} % (measured {:.3} %; \
+             the task's bound, against Bird, Stewart & Lightfoot §2.5, is {:.0} %)",
+            100.0 * error,
+            100.0 * bound,
+            100.0 * measured,
+            100.0 * task
+        );
+    };
+    check("relative L2 error", m.relative_l2, bounds.relative_l2, 0.03);
+    check(
+        "interface velocity error",
+        interface_error,
+        bounds.interface_velocity,
+        0.03,
     );
     let peak_in_upper = m.peak_y > exact.lower_width;
     let upper_less_viscous = exact.upper_viscosity < exact.lower_viscosity;
@@ -168,21 +187,36 @@ fn check_layered(ratio: f64) {
         peak_in_upper, upper_less_viscous,
         "peak must lie in the less viscous layer"
     );
-    assert!(
-        jump_error <= 0.10,
-        "gradient jump {} vs μ1/μ2 = {jump}",
-        m.gradient_ratio
+    check(
+        "gradient jump error",
+        jump_error,
+        bounds.gradient_jump,
+        0.10,
     );
 }
 
 #[test]
 fn layered_flow_with_a_viscous_lower_layer() {
-    check_layered(4.0);
+    check_layered(
+        4.0,
+        Bounds {
+            relative_l2: (0.00289, 0.006),
+            interface_velocity: (0.00607, 0.0125),
+            gradient_jump: (0.0033, 0.007),
+        },
+    );
 }
 
 #[test]
 fn layered_flow_with_a_viscous_upper_layer() {
-    check_layered(0.25);
+    check_layered(
+        0.25,
+        Bounds {
+            relative_l2: (0.00325, 0.007),
+            interface_velocity: (0.00261, 0.0055),
+            gradient_jump: (0.0324, 0.065),
+        },
+    );
 }
 
 #[test]
