@@ -7,11 +7,8 @@
 //! `cargo bench --bench viscous -- ROWS RATIO WIDTH_RATIO [TOLERANCE]` for one other case
 //! (the viscous layer below); `--implicit-only` skips the explicit run.
 
-#[path = "../tests/common/viscous_layers.rs"]
-mod viscous_layers;
-
 use lamella_case::ViscosityTreatment;
-use viscous_layers::Layers;
+use lamella_suite::viscous_layers::Layers;
 
 fn main() {
     let implicit_only = std::env::args().any(|a| a == "--implicit-only");

@@ -1,10 +1,10 @@
 //! The 3D solver path: start-up plane Poiseuille flow in a box periodic in x and z, against the
 //! series solution of Morris, Fox & Zhu 1997 (J. Comput. Phys. 136, §4.1), which does not
 //! depend on z. Coarse (15 particles across the gap, 1 890 particles) so that it runs in
-//! seconds; bound: relative L2 error of the velocity profile ≤ 3 % at the end time, as for 2D.
-//! A 2D run at the same spacing gives 0.94 %, so the bound leaves room for resolution only,
-//! not for a wrong 3D kernel normalisation, wall or neighbour search (each of which shows up
-//! as a profile tens of per cent off).
+//! seconds. The task's bound is a relative L2 error of the velocity profile ≤ 3 % at the end
+//! time, as for 2D; the test holds it to 1.4 %, twice the 0.70 % it measures (2026-12-04). A
+//! 2D run at the same spacing gives 0.94 %, so a wrong 3D kernel normalisation, wall or
+//! neighbour search (each of which shows up as a profile tens of per cent off) fails either.
 
 use glam::DVec3;
 use lamella_case::Axis;
@@ -50,10 +50,15 @@ fn startup_poiseuille_in_3d_follows_the_morris_series() {
     .expect("profile")
     .relative_l2;
     println!(
-        "3D start-up Poiseuille, t = {t} s: relative L2 error {:.2} %",
+        "3D start-up Poiseuille, t = {t} s: relative L2 error {:.3} %",
         100.0 * error
     );
-    assert!(error <= 0.03, "3D profile off by {error}");
+    assert!(
+        error <= 0.014,
+        "3D profile: relative L2 error {:.3} % > the regression bound 1.4 % (measured 0.70 %; \
+         the task's bound, against Morris, Fox & Zhu 1997, is 3 %)",
+        100.0 * error
+    );
     // Nothing may flow across the periodic z axis on average.
     let w_mean: f64 = (0..p.len())
         .filter(|&i| p.kind[i] == Kind::Fluid)

@@ -12,16 +12,13 @@
 //!   series solution of Morris, Fox & Zhu 1997 (J. Comput. Phys. 136, §4.1), at times before
 //!   the steady state.
 
-#[path = "common/viscous_layers.rs"]
-mod viscous_layers;
-
 use glam::DVec2;
 use lamella_case::ViscosityTreatment;
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::startup::PlateGap;
 use lamella_run::runner::run_plain;
 use lamella_sph::Kind;
-use viscous_layers::Layers;
+use lamella_suite::viscous_layers::Layers;
 
 fn implicit() -> ViscosityTreatment {
     ViscosityTreatment::Implicit {
@@ -78,9 +75,10 @@ fn implicit_layered_channel_at_ratio_100_viscous_above() {
 
 /// The bundled start-up Poiseuille case (30 rows) with the implicit option, its viscosity and
 /// body force raised 100-fold (the same steady profile, a 100 times shorter start-up) so that
-/// the acoustic step is several times the explicit viscous limit:
-/// within 3 % of the series solution at a quarter, a half and one time constant H²/(π² ν)
-/// after the start, before the steady state.
+/// the acoustic step is several times the explicit viscous limit: compared with the series
+/// solution at a quarter, a half and one time constant H²/(π² ν) after the start, before the
+/// steady state. The task's bound is 3 %; the regression bounds are about twice the relative
+/// L2 errors measured (2026-12-04): 0.708 %, 0.580 % and 0.382 %.
 #[test]
 fn implicit_start_up_poiseuille_follows_the_series_solution() {
     let mut case = lamella_case::load(&lamella_suite::cases_dir().join("poiseuille.ron"))
@@ -102,7 +100,11 @@ fn implicit_start_up_poiseuille_follows_the_series_solution() {
     let explicit_limit = 0.125 * case.smoothing_length().powi(2) / nu;
     let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     let tau = gap * gap / (std::f64::consts::PI.powi(2) * nu);
-    for fraction in [0.25, 0.5, 1.0] {
+    for (fraction, measured, bound) in [
+        (0.25, 0.00708, 0.0145),
+        (0.5, 0.0058, 0.012),
+        (1.0, 0.00382, 0.008),
+    ] {
         let t = fraction * tau;
         let steps_before = sim.step_count();
         let time_before = sim.time();
@@ -124,7 +126,14 @@ fn implicit_start_up_poiseuille_follows_the_series_solution() {
             100.0 * error,
             mean_step / explicit_limit
         );
-        assert!(error <= 0.03, "L2 {error} at t = {t}");
+        assert!(
+            error <= bound,
+            "L2 {:.3} % at t = {fraction} H²/(π² ν) > the regression bound {:.2} % (measured \
+             {:.3} %; the task's bound, against Morris, Fox & Zhu 1997, is 3 %)",
+            100.0 * error,
+            100.0 * bound,
+            100.0 * measured
+        );
         assert!(mean_step > 5.0 * explicit_limit, "step {mean_step}");
     }
 }

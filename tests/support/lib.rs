@@ -1,4 +1,9 @@
-//! Shared helpers for Lamella's workspace-level tests and benchmarks.
+//! Shared helpers for Lamella's workspace-level tests and benchmarks: paths to the bundled
+//! cases, the layered channel of the validations ([`layered`]) and its runs at large viscosity
+//! ratios ([`viscous_layers`]).
+
+pub mod layered;
+pub mod viscous_layers;
 
 use std::path::PathBuf;
 

@@ -2,15 +2,16 @@
 //! mode of the two-layer channel ([`lamella_post::stability::Eigenmode`], Yih 1967, J. Fluid
 //! Mech. 27) in SI units and in the case's coordinates, scaled to the seeded interface wave.
 //!
-//! Scales as `lamella stability` uses them: h the channel half-width, U_max the peak of the
-//! steady layered profile (Bird, Stewart & Lightfoot §2.5), Re = ρ U_max h/μ_lower, α = k h.
+//! The channel and its scales are [`CaseChannel`]'s, as `lamella stability` uses them.
 //! The case's seed displaces the interface by A sin(k(x − x_lower)) = Re[−iA e^{ik(x − x_lower)}],
 //! so the mode (normalised to a unit real displacement) is scaled by ε = −iA/h. A flow
 //! towards −x (body force along −x) is the mirror image x → −x of the solved one: there the
 //! mode is taken at x̃ = −(x − x_lower), with ε = +iA/h and u' reversed.
 
-use lamella_case::{Case, ChannelFlow, SeedMode};
-use lamella_post::stability::{ChannelScales, Eigenmode, LayeredChannel, StabilityProblem, c64};
+use lamella_case::{Case, SeedMode};
+use lamella_post::stability::{Eigenmode, c64};
+
+use crate::channel::{CaseChannel, ChannelError};
 
 /// The leading eigenmode of a case's two-layer channel, ready to add to the steady profile.
 #[derive(Clone, Debug, PartialEq)]
@@ -41,45 +42,22 @@ impl EigenmodeSeed {
         if perturbation.mode != SeedMode::Eigenmode {
             return Ok(None);
         }
-        let Some(ChannelFlow::TwoLayers {
-            lower_width,
-            upper_width,
-            lower_viscosity,
-            upper_viscosity,
-            force_density,
-        }) = case.channel_flow()
-        else {
-            return Err("the eigenmode seed needs a two-layer channel".into());
-        };
-        if force_density == 0.0 {
-            return Err("the eigenmode seed needs a body force along x".into());
-        }
-        let channel =
-            LayeredChannel::two_layer(lower_viscosity / upper_viscosity, lower_width / upper_width)
-                .map_err(|err| err.to_string())?;
-        let half_width = 0.5 * (lower_width + upper_width);
-        let density = case.phases[case.tracked_interface().map_or(0, |pair| pair.lower)].density;
-        let ChannelScales {
-            peak_velocity,
-            reynolds,
-            ..
-        } = ChannelScales::new(
-            &channel,
-            half_width,
-            force_density.abs(),
-            density,
-            lower_viscosity,
-        );
-        let wavenumber = std::f64::consts::TAU / perturbation.wavelength * half_width;
-        let mode = StabilityProblem::new(channel, reynolds, wavenumber)
+        let channel = CaseChannel::of(case).map_err(|err| match err {
+            ChannelError::NoDrive => "the eigenmode seed needs a body force along x".to_string(),
+            ChannelError::Ratios(err) => err.to_string(),
+            _ => "the eigenmode seed needs a two-layer channel".to_string(),
+        })?;
+        let half_width = channel.scales.half_width;
+        let mode = channel
+            .problem(channel.wavenumber(perturbation.wavelength))
             .leading_mode()
             .map_err(|err| format!("the leading eigenmode could not be computed: {err}"))?;
-        let direction = force_density.signum();
+        let direction = channel.direction;
         Ok(Some(Self {
             mode,
             half_width,
             centre: case.domain.lower[1] + half_width,
-            peak_velocity,
+            peak_velocity: channel.scales.peak_velocity,
             direction,
             x0: case.domain.lower[0],
             amplitude: c64::new(0.0, -direction * perturbation.amplitude / half_width),

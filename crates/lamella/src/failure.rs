@@ -6,6 +6,7 @@ use std::process::ExitCode;
 
 use lamella_case::CaseError;
 use lamella_run::RunError;
+use lamella_run::analysis::AnalysisError;
 use lamella_run::output::OutputError;
 
 /// Why a command did not succeed.
@@ -28,6 +29,9 @@ pub enum Failure {
     /// says where and how to continue. Not an error: it is printed without "error:".
     #[error("{0}")]
     Interrupted(String),
+    /// Analysing a run folder failed: bad input, a failed solve, or reading or writing files.
+    #[error(transparent)]
+    Analysis(#[from] AnalysisError),
 }
 
 fn problem_count(err: &CaseError) -> String {
@@ -73,6 +77,16 @@ impl Failure {
         const FAILED: u8 = 1;
         const BAD_INPUT: u8 = 2;
         const INTERRUPTED: u8 = 130;
+        /// A file that cannot be written fails the command; one that cannot be read, or is
+        /// not what Lamella wrote, is bad input.
+        fn output_code(err: &OutputError) -> u8 {
+            match err {
+                OutputError::Write { .. } | OutputError::Neighbours(_) => FAILED,
+                OutputError::Read { .. } | OutputError::Invalid { .. } | OutputError::Folder(_) => {
+                    BAD_INPUT
+                }
+            }
+        }
         match self {
             Failure::BadInput(_) | Failure::Case(_) => BAD_INPUT,
             Failure::RunFailed(_) => FAILED,
@@ -81,12 +95,12 @@ impl Failure {
                 RunError::Case(_) | RunError::Setup(_) => BAD_INPUT,
                 RunError::Fault(_) => FAILED,
                 RunError::Interrupted { .. } => INTERRUPTED,
-                RunError::Output(output) => match output {
-                    OutputError::Write { .. } | OutputError::Neighbours(_) => FAILED,
-                    OutputError::Read { .. }
-                    | OutputError::Invalid { .. }
-                    | OutputError::Folder(_) => BAD_INPUT,
-                },
+                RunError::Output(output) => output_code(output),
+            },
+            Failure::Analysis(err) => match err {
+                AnalysisError::BadInput(_) => BAD_INPUT,
+                AnalysisError::Failed(_) => FAILED,
+                AnalysisError::Output(output) => output_code(output),
             },
         }
     }
@@ -154,6 +168,17 @@ mod tests {
             "{text}"
         );
         assert_eq!(Failure::from(err).exit_code(), 1);
+    }
+
+    #[test]
+    fn analysis_failures_map_like_run_failures() {
+        let code = |err: AnalysisError| Failure::from(err).exit_code();
+        assert_eq!(code(AnalysisError::BadInput(String::new())), 2);
+        assert_eq!(code(AnalysisError::Failed(String::new())), 1);
+        let path = Path::new("analysis/profile.csv");
+        let denied = || io::Error::from(io::ErrorKind::PermissionDenied);
+        assert_eq!(code(OutputError::write(path, denied()).into()), 1);
+        assert_eq!(code(OutputError::read(path, denied()).into()), 2);
     }
 
     #[test]

@@ -7,7 +7,7 @@ use glam::DVec2;
 use serde::Serialize;
 
 use crate::commands::Globals;
-use crate::commands::analysis::parse_list;
+use crate::commands::shared::parse_list;
 use crate::{Failure, memory};
 use lamella_run::benchmark::{STANDARD_TEMPLATE, Timing, standard_case, time_steps};
 

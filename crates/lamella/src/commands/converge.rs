@@ -17,11 +17,12 @@ use lamella_post::table::csv_document;
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::commands::analysis::parse_list;
-use crate::commands::growth::{DEFAULT_MIN_R2, FitArgs, measure, period_line};
-use crate::commands::profile::profile;
-use crate::commands::stability::predicted_mode;
+use crate::commands::shared::{parse_list, period_line};
 use lamella_case::Case;
+use lamella_run::analysis::folder::Run;
+use lamella_run::analysis::growth::{FitSettings, measure};
+use lamella_run::analysis::mode::predicted_mode;
+use lamella_run::analysis::profile::profile;
 use lamella_run::feasibility::load_case;
 use lamella_run::output::atomic::write_bytes;
 use lamella_run::output::{InterfaceTracker, RunFolder};
@@ -176,7 +177,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let mut l2 = Vec::new();
     let mut max = Vec::new();
     for (dx, _, dir) in &runs {
-        let result = profile(dir, None, "y", None, None, None)?;
+        let result = profile(&Run::open(dir)?, None, 1, None, None, None)?;
         let (c, _) = result.comparison.ok_or_else(|| {
             Failure::RunFailed(format!("run at spacing {dx:e} m: no analytical profile"))
         })?;
@@ -215,16 +216,13 @@ fn summarise_waves(
     runs: &[(f64, PathBuf, PathBuf)],
     globals: Globals,
 ) -> Result<(), Failure> {
-    let (rate, speed) = predicted_mode(case, case_path)?;
-    let fit_options = FitArgs {
-        window: None,
-        min_r2: DEFAULT_MIN_R2,
-        start_up: None,
-    };
+    let predicted = predicted_mode(case, case_path)?;
+    let (rate, speed) = (predicted.rate, predicted.wave_speed);
+    let fit_settings = FitSettings::default();
     let mut columns = vec![Vec::new(); 7];
     for (dx, path, dir) in runs {
         let folder = RunFolder::open(dir)?;
-        let measured = measure(&folder, &load_case(path)?, &fit_options)?;
+        let measured = measure(&folder, &load_case(path)?, &fit_settings)?;
         let fit = *measured.fit.as_ref().map_err(|why| {
             Failure::RunFailed(format!(
                 "run at spacing {dx:e} m: the growth fit refuses: {why}"

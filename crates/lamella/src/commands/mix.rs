@@ -21,7 +21,8 @@ use lamella_sph::{Kernel, KernelKind, Kind};
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::commands::analysis::{Run, parse_list};
+use crate::commands::shared::parse_list;
+use lamella_run::analysis::folder::Run;
 use lamella_run::output::Snapshot;
 use lamella_run::output::atomic::write_bytes;
 

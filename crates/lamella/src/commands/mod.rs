@@ -1,8 +1,8 @@
 //! One module per subcommand; each has an `Args` (clap) and a `run` function. The list of
 //! subcommands ([`Command`]) and the options they share ([`Globals`]) are here, so the
-//! subcommands never import the command line's top level.
+//! subcommands never import the command line's top level. Subcommands never import each
+//! other: what they share is in [`shared`] and [`values`], or in the libraries.
 
-pub mod analysis;
 pub mod bench;
 pub mod check;
 pub mod converge;
@@ -13,6 +13,7 @@ pub mod new;
 pub mod profile;
 pub mod resume;
 pub mod run;
+pub mod shared;
 pub mod stability;
 pub mod values;
 

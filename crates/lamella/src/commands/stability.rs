@@ -11,17 +11,21 @@ use std::fmt::Write as _;
 use std::fs;
 use std::path::{Path, PathBuf};
 
-use lamella_case::{Axis, Case, Side};
+use lamella_case::Case;
 use lamella_post::stability::{
-    self, ChannelScales, CurvePoint, DEFAULT_POINTS_PER_LAYER, LayeredChannel, MapPoint,
-    StabilityError, StabilityProblem,
+    self, CurvePoint, DEFAULT_POINTS_PER_LAYER, LayeredChannel, MapPoint, StabilityError,
+    StabilityProblem,
 };
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::commands::analysis::open_case;
-use crate::commands::growth::{self, FitArgs, Measurement};
 use crate::point_progress::PointProgress;
+use crate::commands::shared::{FitArgs, growth_chart, period_line};
+use lamella_run::analysis::AnalysisError;
+use lamella_run::analysis::folder::open_case;
+use lamella_run::analysis::growth::{Measurement, measure};
+use lamella_run::analysis::mode::Prediction;
+use lamella_run::channel::{CaseChannel, ChannelError};
 use lamella_run::feasibility::load_case;
 use lamella_run::output::OutputError;
 use lamella_run::output::atomic::write_bytes;
@@ -112,46 +116,16 @@ pub const RATE_TOLERANCE: f64 = 0.15;
 /// bound for wave speeds).
 pub const SPEED_TOLERANCE: f64 = 0.05;
 
-/// Dimensional scales of a case, to convert scaled results back.
-struct CaseUnits {
-    /// Channel half-width h (m).
-    half_width: f64,
-    /// Peak velocity of the steady profile U_max (m/s).
-    peak_velocity: f64,
-    /// Direction of the flow along x: the sign of the body force (±1).
-    direction: f64,
-}
-
-impl CaseUnits {
-    /// Temporal growth rate α c_i U_max / h (1/s) of scaled wavenumber α and wave speed c.
-    fn growth_rate(&self, wavenumber: f64, c: stability::c64) -> f64 {
-        wavenumber * c.im * self.peak_velocity / self.half_width
-    }
-
-    /// Phase speed along x, direction · c_r U_max (m/s), of scaled wave speed c.
-    fn wave_speed(&self, c: stability::c64) -> f64 {
-        self.direction * c.re * self.peak_velocity
-    }
-
-    /// Wavelength 2π h / α (m) of scaled wavenumber α.
-    fn wavelength(&self, wavenumber: f64) -> f64 {
-        2.0 * std::f64::consts::PI * self.half_width / wavenumber
-    }
-}
-
 /// The problem to solve and, in case mode, the units to print results in.
 struct Setup {
     problem: StabilityProblem,
-    units: Option<CaseUnits>,
+    units: Option<CaseChannel>,
     description: String,
 }
 
 /// Solves and prints; writes the curve or map files when asked for.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    let fit_given = args.fit.window.is_some()
-        || args.fit.start_up.is_some()
-        || args.fit.min_r2 != growth::DEFAULT_MIN_R2;
-    if args.run.is_none() && fit_given {
+    if args.run.is_none() && args.fit.given() {
         return Err(Failure::BadInput(
             "--window, --min-r2 and --start-up set the growth fit of a run; give the run folder with --run DIR".into(),
         ));
@@ -231,13 +205,13 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
                 rate: units.growth_rate(setup.problem.wavenumber, checked.speed),
                 wave_speed: units.wave_speed(checked.speed),
             };
-            let measured = growth::measure(folder, case, &args.fit)?;
+            let measured = measure(folder, case, &args.fit.settings()?)?;
             let dir = folder.root().display().to_string();
             match &measured.fit {
                 Ok(fit) => {
                     compare(&mut report, &dir, &measured, fit, &predicted);
                     let png = out_dir.join("growth_vs_theory.png");
-                    let bytes = growth::growth_chart(&case.title, &measured, Some(predicted.rate))
+                    let bytes = growth_chart(&case.title, &measured, Some(predicted.rate))
                         .to_png(PNG_SIZE.0, PNG_SIZE.1)
                         .map_err(|e| write_failure(&png, e))?;
                     write_atomic(&png, &bytes)?;
@@ -297,11 +271,9 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     }
 }
 
+/// A failed solve: bad input when a parameter is out of range, a failure otherwise.
 fn solve_failure(err: StabilityError) -> Failure {
-    match err {
-        StabilityError::InvalidParameter(msg) => Failure::BadInput(msg),
-        other => Failure::RunFailed(format!("stability solve failed: {other}")),
-    }
+    AnalysisError::from(err).into()
 }
 
 fn write_failure(path: &Path, err: impl std::fmt::Display) -> Failure {
@@ -372,14 +344,6 @@ fn from_ratios(args: &Args) -> Result<Setup, Failure> {
         units: None,
         description,
     })
-}
-
-/// The prediction for a run's case copy, in the case's units.
-struct Prediction {
-    /// Temporal growth rate (1/s).
-    rate: f64,
-    /// Phase speed along x (m/s).
-    wave_speed: f64,
 }
 
 /// Whether a prediction agrees with a measured value ± its 95 % half-width, and why: it lies
@@ -468,7 +432,7 @@ fn compare(
     writeln!(
         report,
         "  {}",
-        growth::period_line(measured, fit, Some(predicted.rate))
+        period_line(measured, fit, Some(predicted.rate))
     )
     .ok();
     let verdict = match (rate_ok, speed_ok) {
@@ -488,65 +452,28 @@ enum Wavenumber<'a> {
     Recorded,
 }
 
-/// The predicted growth rate (1/s) and wave speed (m/s) of the interface mode a run of `case`
-/// (read from `path`) records, from linear theory.
-pub fn predicted_mode(case: &Case, path: &Path) -> Result<(f64, f64), Failure> {
-    let setup = from_case(case, path, Wavenumber::Recorded)?;
-    let mode = stability::leading_checked(&setup.problem).map_err(solve_failure)?;
-    let units = setup.units.expect("case mode has units");
-    let alpha = setup.problem.wavenumber;
-    Ok((
-        units.growth_rate(alpha, mode.speed),
-        units.wave_speed(mode.speed),
-    ))
-}
-
 /// Reads m, n, Re, the drive and the wavenumber (see [`Wavenumber`]) from a two-layer
 /// channel case read from `path`.
 fn from_case(case: &Case, path: &Path, wavenumber: Wavenumber<'_>) -> Result<Setup, Failure> {
     let bad = |what: &str| Failure::BadInput(format!("{}: {what}", path.display()));
-    let pairs = case.layer_pairs();
-    let [pair] = pairs.as_slice() else {
-        return Err(bad(&format!(
-            "the stability analysis needs exactly two stacked layers of different phases, found {} layer boundaries; use --m, --n, --re instead",
-            pairs.len()
-        )));
-    };
-    require_channel(case).map_err(|what| bad(&what))?;
-    let (lower, upper) = (&case.phases[pair.lower], &case.phases[pair.upper]);
-    if (lower.density - upper.density).abs() > 1e-9 * lower.density.abs() {
-        return Err(bad(&format!(
-            "phases '{}' and '{}' differ in density ({} and {} kg/m³); the stability analysis assumes equal densities",
-            lower.name, upper.name, lower.density, upper.density
-        )));
-    }
-    let force = case
-        .body_force
-        .as_ref()
-        .map(|f| f[0])
-        .filter(|f| *f != 0.0)
-        .ok_or_else(|| {
-            bad("the flow needs a body force along x (the drive of the channel flow)")
-        })?;
-    let half_width = case.extent(1) / 2.0;
-    let m = pair.viscosity_ratio;
-    let n = pair.width_ratio;
-    let channel = LayeredChannel::two_layer(m, n).map_err(solve_failure)?;
-    let scales = ChannelScales::new(
-        &channel,
-        half_width,
-        lower.density * force.abs(),
-        lower.density,
-        lower.viscosity_law.reference_viscosity(),
+    let channel = CaseChannel::of(case).map_err(|err| match err {
+        ChannelError::Layers(_) => bad(&format!("{err}; use --m, --n, --re instead")),
+        ChannelError::Ratios(err) => solve_failure(err),
+        other => bad(&other.to_string()),
+    })?;
+    let (lower, upper) = (
+        &case.phases[channel.pair.lower],
+        &case.phases[channel.pair.upper],
     );
-    let (peak_velocity, re) = (scales.peak_velocity, scales.reynolds);
-    let recorded = 2.0 * std::f64::consts::PI / case.tracked_wavelength() * half_width;
+    let (m, n) = (channel.pair.viscosity_ratio, channel.pair.width_ratio);
+    let half_width = channel.scales.half_width;
+    let (peak_velocity, re) = (channel.scales.peak_velocity, channel.scales.reynolds);
     let wavenumber = match wavenumber {
-        Wavenumber::Recorded => recorded,
+        Wavenumber::Recorded => channel.wavenumber(case.tracked_wavelength()),
         Wavenumber::Asked(args) => {
             match (args.wavenumber, &case.interface_perturbation, &args.scan) {
                 (Some(k), _, _) => k,
-                (None, Some(p), _) => 2.0 * std::f64::consts::PI / p.wavelength * half_width,
+                (None, Some(p), _) => channel.wavenumber(p.wavelength),
                 (None, None, Some(_)) => 1.0,
                 (None, None, None) => {
                     return Err(bad(
@@ -564,49 +491,13 @@ fn from_case(case: &Case, path: &Path, wavenumber: Wavenumber<'_>) -> Result<Set
         upper.name
     );
     Ok(Setup {
-        problem: StabilityProblem::new(channel, re, wavenumber),
-        units: Some(CaseUnits {
-            half_width,
-            peak_velocity,
-            direction: force.signum(),
-        }),
+        problem: channel.problem(wavenumber),
+        units: Some(channel),
         description,
     })
 }
 
-/// A plane channel: fixed walls at the bottom and top, periodic along x, layers filling the
-/// height.
-fn require_channel(case: &Case) -> Result<(), String> {
-    for side in [Side::Bottom, Side::Top] {
-        match case.walls.iter().find(|w| w.side == side) {
-            None => return Err(format!("the channel needs a wall at the {side:?} side")),
-            Some(w)
-                if w.velocity
-                    .as_ref()
-                    .is_some_and(|v| v.iter().any(|x| *x != 0.0)) =>
-            {
-                return Err(format!(
-                    "the {side:?} wall moves; the analysis is for fixed walls"
-                ));
-            }
-            Some(_) => {}
-        }
-    }
-    if !case.is_periodic(Axis::X) {
-        return Err("the channel must be periodic along x".into());
-    }
-    let bands = case.layer_bands();
-    let (lo, hi) = (case.domain.lower[1], case.domain.upper[1]);
-    let tol = 1e-9 * (hi - lo);
-    let covers = bands.first().is_some_and(|b| (b.bottom - lo).abs() <= tol)
-        && bands.last().is_some_and(|b| (b.top - hi).abs() <= tol);
-    if !covers {
-        return Err("the two layers must fill the channel from the bottom to the top".into());
-    }
-    Ok(())
-}
-
-fn describe(report: &mut String, wavenumber: f64, c: stability::c64, units: &Option<CaseUnits>) {
+fn describe(report: &mut String, wavenumber: f64, c: stability::c64, units: &Option<CaseChannel>) {
     let growth = wavenumber * c.im;
     writeln!(
         report,
@@ -620,17 +511,17 @@ fn describe(report: &mut String, wavenumber: f64, c: stability::c64, units: &Opt
         writeln!(
             report,
             "  case units: wavenumber {:.6} 1/m (wavelength {:.6} m), wave speed {:.6e} {:+.6e}i m/s, growth rate {:.6e} 1/s",
-            wavenumber / u.half_width,
+            wavenumber / u.scales.half_width,
             u.wavelength(wavenumber),
             u.wave_speed(c),
-            c.im * u.peak_velocity,
+            c.im * u.scales.peak_velocity,
             u.growth_rate(wavenumber, c)
         )
         .ok();
     }
 }
 
-fn curve_csv(curve: &[CurvePoint], units: &Option<CaseUnits>) -> String {
+fn curve_csv(curve: &[CurvePoint], units: &Option<CaseChannel>) -> String {
     let mut out = String::from(
         "wavenumber_scaled,wave_speed_real_scaled,wave_speed_imag_scaled,growth_rate_scaled",
     );
@@ -649,8 +540,8 @@ fn curve_csv(curve: &[CurvePoint], units: &Option<CaseUnits>) -> String {
             write!(
                 out,
                 ",{},{}",
-                p.wavenumber / u.half_width,
-                p.growth_rate * u.peak_velocity / u.half_width
+                p.wavenumber / u.scales.half_width,
+                p.growth_rate * u.scales.peak_velocity / u.scales.half_width
             )
             .ok();
         }
@@ -713,98 +604,4 @@ fn write_atomic(path: &Path, bytes: &[u8]) -> Result<(), Failure> {
         fs::create_dir_all(dir).map_err(|e| OutputError::write(dir, e))?;
     }
     Ok(write_bytes(path, bytes)?)
-}
-
-#[cfg(test)]
-mod eigenmode_seed_tests {
-    //! The eigenmode seed of `lamella-run` against this command's own prediction.
-    use super::predicted_mode;
-    use lamella_case::{Case, SeedMode};
-    use lamella_run::eigenmode::EigenmodeSeed;
-    use lamella_run::reference::channel_reference;
-    use std::path::Path;
-
-    fn growing(mode: SeedMode) -> Case {
-        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/interface-growth.ron");
-        let mut case = lamella_case::load(&path).expect("bundled case");
-        case.interface_perturbation.as_mut().expect("seeded").mode = mode;
-        case
-    }
-
-    /// Checks the kinematic condition at the interface in SI, against `lamella stability`'s
-    /// own prediction: the seeded interface η = A sin(k(x − x0)) must move as the mode does,
-    /// η(x, t) = A e^{σt} sin(k(x − x0 − c t)), so at t = 0 the fluid there moves vertically
-    /// with v = ∂η/∂t + U_i ∂η/∂x = A [σ sin(kξ) + k (U_i − c) cos(kξ)] (Yih 1967, §2).
-    fn assert_interface_moves_with_the_predicted_wave(case: &Case) {
-        let path = Path::new("interface-growth.ron");
-        let (rate, speed) = predicted_mode(case, path).expect("a predicted mode");
-        let seed = EigenmodeSeed::of(case).expect("solved").expect("asked for");
-        let p = case.interface_perturbation.as_ref().unwrap();
-        let pair = case.tracked_interface().unwrap();
-        let bottom = case.domain.lower[1];
-        let interface_speed = channel_reference(case)
-            .unwrap()
-            .steady_velocity_in_layer(pair.interface - bottom, false);
-        let k = std::f64::consts::TAU / p.wavelength;
-        let scale = p.amplitude * k * interface_speed.abs();
-        for x in [0.0, 1.7e-4, 4.1e-4, 9.0e-4] {
-            let xi = k * (x - case.domain.lower[0]);
-            let expected =
-                p.amplitude * (rate * xi.sin() + k * (interface_speed - speed) * xi.cos());
-            for upper in [false, true] {
-                let v = seed.velocity([x, pair.interface], upper)[1];
-                assert!(
-                    (v - expected).abs() < 1e-7 * scale,
-                    "x = {x}, upper {upper}: v = {v}, expected {expected}"
-                );
-            }
-        }
-    }
-
-    #[test]
-    fn the_seeded_interface_moves_at_the_predicted_growth_rate_and_wave_speed() {
-        let _quiet_heap = crate::memory::MEASURING
-            .lock()
-            .unwrap_or_else(|e| e.into_inner());
-        assert_interface_moves_with_the_predicted_wave(&growing(SeedMode::Eigenmode));
-    }
-
-    #[test]
-    fn a_flow_towards_minus_x_gets_the_mirrored_mode() {
-        let _quiet_heap = crate::memory::MEASURING
-            .lock()
-            .unwrap_or_else(|e| e.into_inner());
-        let mut case = growing(SeedMode::Eigenmode);
-        let force = case.body_force.as_mut().unwrap();
-        force[0] = -force[0];
-        assert_interface_moves_with_the_predicted_wave(&case);
-        let forward = EigenmodeSeed::of(&growing(SeedMode::Eigenmode))
-            .unwrap()
-            .unwrap();
-        let backward = EigenmodeSeed::of(&case).unwrap().unwrap();
-        let (length, y) = (case.extent(0), 0.45e-3);
-        for x in [1.0e-4, 5.0e-4] {
-            let [u, v] = forward.velocity([x, y], false);
-            // x → −x maps the forward flow onto the backward one and its seed A sin(kx) onto
-            // −A sin(kx), and velocities (u, v) onto (−u, v); with the period L the backward
-            // field at L − x is then (u, −v) of the forward field at x.
-            let [um, vm] = backward.velocity([length - x, y], false);
-            assert!((um - u).abs() < 1e-12 * u.abs().max(1e-12), "{um} vs {u}");
-            assert!((vm + v).abs() < 1e-12 * v.abs().max(1e-12), "{vm} vs {v}");
-        }
-    }
-
-    #[test]
-    fn displacement_seeds_and_unseeded_cases_have_no_mode() {
-        let _quiet_heap = crate::memory::MEASURING
-            .lock()
-            .unwrap_or_else(|e| e.into_inner());
-        assert_eq!(
-            EigenmodeSeed::of(&growing(SeedMode::Displacement)),
-            Ok(None)
-        );
-        let mut case = growing(SeedMode::Eigenmode);
-        case.interface_perturbation = None;
-        assert_eq!(EigenmodeSeed::of(&case), Ok(None));
-    }
 }

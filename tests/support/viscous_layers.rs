@@ -6,16 +6,15 @@
 use std::time::Instant;
 
 use glam::DVec2;
-use lamella_case::{Case, Region, ViscosityLaw, ViscosityTreatment};
+use lamella_case::{Case, ViscosityTreatment};
 use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::layered::LayeredChannel;
 use lamella_sph::Kind;
 
-/// Channel height H (m).
-pub const HEIGHT: f64 = 1.2e-3;
+use crate::layered::{DENSITY, HEIGHT, Layering};
+
 /// Viscosity of the runny layer (Pa·s); the viscous one has `ratio` times more.
 pub const RUNNY_VISCOSITY: f64 = 1.0e-3;
-const DENSITY: f64 = 1000.0;
 
 /// One layered channel: rows across, viscosity ratio m ≥ 1 (viscous over runny), width ratio
 /// n = viscous width / runny width, and whether the viscous layer lies below.
@@ -42,9 +41,6 @@ impl Layers {
     /// width (the viscous layer, a hundred times quicker or more, acts on it as a wall):
     /// the start-up is then down to e⁻⁸ = 0.03 %.
     pub fn case(&self, treatment: ViscosityTreatment) -> (Case, LayeredChannel) {
-        let mut case =
-            lamella_case::load(&lamella_suite::cases_dir().join("two-layer-channel.ron"))
-                .expect("bundled case loads");
         let dx = HEIGHT / self.rows as f64;
         let runny_width = self.runny_rows() as f64 * dx;
         let viscous_width = HEIGHT - runny_width;
@@ -54,40 +50,20 @@ impl Layers {
         } else {
             (runny_width, RUNNY_VISCOSITY, viscous)
         };
-        case.particles.spacing = dx;
-        // Six rows along the periodic x (a fully developed channel does not vary along x).
-        case.domain.upper = vec![6.0 * dx, HEIGHT];
-        case.phases[0].viscosity_law = ViscosityLaw::Newtonian { viscosity: mu1 };
-        case.phases[1].viscosity_law = ViscosityLaw::Newtonian { viscosity: mu2 };
-        case.regions = vec![
-            Region::Layer {
-                phase: case.phases[0].name.clone(),
-                bottom: 0.0,
-                top: lower_width,
-            },
-            Region::Layer {
-                phase: case.phases[1].name.clone(),
-                bottom: lower_width,
-                top: HEIGHT,
-            },
-        ];
-        case.output.probes.clear();
-        case.viscosity_treatment = treatment;
-        let force = case.body_force.as_ref().expect("body force")[0];
-        let exact = LayeredChannel {
-            lower_width,
-            upper_width: HEIGHT - lower_width,
-            lower_viscosity: mu1,
-            upper_viscosity: mu2,
-            force_density: DENSITY * force,
-        };
-        case.scales.expected_max_speed = 1.1 * exact.peak().velocity;
         let nu = RUNNY_VISCOSITY / DENSITY;
-        case.time.end = 8.0 * runny_width * runny_width / (std::f64::consts::PI.powi(2) * nu);
-        case.time.snapshot_interval = case.time.end;
-        let text = lamella_case::to_ron(&case);
-        let case = lamella_case::parse_str(&text, "layered case").expect("valid case");
-        (case, exact)
+        let end = 8.0 * runny_width * runny_width / (std::f64::consts::PI.powi(2) * nu);
+        // Six rows along the periodic x (a fully developed channel does not vary along x).
+        crate::layered::channel(
+            self.rows,
+            6.0 * dx,
+            Layering {
+                lower_width,
+                lower_viscosity: mu1,
+                upper_viscosity: mu2,
+            },
+            end,
+            |case| case.viscosity_treatment = treatment,
+        )
     }
 
     /// Runs the case to its end time and measures it.

@@ -1,14 +1,13 @@
-//! What the analysis commands (`profile`, `growth`, `mix`, `stability --run`) share: opening a
-//! run folder, choosing snapshots, reading columns of `series.csv`, and writing result files
-//! atomically.
+//! Opening a run folder for analysis: its case copy, choosing snapshots, reading columns of
+//! `series.csv`, and the folder the results go to.
 
 use std::path::{Path, PathBuf};
 
 use lamella_case::Case;
 
-use crate::Failure;
-use lamella_run::output::collection::{Collection, Entry};
-use lamella_run::output::{RunFolder, Snapshot, read_snapshot};
+use super::AnalysisError;
+use crate::output::collection::{Collection, Entry};
+use crate::output::{RunFolder, Snapshot, read_snapshot};
 
 /// A finished (or running) run folder with its case and snapshot list.
 pub struct Run {
@@ -22,19 +21,17 @@ pub struct Run {
 
 impl Run {
     /// Opens `dir`: it must hold `case.ron` and at least one snapshot.
-    pub fn open(dir: &Path) -> Result<Self, Failure> {
-        let folder = RunFolder::open(dir)?;
-        let case =
-            lamella_case::load(&folder.case()).map_err(|e| Failure::BadInput(e.to_string()))?;
+    pub fn open(dir: &Path) -> Result<Self, AnalysisError> {
+        let (folder, case) = open_case(dir)?;
         let collection = Collection::read(&folder.collection()).map_err(|e| {
-            Failure::BadInput(format!(
+            AnalysisError::BadInput(format!(
                 "{e}; the run folder {} has no snapshots yet",
                 dir.display()
             ))
         })?;
         let entries = collection.entries().to_vec();
         if entries.is_empty() {
-            return Err(Failure::BadInput(format!(
+            return Err(AnalysisError::BadInput(format!(
                 "the run folder {} lists no snapshot in {}",
                 dir.display(),
                 folder.collection().display()
@@ -48,11 +45,11 @@ impl Run {
     }
 
     /// Reads snapshot `entry`; one of another dimension than the case is bad input.
-    pub fn read(&self, entry: &Entry) -> Result<Snapshot, Failure> {
+    pub fn read(&self, entry: &Entry) -> Result<Snapshot, AnalysisError> {
         let path = self.folder.snapshots().join(&entry.file);
         let snapshot = read_snapshot(&path)?;
         if snapshot.dimension != self.case.dimension as usize {
-            return Err(Failure::BadInput(format!(
+            return Err(AnalysisError::BadInput(format!(
                 "{} is a {}D snapshot but the run's case {} is {}D; the snapshot belongs to \
                  another run, put back this run's own snapshots",
                 path.display(),
@@ -80,17 +77,17 @@ impl Run {
     }
 
     /// Where analysis results go: `out`, or `DIR/analysis` (created).
-    pub fn output_folder(&self, out: Option<&Path>) -> Result<PathBuf, Failure> {
+    pub fn output_folder(&self, out: Option<&Path>) -> Result<PathBuf, AnalysisError> {
         analysis_folder(&self.folder, out)
     }
 }
 
 /// Where the analysis results of the run in `folder` go: `out`, or `DIR/analysis` (created;
-/// a folder that cannot be created is bad input, exit code 2).
-pub fn analysis_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf, Failure> {
+/// a folder that cannot be created is bad input).
+pub fn analysis_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf, AnalysisError> {
     let dir = out.map_or_else(|| folder.root().join("analysis"), Path::to_path_buf);
     std::fs::create_dir_all(&dir).map_err(|e| {
-        Failure::BadInput(format!(
+        AnalysisError::BadInput(format!(
             "cannot create the output folder {}: {e}",
             dir.display()
         ))
@@ -100,17 +97,23 @@ pub fn analysis_folder(folder: &RunFolder, out: Option<&Path>) -> Result<PathBuf
 
 /// Opens the run folder `dir` and reads its case copy; unlike [`Run::open`] it needs no
 /// snapshot (for the analyses of `series.csv`).
-pub fn open_case(dir: &Path) -> Result<(RunFolder, Case), Failure> {
+pub fn open_case(dir: &Path) -> Result<(RunFolder, Case), AnalysisError> {
     let folder = RunFolder::open(dir)?;
-    let case = lamella_case::load(&folder.case()).map_err(|e| Failure::BadInput(e.to_string()))?;
+    let case =
+        lamella_case::load(&folder.case()).map_err(|e| AnalysisError::BadInput(e.to_string()))?;
     Ok((folder, case))
 }
 
 /// Reads the columns `names` of the CSV table `path` (header row, numbers in the rows; an empty
 /// cell is NaN). A column missing from the header is bad input whose message ends with `hint`.
-pub fn read_columns(path: &Path, names: &[&str], hint: &str) -> Result<Vec<Vec<f64>>, Failure> {
+pub fn read_columns(
+    path: &Path,
+    names: &[&str],
+    hint: &str,
+) -> Result<Vec<Vec<f64>>, AnalysisError> {
+    let bad = AnalysisError::BadInput;
     let text = std::fs::read_to_string(path)
-        .map_err(|e| Failure::BadInput(format!("cannot read {}: {e}", path.display())))?;
+        .map_err(|e| bad(format!("cannot read {}: {e}", path.display())))?;
     let mut lines = text.lines();
     let header: Vec<&str> = lines
         .next()
@@ -124,7 +127,7 @@ pub fn read_columns(path: &Path, names: &[&str], hint: &str) -> Result<Vec<Vec<f
         .filter(|n| !header.contains(n))
         .collect();
     if !missing.is_empty() {
-        return Err(Failure::BadInput(format!(
+        return Err(bad(format!(
             "{} has no column {}; {hint}",
             path.display(),
             missing.join(", ")
@@ -141,7 +144,7 @@ pub fn read_columns(path: &Path, names: &[&str], hint: &str) -> Result<Vec<Vec<f
             let value = match cells.get(i) {
                 Some(&"") => f64::NAN,
                 Some(cell) => cell.parse::<f64>().map_err(|_| {
-                    Failure::BadInput(format!(
+                    bad(format!(
                         "{} line {}, column {name}: cannot read {cell:?} as a number; the file \
                          is damaged, or was not written by `lamella run`",
                         path.display(),
@@ -149,7 +152,7 @@ pub fn read_columns(path: &Path, names: &[&str], hint: &str) -> Result<Vec<Vec<f
                     ))
                 })?,
                 None => {
-                    return Err(Failure::BadInput(format!(
+                    return Err(bad(format!(
                         "{} line {} has {} cells, the header {}; the file is cut short or damaged",
                         path.display(),
                         row + 2,
@@ -162,15 +165,4 @@ pub fn read_columns(path: &Path, names: &[&str], hint: &str) -> Result<Vec<Vec<f
         }
     }
     Ok(columns)
-}
-
-/// Parses "a,b,c" into numbers, naming the option on failure.
-pub fn parse_list<T: std::str::FromStr>(text: &str, option: &str) -> Result<Vec<T>, String> {
-    text.split(',')
-        .map(|s| {
-            s.trim()
-                .parse::<T>()
-                .map_err(|_| format!("{option}: cannot read {s:?} as a number"))
-        })
-        .collect()
 }

@@ -1,0 +1,153 @@
+//! What several subcommands share on the command line: number lists, the options of the growth
+//! fit (`growth`, `stability --run`) and how a measured growth is reported and drawn.
+
+use lamella_post::growth::{self, ModeFit, Window};
+use lamella_post::plot::{Chart, Series, Style};
+use lamella_run::analysis::growth::{DEFAULT_MIN_R2, FitSettings, Measurement};
+
+use crate::Failure;
+
+/// Parses "a,b,c" into numbers, naming the option on failure.
+pub fn parse_list<T: std::str::FromStr>(text: &str, option: &str) -> Result<Vec<T>, String> {
+    text.split(',')
+        .map(|s| {
+            s.trim()
+                .parse::<T>()
+                .map_err(|_| format!("{option}: cannot read {s:?} as a number"))
+        })
+        .collect()
+}
+
+/// The options of the growth fit, shared with `lamella stability --run`.
+#[derive(Debug, clap::Args)]
+pub struct FitArgs {
+    /// Fit window START,END (s) [default: chosen from the data, see `lamella growth --help`];
+    /// refused if it starts inside the start-up or reaches under 3 times the noise floor.
+    #[arg(long, value_name = "START,END")]
+    pub window: Option<String>,
+    /// Smallest R² of ln(amplitude) against time, in (0, 1] (common practice: 0.98).
+    #[arg(long, value_name = "R2", value_parser = super::values::r_squared, default_value_t = DEFAULT_MIN_R2)]
+    pub min_r2: f64,
+    /// How long the base flow takes to settle (s); no fit starts before it [default: from the
+    /// case, 0 when it starts from the steady profile].
+    #[arg(long, value_name = "SECONDS", value_parser = super::values::time)]
+    pub start_up: Option<f64>,
+}
+
+impl FitArgs {
+    /// Whether any option differs from its default.
+    pub fn given(&self) -> bool {
+        self.window.is_some() || self.start_up.is_some() || self.min_r2 != DEFAULT_MIN_R2
+    }
+
+    /// The fit settings these options ask for; a `--window` that is not START,END with
+    /// START < END is bad input.
+    pub fn settings(&self) -> Result<FitSettings, Failure> {
+        let window = match self.window.as_deref() {
+            None => Window::Automatic,
+            Some(text) => match parse_list::<f64>(text, "--window").map_err(Failure::BadInput)?[..]
+            {
+                [start, end] if start < end => Window::Times { start, end },
+                _ => {
+                    return Err(Failure::BadInput(format!(
+                        "--window {text}: give START,END in seconds with START < END"
+                    )));
+                }
+            },
+        };
+        Ok(FitSettings {
+            window,
+            min_r_squared: self.min_r2,
+            start_up: self.start_up,
+        })
+    }
+}
+
+/// One line on the wave period T = 2π/(k|c|) and the growth rate over each whole period of the
+/// window (with the difference from `predicted`, 1/s, when given): the rate of a simulated
+/// wave can change from one period to the next, and one number hides that.
+pub fn period_line(measured: &Measurement, fit: &ModeFit, predicted: Option<f64>) -> String {
+    let rates = growth::period_rates(&measured.mode_series(), fit);
+    let head = format!(
+        "wave period {:.4} s; the window spans {:.2} periods",
+        fit.wave_period,
+        fit.periods()
+    );
+    if rates.is_empty() {
+        return format!(
+            "{head}: too short to tell whether the rate changes from one period to the next \
+             (run at least two periods)"
+        );
+    }
+    let listed: Vec<String> = rates
+        .iter()
+        .map(|p| match predicted {
+            Some(theory) => format!("{:.3} ({:+.1} %)", p.rate, 100.0 * (p.rate / theory - 1.0)),
+            None => format!("{:.3}", p.rate),
+        })
+        .collect();
+    format!(
+        "{head}; growth rate over each whole period: {} 1/s",
+        listed.join(", ")
+    )
+}
+
+/// Amplitude against time on a log axis, with the noise floor, the fitted exponential over the
+/// window and, when given, the exponential of a predicted rate (1/s) from the fitted amplitude
+/// at the start of the window to the end of the record.
+pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>) -> Chart {
+    let mut series = vec![
+        Series {
+            label: "mode amplitude".into(),
+            x: measured.time.clone(),
+            y: measured.amplitude.clone(),
+            style: Style::Points,
+        },
+        Series {
+            label: "noise floor".into(),
+            x: measured.time.clone(),
+            y: measured.noise.clone(),
+            style: Style::Line,
+        },
+    ];
+    let mut heading = format!("{title}: no fit");
+    if let Ok(fit) = &measured.fit {
+        let inside: Vec<f64> = measured
+            .time
+            .iter()
+            .copied()
+            .filter(|&t| t >= fit.start && t <= fit.end)
+            .collect();
+        series.push(Series {
+            label: format!("fit, {:.3e} ± {:.1e} 1/s", fit.rate, fit.rate_ci95),
+            x: inside.clone(),
+            y: inside.iter().map(|&t| fit.amplitude(t)).collect(),
+            style: Style::Dashed,
+        });
+        heading = format!("{title}: growth rate {:.3e} 1/s", fit.rate);
+        if let Some(rate) = predicted {
+            let anchor = fit.amplitude(fit.start);
+            let (x, y): (Vec<f64>, Vec<f64>) = measured
+                .time
+                .iter()
+                .filter(|&&t| t >= fit.start)
+                .map(|&t| (t, anchor * (rate * (t - fit.start)).exp()))
+                .unzip();
+            series.push(Series {
+                label: format!("theory, {rate:.3e} 1/s"),
+                x,
+                y,
+                style: Style::Line,
+            });
+            heading = format!("{title}: measured against predicted growth");
+        }
+    }
+    Chart {
+        title: heading,
+        x_label: "time (s)".into(),
+        y_label: "interface mode amplitude (m)".into(),
+        log_x: false,
+        log_y: true,
+        series,
+    }
+}
