@@ -6,7 +6,7 @@ use std::path::{Path, PathBuf};
 
 use lamella_post::plot::{Chart, Series, Style};
 use lamella_post::profile::{ProfileComparison, bin_average, compare_with_reference};
-use lamella_post::table::csv_document;
+use lamella_post::table::{Column, csv_table};
 use lamella_sph::Kind;
 
 use crate::Failure;
@@ -25,7 +25,8 @@ pub struct Args {
     /// The run folder written by `lamella run`.
     #[arg(value_name = "DIR")]
     pub dir: PathBuf,
-    /// Time of the snapshot to use (s); the closest snapshot is taken [default: the last].
+    /// Time of the snapshot to use (s); the closest snapshot is taken, with a note when the
+    /// time lies outside the run [default: the last].
     #[arg(long, value_name = "T", value_parser = super::values::time)]
     pub time: Option<f64>,
     /// Axis across which to bin: x, y or z.
@@ -99,7 +100,10 @@ pub fn profile(
             case.dimension
         )));
     }
-    let entry = run.entry_at(time);
+    let (entry, time_note) = run.entry_near(time);
+    if let Some(note) = time_note {
+        crate::note!("note: {note}");
+    }
     let snap = run.read(entry)?;
     let (lower, upper) = (case.domain.lower[axis_index], case.domain.upper[axis_index]);
     let bins = bins
@@ -144,16 +148,21 @@ pub fn profile(
     };
     let axis_name = ["x", "y", "z"][axis_index];
     let comp_name = ["u", "v"][component];
-    let counts: Vec<f64> = binned.count.iter().map(|&n| n as f64).collect();
+    let counts: Vec<u64> = binned.count.iter().map(|&n| n as u64).collect();
     let exact_bins: Vec<f64> = comparison
         .as_ref()
         .map_or_else(|| vec![f64::NAN; bins], |(c, _)| c.reference.clone());
     let h_pos = format!("{axis_name}_m");
     let h_sim = format!("{comp_name}_m_per_s");
     let h_ref = format!("{comp_name}_reference_m_per_s");
-    let csv = csv_document(
+    let csv = csv_table(
         &[&h_pos, &h_sim, &h_ref, "particles"],
-        &[&binned.centres, &binned.mean, &exact_bins, &counts],
+        &[
+            Column::Real(&binned.centres),
+            Column::Real(&binned.mean),
+            Column::Real(&exact_bins),
+            Column::Count(&counts),
+        ],
     )
     .map_err(Failure::RunFailed)?;
     let out_dir = run.output_folder(out)?;
