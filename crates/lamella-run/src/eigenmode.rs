@@ -47,10 +47,18 @@ impl EigenmodeSeed {
             lower_viscosity,
             upper_viscosity,
             force_density,
+            upper_force_density,
         }) = case.channel_flow()
         else {
             return Err("the eigenmode seed needs a two-layer channel".into());
         };
+        if upper_force_density != force_density {
+            return Err(
+                "the eigenmode seed needs layers of one density (the stability analysis assumes \
+                 equal densities)"
+                    .into(),
+            );
+        }
         if force_density == 0.0 {
             return Err("the eigenmode seed needs a body force along x".into());
         }

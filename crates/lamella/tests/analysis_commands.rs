@@ -70,6 +70,7 @@ fn layered_case() -> (Case, LayeredChannel) {
         lower_viscosity: 4.0e-3,
         upper_viscosity: 1.0e-3,
         force_density: 1000.0 * case.body_force.as_ref().unwrap()[0],
+        upper_force_density: 1000.0 * case.body_force.as_ref().unwrap()[0],
     };
     case.scales.expected_max_speed = 1.1 * exact.peak().velocity;
     case.time.end = 6.0 * height * height / (std::f64::consts::PI.powi(2) * 1e-6);

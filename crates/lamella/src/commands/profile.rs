@@ -49,6 +49,8 @@ pub struct ProfileResult {
     pub time: f64,
     /// The comparison, when the case has an analytical profile.
     pub comparison: Option<(ProfileComparison, &'static str)>,
+    /// Why there is no comparison, when there is none.
+    pub no_reference: Option<String>,
 }
 
 /// Runs `lamella profile`.
@@ -70,8 +72,12 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
                 c.max_abs
             )?,
             None => crate::report!(
-                "profile at t = {:.4} s (no analytical profile for this case)",
-                result.time
+                "profile at t = {:.4} s (no analytical profile: {})",
+                result.time,
+                result
+                    .no_reference
+                    .as_deref()
+                    .unwrap_or("none for this case")
             )?,
         }
     }
@@ -126,6 +132,17 @@ pub fn profile(
         channel_reference(case)
     } else {
         None
+    };
+    let no_reference = match (&reference, axis_index) {
+        (Some(_), _) => None,
+        (None, 1) => Some(
+            case.channel_flow_or_why()
+                .err()
+                .unwrap_or_else(|| "none for this case".into()),
+        ),
+        (None, _) => Some(format!(
+            "binned across {axis}; the channel references are profiles across y"
+        )),
     };
     let bad = |e: lamella_post::profile::ProfileError| {
         Failure::BadInput(format!(
@@ -222,5 +239,6 @@ pub fn profile(
     Ok(ProfileResult {
         time: t,
         comparison,
+        no_reference,
     })
 }
