@@ -71,6 +71,7 @@ fn layered_case(rows: usize, ratio: f64, pair: PairViscosity) -> (Case, LayeredC
         lower_viscosity: mu1,
         upper_viscosity: mu2,
         force_density: DENSITY * force,
+        upper_force_density: DENSITY * force,
     };
     let peak = exact.peak().velocity;
     case.scales.expected_max_speed = 1.1 * peak;

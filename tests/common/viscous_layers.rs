@@ -80,6 +80,7 @@ impl Layers {
             lower_viscosity: mu1,
             upper_viscosity: mu2,
             force_density: DENSITY * force,
+            upper_force_density: DENSITY * force,
         };
         case.scales.expected_max_speed = 1.1 * exact.peak().velocity;
         let nu = RUNNY_VISCOSITY / DENSITY;
