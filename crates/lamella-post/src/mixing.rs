@@ -259,7 +259,9 @@ fn unresolved(per_box: f64) -> MixingError {
 ///
 /// Lacey takes σ0² = p(1 − p), the variance when every box is pure. Boxes straddling the
 /// interface of two separated layers are not pure, so with that σ0² the index of separated
-/// liquids is above 0 by an amount set by the grid (0.055 was measured on one grid). Here σ0²
+/// liquids is above 0 by an amount set by the grid (0.089 for equal layers whose interface
+/// runs through one row of 15 rows of 2 × 2-particle cells, 0 when it lies on cell edges; see
+/// the test `textbook_lacey_counts_a_straddled_interface_as_mixing`). Here σ0²
 /// is the variance of `segregated`, the same particles counted in the same boxes in their
 /// unmixed arrangement (`lamella mix` counts them at their initial positions): the index is
 /// then exactly 0 for the unmixed start on any grid, and still 1 on average for a random
@@ -406,6 +408,25 @@ mod tests {
                 assert!(textbook > 0.01, "cells straddle the interface: {textbook}");
             }
         }
+    }
+
+    #[test]
+    fn textbook_lacey_counts_a_straddled_interface_as_mixing() {
+        // Two equal layers of 15 rows each on a 30 × 30 lattice, 15 × 15 cells of 2 × 2
+        // particles: the row of cells holding rows 14 and 15 is half and half. By hand,
+        // σ² = σ0² − (1/15)(1/4) with σ0² = 1/4 and σR² = σ0²/4, so Lacey's own index
+        // (σ0² = p(1 − p)) is (1/60)/(3/16) = 0.0889 for separated liquids; against the
+        // segregated arrangement itself it is 0.
+        let mut b = BoxCounts::new(15 * 15, 2);
+        for row in 0..30 {
+            for col in 0..30 {
+                b.add((row / 2) * 15 + col / 2, usize::from(row >= 15));
+            }
+        }
+        let s0 = 0.25;
+        let textbook = (s0 - b.variance(0)) / (s0 - s0 / b.per_box());
+        assert!((textbook - 4.0 / 45.0).abs() < 1e-12, "{textbook}");
+        assert_eq!(lacey_index(&b, &b, 0), Ok(0.0));
     }
 
     #[test]
