@@ -40,6 +40,7 @@ fn theory(case: &Case) -> (f64, f64) {
         lower_viscosity,
         upper_viscosity,
         force_density,
+        ..
     }) = case.channel_flow()
     else {
         panic!("a two-layer channel");

@@ -69,6 +69,7 @@ pub fn channel(
         lower_viscosity,
         upper_viscosity,
         force_density: DENSITY * force,
+        upper_force_density: DENSITY * force,
     };
     case.scales.expected_max_speed = 1.1 * exact.peak().velocity;
     case.time.end = end;

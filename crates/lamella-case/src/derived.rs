@@ -47,8 +47,9 @@ pub struct LayerPair {
 /// flowing along x (a 3D channel periodic in z with nothing driving along z counts as plane).
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum ChannelFlow {
-    /// Two stacked layers of one density filling the gap, driven by a body force between fixed
-    /// plates.
+    /// Two stacked layers filling the gap, driven by a body force along x between fixed plates;
+    /// each layer feels its own force density ρ_i g_x (the channel is horizontal: no force
+    /// across it).
     TwoLayers {
         /// Width of the lower layer (m).
         lower_width: f64,
@@ -58,8 +59,11 @@ pub enum ChannelFlow {
         lower_viscosity: f64,
         /// Dynamic viscosity of the upper layer (Pa·s).
         upper_viscosity: f64,
-        /// Driving force density ρ g_x (N/m³).
+        /// Driving force density ρ g_x of the lower layer (N/m³).
         force_density: f64,
+        /// Driving force density ρ g_x of the upper layer (N/m³); equal to `force_density` for
+        /// layers of one density.
+        upper_force_density: f64,
     },
     /// One fluid driven by a body force between fixed plates.
     Poiseuille {
@@ -280,8 +284,15 @@ impl Case {
         }
     }
 
-    /// The channel flow this case is, when it is one (see [`ChannelFlow`]); `None` otherwise.
+    /// The channel flow this case is, when it is one (see [`ChannelFlow`]); `None` otherwise
+    /// ([`Case::channel_flow_or_why`] says why).
     pub fn channel_flow(&self) -> Option<ChannelFlow> {
+        self.channel_flow_or_why().ok()
+    }
+
+    /// The channel flow this case is, or why it is none of those the analytical references
+    /// know (a sentence naming the case setting that rules it out).
+    pub fn channel_flow_or_why(&self) -> Result<ChannelFlow, String> {
         let component = |v: &Option<Vec<f64>>, axis: usize| {
             v.as_ref()
                 .map_or(0.0, |v| v.get(axis).copied().unwrap_or(0.0))
@@ -291,55 +302,90 @@ impl Case {
                 && self.is_periodic(Axis::Z)
                 && component(&self.body_force, 2) == 0.0
                 && self.walls.iter().all(|w| component(&w.velocity, 2) == 0.0));
-        if !plane || !self.is_periodic(Axis::X) || self.domain.lower.len() < 2 {
-            return None;
+        if !plane {
+            return Err(
+                "the 3D case is not a plane channel (it needs z periodic, and no body \
+                        force or wall velocity along z)"
+                    .into(),
+            );
+        }
+        if !self.is_periodic(Axis::X) || self.domain.lower.len() < 2 {
+            return Err("the domain is not periodic along x, as a channel is".into());
         }
         let wall = |side: Side| self.walls.iter().find(|w| w.side == side);
-        let (bottom, top) = (wall(Side::Bottom)?, wall(Side::Top)?);
+        let (Some(bottom), Some(top)) = (wall(Side::Bottom), wall(Side::Top)) else {
+            return Err("a channel needs walls at the bottom and the top".into());
+        };
         let bottom_moves = (0..2).any(|a| component(&bottom.velocity, a) != 0.0);
         let top_speed = component(&top.velocity, 0);
         let force = component(&self.body_force, 0);
-        if bottom_moves
-            || component(&top.velocity, 1) != 0.0
-            || component(&self.body_force, 1) != 0.0
-        {
-            return None;
+        if bottom_moves || component(&top.velocity, 1) != 0.0 {
+            return Err(
+                "the bottom wall moves, or the top one moves across the channel; only \
+                        a top wall sliding along x has a reference"
+                    .into(),
+            );
+        }
+        if component(&self.body_force, 1) != 0.0 {
+            return Err(
+                "the body force has a component across the channel (along y); the \
+                        references are for a horizontal channel driven along x"
+                    .into(),
+            );
         }
         let (lo, hi) = (self.domain.lower[1], self.domain.upper[1]);
         let mu = |p: usize| self.phases[p].viscosity_law.reference_viscosity();
         let bands = self.layer_bands();
-        if self.layer_pairs().len() == 1 && bands.len() == 2 && top_speed == 0.0 {
+        if self.phases.len() > 1 {
+            if self.layer_pairs().len() != 1 || bands.len() != 2 {
+                return Err(format!(
+                    "the case has {} phases but not two stacked Layer regions of different \
+                     phases (found {} layer bands); the layered reference is for two layers",
+                    self.phases.len(),
+                    bands.len()
+                ));
+            }
+            if top_speed != 0.0 {
+                return Err(
+                    "the top wall slides; the layered reference is for two layers \
+                            between fixed walls driven by a body force"
+                        .into(),
+                );
+            }
             let (a, b) = (&bands[0], &bands[1]);
             let tol = 1e-9 * (hi - lo);
-            let covers = (a.bottom - lo).abs() <= tol && (b.top - hi).abs() <= tol;
-            let rho = self.phases[a.phase].density;
-            if !covers || self.phases[b.phase].density != rho {
-                return None;
+            if (a.bottom - lo).abs() > tol || (b.top - hi).abs() > tol {
+                return Err("the two layers do not fill the height between the walls".into());
             }
-            return Some(ChannelFlow::TwoLayers {
+            return Ok(ChannelFlow::TwoLayers {
                 lower_width: a.top - a.bottom,
                 upper_width: b.top - b.bottom,
                 lower_viscosity: mu(a.phase),
                 upper_viscosity: mu(b.phase),
-                force_density: rho * force,
+                force_density: self.phases[a.phase].density * force,
+                upper_force_density: self.phases[b.phase].density * force,
             });
-        }
-        if self.phases.len() != 1 {
-            return None;
         }
         let (gap, kinematic_viscosity) = (hi - lo, mu(0) / self.phases[0].density);
         match (force != 0.0, top_speed != 0.0) {
-            (true, false) => Some(ChannelFlow::Poiseuille {
+            (true, false) => Ok(ChannelFlow::Poiseuille {
                 gap,
                 kinematic_viscosity,
                 force,
             }),
-            (false, true) => Some(ChannelFlow::Couette {
+            (false, true) => Ok(ChannelFlow::Couette {
                 gap,
                 kinematic_viscosity,
                 wall_speed: top_speed,
             }),
-            _ => None,
+            (true, true) => Err("both a body force and a sliding top wall drive the flow; \
+                                 the references have one or the other"
+                .into()),
+            (false, false) => Err(
+                "nothing drives the flow (no body force along x, no sliding \
+                                   top wall)"
+                    .into(),
+            ),
         }
     }
 

@@ -687,7 +687,8 @@ impl Case {
         }
         let driven_two_layers = matches!(
             self.channel_flow(),
-            Some(ChannelFlow::TwoLayers { force_density, .. }) if force_density != 0.0
+            Some(ChannelFlow::TwoLayers { force_density, upper_force_density, .. })
+                if force_density != 0.0 && upper_force_density == force_density
         );
         if !driven_two_layers {
             c.bad(
@@ -726,8 +727,8 @@ impl Case {
                         "SteadyChannel".to_string(),
                         "Rest, or SteadyChannel on a channel: periodic along x, walls at the \
                          bottom and top (the top one may slide along x), driven by a body force \
-                         along x or the sliding top wall; one fluid, or two layers of one \
-                         density that fill the height",
+                         along x or the sliding top wall; one fluid, or two layers that fill \
+                         the height",
                     );
                 }
             }

@@ -2,7 +2,7 @@
 
 use std::path::PathBuf;
 
-use lamella_case::{Case, load};
+use lamella_case::{Case, ChannelFlow, load};
 
 fn case(name: &str) -> Case {
     let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -76,4 +76,34 @@ fn tracked_interface_wavelength_and_start_up() {
     // Without a seed the tracked wave is the periodic length; a cavity has no interface pair.
     assert!(close(plain.tracked_wavelength(), plain.extent(0)));
     assert!(case("cavity-re100.ron").tracked_interface().is_none());
+}
+
+#[test]
+fn unequal_densities_drive_each_layer_by_its_own_force_and_non_channels_say_why() {
+    // A horizontal channel under a body force g along x: layer i feels ρ_i g (Bird, Stewart &
+    // Lightfoot §2.5 with a force of each layer's own), so unequal densities still have the
+    // layered reference.
+    let mut c = case("two-layer-channel.ron");
+    let g = c.body_force.as_ref().unwrap()[0];
+    c.phases[0].density = 1300.0;
+    match c.channel_flow() {
+        Some(ChannelFlow::TwoLayers {
+            force_density,
+            upper_force_density,
+            ..
+        }) => {
+            assert_eq!(force_density, 1300.0 * g);
+            assert_eq!(upper_force_density, 1000.0 * g);
+        }
+        other => panic!("expected two layers, got {other:?}"),
+    }
+    // A force across the channel, or no periodic x: no reference, and the reason names it.
+    let mut tilted = c.clone();
+    tilted.body_force = Some(vec![g, 1.0]);
+    let why = tilted.channel_flow_or_why().unwrap_err();
+    assert!(why.contains("across the channel"), "{why}");
+    let mut closed = c.clone();
+    closed.domain.periodic.clear();
+    let why = closed.channel_flow_or_why().unwrap_err();
+    assert!(why.contains("not periodic along x"), "{why}");
 }

@@ -1,8 +1,41 @@
 //! CSV tables with a header row whose column names carry their units (`time_s`, `u_m_per_s`).
 
-/// A CSV document of equal-length columns; values are written with full precision
-/// (`{:e}`, shortest round-trip form), NaN as an empty cell.
+/// One column of a CSV table.
+#[derive(Clone, Copy, Debug)]
+pub enum Column<'a> {
+    /// Measured or computed values: full precision (`{:e}`, shortest round-trip form), NaN as
+    /// an empty cell.
+    Real(&'a [f64]),
+    /// Counts (particles, steps, cells): written as integers ("30", never "3e1").
+    Count(&'a [u64]),
+}
+
+impl Column<'_> {
+    fn len(&self) -> usize {
+        match self {
+            Column::Real(c) => c.len(),
+            Column::Count(c) => c.len(),
+        }
+    }
+
+    fn cell(&self, row: usize) -> String {
+        match self {
+            Column::Real(c) if c[row].is_nan() => String::new(),
+            Column::Real(c) => format!("{:e}", c[row]),
+            Column::Count(c) => c[row].to_string(),
+        }
+    }
+}
+
+/// A CSV document of equal-length columns of real values ([`Column::Real`]); see
+/// [`csv_table`] for tables with count columns.
 pub fn csv_document(headers: &[&str], columns: &[&[f64]]) -> Result<String, String> {
+    let columns: Vec<Column<'_>> = columns.iter().map(|c| Column::Real(c)).collect();
+    csv_table(headers, &columns)
+}
+
+/// A CSV document of equal-length columns, each written as its kind says ([`Column`]).
+pub fn csv_table(headers: &[&str], columns: &[Column<'_>]) -> Result<String, String> {
     if headers.len() != columns.len() {
         return Err(format!(
             "{} headers for {} columns",
@@ -20,16 +53,7 @@ pub fn csv_document(headers: &[&str], columns: &[&[f64]]) -> Result<String, Stri
     let mut out = headers.join(",");
     out.push('\n');
     for r in 0..rows {
-        let cells: Vec<String> = columns
-            .iter()
-            .map(|c| {
-                if c[r].is_nan() {
-                    String::new()
-                } else {
-                    format!("{:e}", c[r])
-                }
-            })
-            .collect();
+        let cells: Vec<String> = columns.iter().map(|c| c.cell(r)).collect();
         out.push_str(&cells.join(","));
         out.push('\n');
     }
@@ -58,5 +82,25 @@ mod tests {
         assert_eq!(parsed, 1.25e-5);
         assert!(csv_document(&["a"], &[&t, &u]).is_err());
         assert!(csv_document(&["a", "b"], &[&t, &[1.0]]).is_err());
+    }
+
+    #[test]
+    fn counts_are_written_as_integers() {
+        // A real 30.0 is "3e1"; a count of 30 particles must read "30".
+        let y = [2.0e-5, 6.0e-5, 1.0e-4];
+        let n = [30u64, 0, 1_000_000];
+        let text = csv_table(
+            &["y_m", "particles"],
+            &[Column::Real(&y), Column::Count(&n)],
+        )
+        .unwrap();
+        assert_eq!(text, "y_m,particles\n2e-5,30\n6e-5,0\n1e-4,1000000\n");
+        assert!(
+            csv_table(
+                &["y_m", "particles"],
+                &[Column::Real(&y), Column::Count(&n[..2])]
+            )
+            .is_err()
+        );
     }
 }

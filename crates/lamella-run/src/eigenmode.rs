@@ -44,8 +44,10 @@ impl EigenmodeSeed {
         }
         let channel = CaseChannel::of(case).map_err(|err| match err {
             ChannelError::NoDrive => "the eigenmode seed needs a body force along x".to_string(),
-            ChannelError::Ratios(err) => err.to_string(),
-            _ => "the eigenmode seed needs a two-layer channel".to_string(),
+            ChannelError::Layers(_) | ChannelError::Shape(_) => {
+                format!("the eigenmode seed needs a two-layer channel: {err}")
+            }
+            err => format!("the eigenmode seed: {err}"),
         })?;
         let half_width = channel.scales.half_width;
         let mode = channel

@@ -8,7 +8,8 @@ use lamella_post::reference::startup::PlateGap;
 /// The analytical profile u_x(y, t) a case is validated against, when it has one.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub enum Reference {
-    /// Two stacked layers driven by a body force (Bird, Stewart & Lightfoot §2.5), steady.
+    /// Two stacked layers driven by a body force (Bird, Stewart & Lightfoot §2.5, with a force
+    /// density of each layer's own for unequal densities), steady.
     Layered(LayeredChannel),
     /// One fluid driven by a body force between fixed plates (Morris et al. 1997).
     Poiseuille {
@@ -111,12 +112,14 @@ pub fn channel_reference(case: &Case) -> Option<Reference> {
             lower_viscosity,
             upper_viscosity,
             force_density,
+            upper_force_density,
         } => Reference::Layered(LayeredChannel {
             lower_width,
             upper_width,
             lower_viscosity,
             upper_viscosity,
             force_density,
+            upper_force_density,
         }),
         ChannelFlow::Poiseuille {
             gap,

@@ -4,6 +4,7 @@
 use std::path::{Path, PathBuf};
 
 use lamella_case::Case;
+use lamella_post::number::significant;
 
 use super::AnalysisError;
 use crate::output::collection::{Collection, Entry};
@@ -74,6 +75,36 @@ impl Run {
                 .min_by(|a, b| (a.time - t).abs().total_cmp(&(b.time - t).abs()))
                 .expect("a run has at least one snapshot"),
         }
+    }
+
+    /// [`Run::entry_at`], with a note when `time` lies outside the run's snapshots (before the
+    /// first or after the last by more than a millionth of the run's span), naming the time
+    /// used instead.
+    pub fn entry_near(&self, time: Option<f64>) -> (&Entry, Option<String>) {
+        let entry = self.entry_at(time);
+        let note = time.and_then(|t| {
+            let (first, last) = (
+                self.entries[0].time,
+                self.entries[self.entries.len() - 1].time,
+            );
+            let slack = 1e-6 * (last - first).abs().max(f64::MIN_POSITIVE);
+            let outside = if t > last + slack {
+                Some(format!("the run ends at t = {} s", significant(last, 6)))
+            } else if t < first - slack {
+                Some(format!("the run starts at t = {} s", significant(first, 6)))
+            } else {
+                None
+            };
+            outside.map(|why| {
+                format!(
+                    "--time {} s: no snapshot there ({why}); using the snapshot at t = {} s ({})",
+                    significant(t, 6),
+                    significant(entry.time, 6),
+                    entry.file
+                )
+            })
+        });
+        (entry, note)
     }
 
     /// Where analysis results go: `out`, or `DIR/analysis` (created).

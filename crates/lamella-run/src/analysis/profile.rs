@@ -5,7 +5,7 @@ use std::path::Path;
 
 use lamella_post::plot::{Chart, Series, Style};
 use lamella_post::profile::{ProfileComparison, bin_average, compare_with_reference};
-use lamella_post::table::csv_document;
+use lamella_post::table::{Column, csv_table};
 use lamella_sph::Kind;
 
 use super::AnalysisError;
@@ -19,6 +19,10 @@ pub struct ProfileResult {
     pub time: f64,
     /// The comparison and the reference's name, when the case has an analytical profile.
     pub comparison: Option<(ProfileComparison, &'static str)>,
+    /// Why there is no comparison, when there is none.
+    pub no_reference: Option<String>,
+    /// A note when the requested time lies outside the run (the closest snapshot was taken).
+    pub time_note: Option<String>,
 }
 
 /// The profile of `run` across `axis` (0, 1 or 2; panics unless below the case's dimension) at the
@@ -34,7 +38,7 @@ pub fn profile(
     figure: Option<&Path>,
 ) -> Result<ProfileResult, AnalysisError> {
     let case = &run.case;
-    let entry = run.entry_at(time);
+    let (entry, time_note) = run.entry_near(time);
     let snap = run.read(entry)?;
     let (lower, upper) = (case.domain.lower[axis], case.domain.upper[axis]);
     let bins = bins
@@ -57,6 +61,18 @@ pub fn profile(
     } else {
         None
     };
+    let no_reference = match (&reference, axis) {
+        (Some(_), _) => None,
+        (None, 1) => Some(
+            case.channel_flow_or_why()
+                .err()
+                .unwrap_or_else(|| "none for this case".into()),
+        ),
+        (None, _) => Some(format!(
+            "binned across {}; the channel references are profiles across y",
+            ["x", "y", "z"][axis]
+        )),
+    };
     let bad = |e: lamella_post::profile::ProfileError| {
         AnalysisError::BadInput(format!(
             "profile of {}: {e}",
@@ -78,16 +94,21 @@ pub fn profile(
     };
     let axis_name = ["x", "y", "z"][axis];
     let comp_name = ["u", "v"][component];
-    let counts: Vec<f64> = binned.count.iter().map(|&n| n as f64).collect();
+    let counts: Vec<u64> = binned.count.iter().map(|&n| n as u64).collect();
     let exact_bins: Vec<f64> = comparison
         .as_ref()
         .map_or_else(|| vec![f64::NAN; bins], |(c, _)| c.reference.clone());
     let h_pos = format!("{axis_name}_m");
     let h_sim = format!("{comp_name}_m_per_s");
     let h_ref = format!("{comp_name}_reference_m_per_s");
-    let csv = csv_document(
+    let csv = csv_table(
         &[&h_pos, &h_sim, &h_ref, "particles"],
-        &[&binned.centres, &binned.mean, &exact_bins, &counts],
+        &[
+            Column::Real(&binned.centres),
+            Column::Real(&binned.mean),
+            Column::Real(&exact_bins),
+            Column::Count(&counts),
+        ],
     )
     .map_err(AnalysisError::Failed)?;
     let out_dir = run.output_folder(out)?;
@@ -147,5 +168,7 @@ pub fn profile(
     Ok(ProfileResult {
         time: t,
         comparison,
+        no_reference,
+        time_note,
     })
 }

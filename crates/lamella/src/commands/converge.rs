@@ -67,9 +67,12 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let wave_study = InterfaceTracker::of(&case).is_some();
     if channel_reference(&case).is_none() {
         return Err(Failure::BadInput(format!(
-            "{}: no analytical profile for this case; a convergence study needs a layered channel, \
-             Poiseuille or Couette case",
-            args.case.display()
+            "{}: no analytical profile for this case ({}); a convergence study needs a layered \
+             channel, Poiseuille or Couette case",
+            args.case.display(),
+            case.channel_flow_or_why()
+                .err()
+                .unwrap_or_else(|| "none known".into())
         )));
     }
     let spacings: Vec<f64> = parse_list(&args.spacings, "--spacings").map_err(Failure::BadInput)?;

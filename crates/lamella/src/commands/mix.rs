@@ -1,6 +1,7 @@
 //! `lamella mix DIR`: how far the phases have mixed, snapshot by snapshot: gridded volume
 //! fractions, per-particle mixing entropy and finite-time Lyapunov exponent, and the global
-//! Danckwerts intensity of segregation, Lacey index, mean mixing entropy and mean FTLE; as CSV,
+//! Danckwerts intensity of segregation, Lacey index, mixing entropy index and mean FTLE (the
+//! first three measured against the same particles at their initial positions); as CSV,
 //! charts over time, VTK fields and PNG maps of the fields ([`maps`]).
 
 use std::path::{Path, PathBuf};
@@ -10,8 +11,8 @@ use lamella_cells::{Domain, Vector};
 use lamella_post::ftle::{deformation_gradients, ftle};
 use lamella_post::grid::Grid;
 use lamella_post::mixing::{
-    global_composition, intensity_of_segregation, lacey_index, normalised_mixing_entropy,
-    phase_fractions,
+    BoxCounts, MixingError, entropy_index, global_composition, intensity_of_segregation,
+    lacey_index, normalised_mixing_entropy, phase_fractions,
 };
 use lamella_post::neighbours::Neighbours;
 use lamella_post::plot::{Chart, Series, Style};
@@ -32,13 +33,18 @@ mod maps;
 #[derive(Debug, clap::Args)]
 #[command(
     after_help = "Writes into --out [default: DIR/analysis]: mixing.csv (the global measures \
-    of every snapshot), mixing.png and mean_ftle.png (those measures over time); and, at the \
+    of every snapshot: Danckwerts' intensity of segregation, Lacey's index and the mixing \
+    entropy index, each against the same particles at their initial positions on the same \
+    grid, so the unmixed start measures exactly 1, 0 and 0 on any grid; and the mean FTLE), \
+    mixing.png and mean_ftle.png (those measures over time); and, at the \
     last snapshot or the one closest to --time, mix_fields.vti (volume fraction of each phase \
     on the grid), mix_particles.vtp (phase, id, mixing_entropy and ftle of each fluid \
     particle) and the maps volume_fraction_<phase>.png (one per phase, on the grid), \
     mixing_entropy.png and ftle.png (the particles as small squares coloured by value), each \
     with a colour bar and the domain's aspect ratio; in 3D the maps show the middle z slice. \
-    There is no FTLE at t = 0, so ftle.png is not drawn for that snapshot. Exit codes: 0 \
+    There is no FTLE at t = 0, so ftle.png is not drawn for that snapshot (nor mean_ftle.png \
+    for a run with only t = 0; a note says so). On a grid with fewer than two particles per \
+    cell the Lacey and entropy indices are left empty, with a note. Exit codes: 0 \
     done, 1 a file could not be written, 2 bad input."
 )]
 pub struct Args {
@@ -48,8 +54,8 @@ pub struct Args {
     /// Grid cells per axis, NX,NY[,NZ] [default: one cell per two particle spacings].
     #[arg(long, value_name = "NX,NY", value_parser = super::values::grid)]
     pub grid: Option<String>,
-    /// Time of the snapshot whose fields and maps are written (s); the closest is taken
-    /// [default: the last].
+    /// Time of the snapshot whose fields and maps are written (s); the closest is taken, with
+    /// a note when the time lies outside the run [default: the last].
     #[arg(long, value_name = "T", value_parser = super::values::time)]
     pub time: Option<f64>,
     /// Folder for the results [default: DIR/analysis].
@@ -63,6 +69,8 @@ struct Scalars {
     lacey: f64,
     entropy: f64,
     ftle: f64,
+    /// Mean particles per grid cell when too few for the box-count indices (then NaN).
+    unresolved: Option<f64>,
 }
 
 /// Runs `lamella mix`.
@@ -111,11 +119,12 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
     };
     let kernel = Kernel::new(kind, case.smoothing_length(), dim);
     let radius = kernel.support_radius();
-    let field_entry = run.entry_at(args.time).file.clone();
+    let (field_entry, time_note) = run.entry_near(args.time);
+    let field_entry = field_entry.file.clone();
     let out_dir = run.output_folder(args.out.as_deref())?;
 
     let mut rows: Vec<(f64, Scalars)> = Vec::new();
-    let mut notes = Vec::new();
+    let mut notes: Vec<String> = time_note.into_iter().collect();
     for entry in &run.entries {
         let snap = run.read(entry)?;
         let (scalars, fields) = analyse::<V>(&snap, &grid, domain, &kernel, radius, phases)
@@ -128,7 +137,7 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
                 domain,
                 spacing: dx,
             };
-            notes = maps::write_maps(&out_dir, case, &layout, &fields)?;
+            notes.extend(maps::write_maps(&out_dir, case, &layout, &fields)?);
         }
         rows.push((snap.meta.time, scalars));
     }
@@ -145,7 +154,7 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
             "time_s",
             "intensity_of_segregation",
             "lacey_index",
-            "mean_mixing_entropy",
+            "mixing_entropy_index",
             "mean_ftle_per_s",
         ],
         &[&time, &i, &m, &s, &l],
@@ -164,11 +173,15 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         y_label: "measure (1)".into(),
         log_x: false,
         log_y: false,
+        // A measure left undefined on this grid (all NaN) is not drawn.
         series: vec![
             line("intensity of segregation (Danckwerts)", &i),
             line("Lacey index", &m),
-            line("mean normalised mixing entropy", &s),
-        ],
+            line("mixing entropy index", &s),
+        ]
+        .into_iter()
+        .filter(|series| series.y.iter().any(|v| v.is_finite()))
+        .collect(),
     };
     let png = chart
         .to_png(900, 600)
@@ -182,24 +195,63 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         log_y: false,
         series: vec![line("mean FTLE since t = 0", &l)],
     };
-    match chart.to_png(900, 600) {
-        Ok(png) => write_bytes(&out_dir.join("mean_ftle.png"), &png)?,
-        Err(e) => {
-            return Err(Failure::BadInput(format!(
-                "{e}: the run needs snapshots after t = 0 for an FTLE"
-            )));
+    let ftle_path = out_dir.join("mean_ftle.png");
+    if l.iter().any(|v| v.is_finite()) {
+        let png = chart
+            .to_png(900, 600)
+            .map_err(|e| Failure::RunFailed(e.to_string()))?;
+        write_bytes(&ftle_path, &png)?;
+    } else {
+        // Only t = 0 (or no FTLE anywhere): nothing to draw; an older chart is not left behind.
+        notes.push(
+            "mean_ftle.png not drawn: the FTLE needs time elapsed since t = 0, and the run has \
+             no snapshot after it"
+                .into(),
+        );
+        match std::fs::remove_file(&ftle_path) {
+            Err(e) if e.kind() != std::io::ErrorKind::NotFound => {
+                return Err(Failure::RunFailed(format!(
+                    "cannot remove the outdated {}: {e}",
+                    ftle_path.display()
+                )));
+            }
+            _ => {}
         }
+    }
+    if let Some(per_box) = rows.iter().find_map(|(_, s)| s.unresolved) {
+        notes.push(format!(
+            "the grid {} puts {per_box:.2} particles in a cell on average, too few for the Lacey \
+             and entropy indices (a cell of one particle is pure however well mixed): they are \
+             left empty in mixing.csv; give a coarser --grid, e.g. {} (cells of two spacings, \
+             the default)",
+            grid.cells[..dim]
+                .iter()
+                .map(usize::to_string)
+                .collect::<Vec<_>>()
+                .join(","),
+            (0..dim)
+                .map(|a| (((case.extent(a) / (2.0 * dx)).round() as usize).max(1)).to_string())
+                .collect::<Vec<_>>()
+                .join(",")
+        ));
     }
     for note in &notes {
         crate::note!("note: {note}");
     }
     if !globals.quiet {
         let (t, last) = rows.last().expect("a run has snapshots");
+        let shown = |v: f64| {
+            if v.is_nan() {
+                "undefined on this grid".to_string()
+            } else {
+                format!("{v:.4}")
+            }
+        };
         crate::report!(
-            "t = {t:.4} s: intensity of segregation {:.4}, Lacey index {:.4}, mean mixing entropy {:.4}, mean FTLE {:.4e} 1/s ({} snapshots, results in {})",
-            last.intensity,
-            last.lacey,
-            last.entropy,
+            "t = {t:.4} s: intensity of segregation {}, Lacey index {}, mixing entropy index {}, mean FTLE {:.4e} 1/s ({} snapshots, results in {})",
+            shown(last.intensity),
+            shown(last.lacey),
+            shown(last.entropy),
             last.ftle,
             rows.len(),
             out_dir.display()
@@ -265,35 +317,52 @@ fn analyse<V: Vector>(
     let at_nodes =
         Neighbours::of_centres(&nodes, &pos, domain, radius).map_err(|e| e.to_string())?;
     let (frac, sums) = phase_fractions(&at_nodes, &volume, &phase, phases, w, None);
-    let occupied: Vec<f64> = sums
-        .iter()
-        .map(|&s| if s > 0.0 { 1.0 } else { 0.0 })
-        .collect();
-    // Box counts on the same grid for Lacey's index.
-    let mut count = vec![0.0; grid.len()];
-    let mut count_k = vec![0.0; grid.len() * phases];
-    for (p, &k) in pos.iter().zip(&phase) {
+    // The same particles at their initial positions: the unmixed arrangement every measure is
+    // taken against, so that the start measures exactly 1 (segregation) or 0 (mixing) on any
+    // grid (see lamella_post::mixing::lacey_index).
+    let at_start =
+        Neighbours::of_centres(&nodes, &init, domain, radius).map_err(|e| e.to_string())?;
+    let (start_frac, start_sums) = phase_fractions(&at_start, &volume, &phase, phases, w, None);
+    let occupied = |sums: &[f64]| -> Vec<f64> {
+        sums.iter()
+            .map(|&s| if s > 0.0 { 1.0 } else { 0.0 })
+            .collect()
+    };
+    let (occupied_now, occupied_start) = (occupied(&sums), occupied(&start_sums));
+    // Box counts on the same grid for Lacey's index and the entropy index.
+    let mut boxes = BoxCounts::new(grid.len(), phases);
+    let mut start_boxes = BoxCounts::new(grid.len(), phases);
+    for ((p, q), &k) in pos.iter().zip(&init).zip(&phase) {
         if let Some(c) = grid.cell_of(domain.wrap(*p)) {
-            count[c] += 1.0;
-            count_k[c * phases + k] += 1.0;
+            boxes.add(c, k);
+        }
+        if let Some(c) = grid.cell_of(domain.wrap(*q)) {
+            start_boxes.add(c, k);
         }
     }
-    let (mut intensity, mut lacey) = (0.0, 0.0);
+    let mut intensity = 0.0;
     for k in 0..phases {
-        let c = phase_column(&frac, phases, k);
-        intensity +=
-            intensity_of_segregation(&c, &occupied).map_err(|e| e.to_string())? / phases as f64;
-        let b: Vec<f64> = (0..grid.len())
-            .map(|n| {
-                if count[n] > 0.0 {
-                    count_k[n * phases + k] / count[n]
-                } else {
-                    f64::NAN
-                }
-            })
-            .collect();
-        lacey += lacey_index(&b, &count).map_err(|e| e.to_string())? / phases as f64;
+        let now = intensity_of_segregation(&phase_column(&frac, phases, k), &occupied_now)
+            .map_err(|e| e.to_string())?;
+        let start =
+            intensity_of_segregation(&phase_column(&start_frac, phases, k), &occupied_start)
+                .map_err(|e| e.to_string())?;
+        // A start with no contrast on this grid leaves the ratio undefined.
+        intensity += if start > 0.0 { now / start } else { f64::NAN } / phases as f64;
     }
+    // Too few particles per cell leaves the box-count indices undefined (NaN, with a note);
+    // any other failure is an error.
+    let box_index = |r: Result<f64, MixingError>| match r {
+        Ok(v) => Ok(v),
+        Err(MixingError::TooFewPerBox(_)) => Ok(f64::NAN),
+        Err(e) => Err(e.to_string()),
+    };
+    let mut lacey = 0.0;
+    for k in 0..phases {
+        lacey += box_index(lacey_index(&boxes, &start_boxes, k))? / phases as f64;
+    }
+    let entropy_idx = box_index(entropy_index(&boxes, &start_boxes))?;
+    let unresolved = (lacey.is_nan() || entropy_idx.is_nan()).then(|| boxes.per_box());
     let among = Neighbours::among(&pos, domain, radius).map_err(|e| e.to_string())?;
     let (local, _) = phase_fractions(&among, &volume, &phase, phases, w, Some(kernel.value(0.0)));
     let global = global_composition(&volume, &phase, phases);
@@ -310,8 +379,9 @@ fn analyse<V: Vector>(
     let scalars = Scalars {
         intensity,
         lacey,
-        entropy: mean_finite(&entropy),
+        entropy: entropy_idx,
         ftle: mean_finite(&exponents),
+        unresolved,
     };
     let fields = Fields {
         fractions: frac,

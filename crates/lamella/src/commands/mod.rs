@@ -80,15 +80,18 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
 
 /// Runs `sim` to `end_time` (s) into `recorder`'s run folder, with the progress display of
 /// [`progress::for_command`] and the stop flag of [`crate::signals::interrupt_flag`]; after a
-/// stop request it says where the state was saved and how to go on.
+/// stop request it says where the state was saved and how to go on. `run_start` is the time
+/// (s) the run began at when that is before `sim`'s time (a resumed run), so the progress bar
+/// shows the fraction of the whole run.
 pub fn run_recorded<V: Vector>(
     sim: &mut Simulation<V>,
     end_time: f64,
     recorder: &mut Recorder<V>,
     stop: &AtomicBool,
     globals: Globals,
+    run_start: Option<f64>,
 ) -> Result<RunSummary, Failure> {
-    let mut progress = progress::for_command(globals.quiet);
+    let mut progress = progress::for_command(globals.quiet, run_start);
     let outcome = run_to_end(sim, end_time, recorder, stop, progress.as_mut());
     if let (Err(RunError::Interrupted { time, step }), Some(path)) =
         (&outcome, recorder.newest_checkpoint())

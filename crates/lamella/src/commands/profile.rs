@@ -19,7 +19,8 @@ pub struct Args {
     /// The run folder written by `lamella run`.
     #[arg(value_name = "DIR")]
     pub dir: PathBuf,
-    /// Time of the snapshot to use (s); the closest snapshot is taken [default: the last].
+    /// Time of the snapshot to use (s); the closest snapshot is taken, with a note when the
+    /// time lies outside the run [default: the last].
     #[arg(long, value_name = "T", value_parser = super::values::time)]
     pub time: Option<f64>,
     /// Axis across which to bin: x, y or z.
@@ -58,6 +59,9 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         args.out.as_deref(),
         args.figure.as_deref(),
     )?;
+    if let Some(note) = &result.time_note {
+        crate::note!("note: {note}");
+    }
     if !globals.quiet {
         match &result.comparison {
             Some((c, name)) => crate::report!(
@@ -67,8 +71,12 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
                 c.max_abs
             )?,
             None => crate::report!(
-                "profile at t = {:.4} s (no analytical profile for this case)",
-                result.time
+                "profile at t = {:.4} s (no analytical profile: {})",
+                result.time,
+                result
+                    .no_reference
+                    .as_deref()
+                    .unwrap_or("none for this case")
             )?,
         }
     }

@@ -15,6 +15,7 @@ use crate::commands::{Globals, run_recorded};
 use crate::signals::interrupt_flag;
 use lamella_run::feasibility::load_case;
 use lamella_run::output::checkpoint::{checksum, outside_by};
+use lamella_run::output::collection::Collection;
 use lamella_run::output::{Checkpoint, CheckpointStore, RunFolder};
 use lamella_run::recorder::Recorder;
 use lamella_run::{RunError, setup};
@@ -97,6 +98,12 @@ fn resume_case<V: Vector>(
         crate::note!("warning: skipping a checkpoint that cannot be used: {skipped}");
     }
     let checkpoint = restored.checkpoint;
+    // Where the run began: its first snapshot (t = 0, or the time of the state it started
+    // from); the progress bar spans the whole run from there.
+    let run_start = Collection::read(&folder.collection())
+        .ok()
+        .and_then(|c| c.entries().first().map(|e| e.time))
+        .filter(|t| t.is_finite());
     let mut recorder = Recorder::resume(folder, case, case_text, &checkpoint)?;
     for skipped in &restored.skipped {
         recorder.note(&format!(
@@ -129,7 +136,7 @@ fn resume_case<V: Vector>(
             lamella_post::number::significant(end, 9)
         ))?;
     }
-    let summary = run_recorded(&mut sim, end, &mut recorder, stop, globals)?;
+    let summary = run_recorded(&mut sim, end, &mut recorder, stop, globals, run_start)?;
     if !globals.quiet {
         crate::note!(
             "finished at t = {} s after {} more steps in {:.1} s; results in {}",

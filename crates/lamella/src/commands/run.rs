@@ -151,7 +151,7 @@ fn run_case<V: Vector>(
         }
         observer.note(&note)?;
     }
-    let summary = run_recorded(&mut sim, case.time.end, &mut observer, stop, globals)?;
+    let summary = run_recorded(&mut sim, case.time.end, &mut observer, stop, globals, None)?;
     if !globals.quiet {
         crate::note!(
             "{name}: finished at t = {} s after {} steps in {:.1} s; time step mostly \
