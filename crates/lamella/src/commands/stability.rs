@@ -19,8 +19,8 @@ use lamella_post::stability::{
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::point_progress::PointProgress;
 use crate::commands::shared::{FitArgs, growth_chart, period_line};
+use crate::point_progress::PointProgress;
 use lamella_run::analysis::AnalysisError;
 use lamella_run::analysis::folder::open_case;
 use lamella_run::analysis::growth::{Measurement, measure};
