@@ -240,7 +240,8 @@ unsafe fn find_avx512<V: Vector, const PERIODIC: bool, const LENGTH: usize>(
     let mut tested = 0;
     for &(a, b) in ranges {
         let (a, b) = (a as usize, b as usize);
-        if count + (b - a) + FOUND_SLACK > LENGTH {
+        // A range may be empty with a > b: a half-stencil query starts it at `first`.
+        if count + b.saturating_sub(a) + FOUND_SLACK > LENGTH {
             break;
         }
         tested += 1;
