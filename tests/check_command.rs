@@ -13,9 +13,7 @@ fn lamella(args: &[&str]) -> Output {
 }
 
 fn bundled(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("../../cases")
-        .join(name)
+    lamella_suite::cases_dir().join(name)
 }
 
 fn text(bytes: &[u8]) -> String {

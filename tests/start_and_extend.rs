@@ -18,8 +18,7 @@ fn path_str(path: &Path) -> &str {
 
 /// The bundled growth case with `end` as its end time, with or without its interface seed.
 fn growth_case(dir: &Path, name: &str, end: f64, seeded: bool) -> PathBuf {
-    let bundled =
-        PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../cases/interface-growth.ron");
+    let bundled = lamella_suite::cases_dir().join("interface-growth.ron");
     let mut text = std::fs::read_to_string(bundled).unwrap();
     text = text.replace("end: 0.1,", &format!("end: {end},"));
     if !seeded {

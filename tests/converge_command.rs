@@ -1,11 +1,11 @@
 //! `lamella converge` refusals, run on the binary: a study never starts into a folder that
 //! holds an earlier study, and a refused study writes nothing.
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::process::{Command, Output};
 
 fn couette() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/couette.ron")
+    lamella_suite::cases_dir().join("couette.ron")
 }
 
 fn lamella(args: &[&str]) -> Output {

@@ -1,27 +1,15 @@
 //! Command-line tests of `check`, `new`, `run` input handling and `--help`, run on the binary.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::{Command, Output};
+
+use lamella_suite::{bundled_cases, workspace_root as root};
 
 fn lamella(args: &[&str]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_lamella"))
         .args(args)
         .output()
         .expect("the lamella binary runs")
-}
-
-fn root() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../..")
-}
-
-fn bundled_cases() -> Vec<PathBuf> {
-    let mut files: Vec<PathBuf> = std::fs::read_dir(root().join("cases"))
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.extension().is_some_and(|e| e == "ron"))
-        .collect();
-    files.sort();
-    files
 }
 
 fn text(bytes: &[u8]) -> String {

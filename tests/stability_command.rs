@@ -1,6 +1,6 @@
 //! Command-line tests of `lamella stability`, run on the binary.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::{Command, Output};
 
 fn lamella(args: &[&str]) -> Output {
@@ -15,9 +15,7 @@ fn text(bytes: &[u8]) -> String {
 }
 
 fn case(name: &str) -> String {
-    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("../../cases")
-        .join(name);
+    let path = lamella_suite::cases_dir().join(name);
     path.to_str().expect("UTF-8 path").to_owned()
 }
 

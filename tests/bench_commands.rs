@@ -2,7 +2,6 @@
 //! are complete and consistent, and bad options are refused with exit code 2. (What they
 //! measure is not asserted: speed is a benchmark's business, never a test's.)
 
-use std::path::PathBuf;
 use std::process::{Command, Output};
 
 fn lamella(args: &[&str]) -> Output {
@@ -13,9 +12,7 @@ fn lamella(args: &[&str]) -> Output {
 }
 
 fn case(name: &str) -> String {
-    let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("../../cases")
-        .join(name);
+    let path = lamella_suite::cases_dir().join(name);
     path.to_str().expect("UTF-8 path").to_string()
 }
 

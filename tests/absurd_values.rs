@@ -54,7 +54,7 @@ fn absurd_command_line_values_are_refused_by_the_parser() {
 
 /// The bundled start-up Couette case, with `edit` applied to its text.
 fn couette_with(dir: &std::path::Path, name: &str, edit: impl Fn(&str) -> String) -> String {
-    let base = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/couette.ron");
+    let base = lamella_suite::cases_dir().join("couette.ron");
     let text = std::fs::read_to_string(base).unwrap();
     let edited = edit(&text);
     assert_ne!(edited, text, "{name}: the edit changed nothing");
@@ -165,7 +165,7 @@ fn a_spacing_beyond_this_machines_memory_is_refused_with_both_sizes() {
 fn a_case_file_that_is_not_utf8_is_named_with_line_and_column() {
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("latin1.ron");
-    let base = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/couette.ron");
+    let base = lamella_suite::cases_dir().join("couette.ron");
     let mut bytes = std::fs::read(base).unwrap();
     let at = bytes.windows(5).position(|w| w == b"Start").unwrap();
     bytes.insert(at + 5, 0xE9);

@@ -10,7 +10,7 @@
 //! - `mix` on a low-resolution two-phase cavity run writes every output, each chart and map a
 //!   real PNG of the expected size and more than one colour, each value in its range.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::{Command, Output};
 use std::sync::atomic::AtomicBool;
 
@@ -20,10 +20,7 @@ use lamella_post::profile::compare_with_reference;
 use lamella_post::reference::layered::LayeredChannel;
 use lamella_run::runner::{NoObserver, NoProgress, run_to_end};
 use lamella_sph::Kind;
-
-fn cases_dir() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases")
-}
+use lamella_suite::cases_dir;
 
 fn lamella(args: &[&str]) -> Output {
     Command::new(env!("CARGO_BIN_EXE_lamella"))
