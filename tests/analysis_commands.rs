@@ -10,7 +10,7 @@
 //! - `mix` on a low-resolution two-phase cavity run writes every output, each chart and map a
 //!   real PNG of the expected size and more than one colour, each value in its range.
 
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 use std::sync::atomic::AtomicBool;
 
@@ -33,6 +33,27 @@ fn write_case(case: &Case, path: &Path) {
     let text = lamella_case::to_ron(case);
     lamella_case::parse_str(&text, "test case").expect("the modified case is valid");
     std::fs::write(path, text).unwrap();
+}
+
+/// Writes `case` into `dir` as `file_name`, runs it quietly into `dir/run` and returns that
+/// run folder; panics with the run's error output if the run fails.
+fn run_case(case: &Case, dir: &Path, file_name: &str) -> PathBuf {
+    let case_path = dir.join(file_name);
+    write_case(case, &case_path);
+    let run_dir = dir.join("run");
+    let out = lamella(&[
+        "--quiet",
+        "run",
+        case_path.to_str().unwrap(),
+        "--out",
+        run_dir.to_str().unwrap(),
+    ]);
+    assert!(
+        out.status.success(),
+        "run failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    run_dir
 }
 
 fn is_png(path: &Path) -> bool {
@@ -80,21 +101,7 @@ fn layered_case() -> (Case, LayeredChannel) {
 fn profile_reproduces_the_validation_error_and_growth_refuses_a_run_without_the_mode() {
     let dir = tempfile::tempdir().unwrap();
     let (case, exact) = layered_case();
-    let case_path = dir.path().join("layered.ron");
-    write_case(&case, &case_path);
-    let run_dir = dir.path().join("run");
-    let out = lamella(&[
-        "--quiet",
-        "run",
-        case_path.to_str().unwrap(),
-        "--out",
-        run_dir.to_str().unwrap(),
-    ]);
-    assert!(
-        out.status.success(),
-        "run failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let run_dir = run_case(&case, dir.path(), "layered.ron");
 
     // The validation's own measurement, from the in-memory particles of the same case.
     let case = lamella_case::parse_str(&lamella_case::to_ron(&case), "again").unwrap();
@@ -399,21 +406,7 @@ fn mix_on_a_coarse_two_phase_cavity_writes_every_output() {
     let dir = tempfile::tempdir().unwrap();
     let mut case = lamella_case::load(&cases_dir().join("two-phase-cavity.ron")).unwrap();
     case.particles.spacing = 6.0e-5;
-    let case_path = dir.path().join("cavity.ron");
-    write_case(&case, &case_path);
-    let run_dir = dir.path().join("run");
-    let out = lamella(&[
-        "--quiet",
-        "run",
-        case_path.to_str().unwrap(),
-        "--out",
-        run_dir.to_str().unwrap(),
-    ]);
-    assert!(
-        out.status.success(),
-        "run failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let run_dir = run_case(&case, dir.path(), "cavity.ron");
     let out = lamella(&["mix", run_dir.to_str().unwrap()]);
     assert!(
         out.status.success(),
@@ -639,21 +632,7 @@ fn profile_of_layers_of_unequal_density_follows_each_layers_own_driving_force() 
     let mut case = lamella_case::load(&cases_dir().join("two-layer-channel.ron")).unwrap();
     let syrup = case.phases.iter().position(|p| p.name == "syrup").unwrap();
     case.phases[syrup].density = 1300.0;
-    let case_path = dir.path().join("unequal.ron");
-    write_case(&case, &case_path);
-    let run_dir = dir.path().join("run");
-    let out = lamella(&[
-        "--quiet",
-        "run",
-        case_path.to_str().unwrap(),
-        "--out",
-        run_dir.to_str().unwrap(),
-    ]);
-    assert!(
-        out.status.success(),
-        "run failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    let run_dir = run_case(&case, dir.path(), "unequal.ron");
     let out = lamella(&["profile", run_dir.to_str().unwrap()]);
     let text = String::from_utf8_lossy(&out.stdout);
     assert!(

@@ -91,6 +91,13 @@ fn scan_and_map_write_csv_and_png_files() {
     }
 }
 
+/// Runs `lamella ARGS`, expects exit code 2 and `needle` in its error output.
+fn refused_naming(args: &[&str], needle: &str) {
+    let out = lamella(args);
+    assert_eq!(out.status.code(), Some(2), "{}", text(&out.stderr));
+    assert!(text(&out.stderr).contains(needle), "{}", text(&out.stderr));
+}
+
 #[test]
 fn a_bare_stability_names_its_four_modes_and_exits_with_code_2() {
     let out = lamella(&["stability"]);
@@ -106,27 +113,21 @@ fn a_bare_stability_names_its_four_modes_and_exits_with_code_2() {
         assert!(stderr.contains(mode), "{mode} not named: {stderr}");
     }
     // Half a ratio mode is refused with the modes, a map without --re with what it lacks.
-    let out = lamella(&["stability", "--re", "100", "--wavenumber", "1"]);
-    assert_eq!(out.status.code(), Some(2));
-    assert!(
-        text(&out.stderr).contains("--run DIR"),
-        "{}",
-        text(&out.stderr)
+    refused_naming(
+        &["stability", "--re", "100", "--wavenumber", "1"],
+        "--run DIR",
     );
-    let out = lamella(&[
-        "stability",
-        "--wavenumber",
-        "1",
-        "--map-m",
-        "1,2,2",
-        "--map-n",
-        "1,2,2",
-    ]);
-    assert_eq!(out.status.code(), Some(2));
-    assert!(
-        text(&out.stderr).contains("--re RE"),
-        "{}",
-        text(&out.stderr)
+    refused_naming(
+        &[
+            "stability",
+            "--wavenumber",
+            "1",
+            "--map-m",
+            "1,2,2",
+            "--map-n",
+            "1,2,2",
+        ],
+        "--re RE",
     );
     // --m/--n would be ignored by a map: refused, not silently dropped.
     let out = lamella(&[
