@@ -311,9 +311,24 @@ impl Chart {
                 ),
             }
             .map_err(|e| e.to_string())?;
-            anno.label(s.label.clone()).legend(move |(x, y)| {
-                PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
-            });
+            // The legend shows each series as it is drawn: a dot, a dashed or a solid line.
+            if s.style == Style::Points {
+                anno.label(s.label.clone())
+                    .legend(move |(x, y)| Circle::new((x + 9, y), 3, colour.filled()));
+            } else if s.style == Style::Dashed {
+                anno.label(s.label.clone()).legend(move |(x, y)| {
+                    plotters::element::DashedPathElement::new(
+                        vec![(x, y), (x + 18, y)],
+                        5,
+                        3,
+                        colour.stroke_width(2),
+                    )
+                });
+            } else {
+                anno.label(s.label.clone()).legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
+                });
+            }
         }
         stage(&record, Stage::Legend);
         chart

@@ -214,9 +214,20 @@ impl PointMap {
                 Style::Line | Style::Points => chart.draw_series(LineSeries::new(points, style)),
             }
             .map_err(|e| e.to_string())?;
-            anno.label(s.label.clone()).legend(move |(x, y)| {
-                PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
-            });
+            if s.style == Style::Dashed {
+                anno.label(s.label.clone()).legend(move |(x, y)| {
+                    plotters::element::DashedPathElement::new(
+                        vec![(x, y), (x + 18, y)],
+                        5,
+                        3,
+                        colour.stroke_width(2),
+                    )
+                });
+            } else {
+                anno.label(s.label.clone()).legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
+                });
+            }
         }
         let mut markers = Vec::new();
         for positive in [true, false] {
