@@ -348,6 +348,10 @@ fn stability_map_has_ticks_below_n_one_and_colours_by_sign() {
     assert!(b > 80 && r < 50, "decay {:?}", (r, g, b));
     let (r, g, b) = chart.colour_of(0.0);
     assert!(r > 230 && g > 230 && b > 230, "zero {:?}", (r, g, b));
+    // Round-off around a neutral mode (one liquid, m = 1) is drawn as neither growth nor decay.
+    let one_liquid = map_points(&[1.0], &[2.0], |_, _| 5e-16);
+    assert!(!one_liquid[0].is_unstable());
+    assert_eq!(map_chart(&one_liquid, 1.0, 2.5).points[0].value, 0.0);
     // Legend names both markers and the neutral curves.
     let legend: Vec<&str> = layout
         .texts_of(Role::Legend)

@@ -1,6 +1,6 @@
 //! Charts of stability results, drawn with the shared [`crate::plot`] helper.
 
-use super::search::{CurvePoint, MapPoint};
+use super::search::{CurvePoint, MapPoint, NEUTRAL_RATE};
 use crate::plot::{Chart, PointMap, Series, Style, ValuedPoint};
 
 /// Growth rate α c_i against wavenumber α (scaled units), with the zero line.
@@ -36,8 +36,8 @@ pub fn growth_curve_chart(curve: &[CurvePoint]) -> Chart {
 }
 
 /// Stability map over (m, n): every point coloured by its growth rate α c_i (scaled units,
-/// U_max/h) on a diverging map centred on zero, unstable points (α c_i > 0) as circles and
-/// stable ones as squares, on log axes, with the long-wave neutral curves m = 1 and m = n² of
+/// U_max/h) on a diverging map centred on zero, unstable points (α c_i > [`NEUTRAL_RATE`]) as
+/// circles and stable or neutral ones as squares, on log axes, with the long-wave neutral curves m = 1 and m = n² of
 /// Yih 1967 for orientation.
 pub fn map_chart(map: &[MapPoint], reynolds: f64, wavenumber: f64) -> PointMap {
     let n_lo = map.iter().map(|p| p.n).fold(f64::INFINITY, f64::min);
@@ -75,7 +75,12 @@ pub fn map_chart(map: &[MapPoint], reynolds: f64, wavenumber: f64) -> PointMap {
             .map(|p| ValuedPoint {
                 x: p.n,
                 y: p.m,
-                value: p.growth_rate,
+                // Round-off around a neutral mode is neither growth nor decay.
+                value: if p.growth_rate.abs() <= NEUTRAL_RATE {
+                    0.0
+                } else {
+                    p.growth_rate
+                },
             })
             .collect(),
         positive_label: "unstable (k c_i > 0)".into(),
