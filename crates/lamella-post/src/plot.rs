@@ -138,8 +138,9 @@ impl Chart {
     }
 
     /// Renders the chart to PNG bytes of `width` × `height` pixels, with the layout it drew.
-    /// The legend goes into the corner of the plot area where it covers the fewest data
-    /// points, none if it can (the corners are tried emptiest first).
+    /// The legend goes into the corner of the plot area where it covers no data point (the
+    /// corners are tried emptiest first); where every corner covers some, the vertical axis
+    /// gets headroom for it (see `place_legend`).
     pub fn render(&self, width: u32, height: u32) -> Result<(Vec<u8>, Layout), PlotError> {
         register_font();
         let xs = self.series.iter().flat_map(|s| s.x.iter().copied());
