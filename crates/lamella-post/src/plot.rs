@@ -12,14 +12,21 @@
 use std::ops::Range;
 use std::sync::OnceLock;
 
-use plotters::coord::ranged1d::{AsRangedCoord, ValueFormatter};
+use plotters::coord::ranged1d::{AsRangedCoord, BoldPoints, Ranged, ValueFormatter};
+use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use thiserror::Error;
 
 mod axis;
+mod layout;
 mod map;
+mod points;
 pub use axis::AxisFormat;
-pub use map::{MapFrame, field_map, scatter_map};
+pub use layout::{Layout, Rect, Role, TextBox};
+pub use map::{MapFrame, field_map, field_map_layout, scatter_map, scatter_map_layout};
+pub use points::{PointMap, ValuedPoint};
+
+use layout::{Recorder, Recording, Stage, stage};
 
 /// Family name the embedded font is registered under.
 const FONT: &str = "sans-serif";
@@ -127,43 +134,72 @@ const COLOURS: [RGBColor; 6] = [
 impl Chart {
     /// Renders the chart to PNG bytes of `width` × `height` pixels.
     pub fn to_png(&self, width: u32, height: u32) -> Result<Vec<u8>, PlotError> {
+        self.render(width, height).map(|(png, _)| png)
+    }
+
+    /// Renders the chart to PNG bytes of `width` × `height` pixels, with the layout it drew.
+    /// The legend goes into the corner of the plot area where it covers no data point (the
+    /// corners are tried emptiest first); where every corner covers some, the vertical axis
+    /// gets headroom for it (see `place_legend`).
+    pub fn render(&self, width: u32, height: u32) -> Result<(Vec<u8>, Layout), PlotError> {
         register_font();
         let xs = self.series.iter().flat_map(|s| s.x.iter().copied());
         let ys = self.series.iter().flat_map(|s| s.y.iter().copied());
         let no_data = || PlotError::NoData(self.title.clone());
+        let failed = |reason| PlotError::Render {
+            title: self.title.clone(),
+            reason,
+        };
         let xr = axis_range(xs, self.log_x).ok_or_else(no_data)?;
         let yr = axis_range(ys, self.log_y).ok_or_else(no_data)?;
-        let axes = [
-            AxisFormat::new(&self.x_label, xr.start, xr.end, self.log_x),
-            AxisFormat::new(&self.y_label, yr.start, yr.end, self.log_y),
-        ];
-        let corner = self.emptiest_corner(&xr, &yr);
-        let mut pixels = vec![255u8; width as usize * height as usize * 3];
-        let frame = Frame {
-            size: (width, height),
-            axes: &axes,
-            y_ticks: [yr.start, yr.end],
-            legend: corner,
-        };
-        let drawn = match (self.log_x, self.log_y) {
-            (false, false) => self.draw(&mut pixels, &frame, xr, yr),
-            (true, false) => self.draw(&mut pixels, &frame, xr.log_scale(), yr),
-            (false, true) => self.draw(&mut pixels, &frame, xr, yr.log_scale()),
-            (true, true) => self.draw(&mut pixels, &frame, xr.log_scale(), yr.log_scale()),
-        };
-        drawn.map_err(|reason| PlotError::Render {
-            title: self.title.clone(),
-            reason,
+        let corners = self.corners_by_emptiness(&xr, &yr);
+        let (pixels, layout) = place_legend(corners, &yr, self.log_y, |yr, corner| {
+            let mut pixels = vec![255u8; width as usize * height as usize * 3];
+            let axes = [
+                AxisFormat::new(&self.x_label, xr.start, xr.end, self.log_x),
+                AxisFormat::new(&self.y_label, yr.start, yr.end, self.log_y),
+            ];
+            let y_ticks = ticks(yr, self.log_y);
+            let frame = Frame {
+                size: (width, height),
+                axes: &axes,
+                y_ticks: &y_ticks,
+                legend: corner.clone(),
+            };
+            let (lx, ly) = (self.log_x, self.log_y);
+            let xt = || ticks(&xr, lx);
+            let yt = || ticks(yr, ly);
+            let layout = match (lx, ly) {
+                (false, false) => self.draw(&mut pixels, &frame, xr.clone(), yr.clone()),
+                (true, false) => self.draw(
+                    &mut pixels,
+                    &frame,
+                    xr.clone().log_scale().with_key_points(xt()),
+                    yr.clone(),
+                ),
+                (false, true) => self.draw(
+                    &mut pixels,
+                    &frame,
+                    xr.clone(),
+                    yr.clone().log_scale().with_key_points(yt()),
+                ),
+                (true, true) => self.draw(
+                    &mut pixels,
+                    &frame,
+                    xr.clone().log_scale().with_key_points(xt()),
+                    yr.clone().log_scale().with_key_points(yt()),
+                ),
+            }
+            .map_err(failed)?;
+            Ok((pixels, layout))
         })?;
-        encode_png(&pixels, width, height).map_err(|reason| PlotError::Render {
-            title: self.title.clone(),
-            reason,
-        })
+        let png = encode_png(&pixels, width, height).map_err(failed)?;
+        Ok((png, layout))
     }
 
-    /// The corner of the plot area with the fewest data points near it (ties: upper right,
-    /// upper left, lower right, lower left), where the legend hides the least.
-    fn emptiest_corner(&self, xr: &Range<f64>, yr: &Range<f64>) -> SeriesLabelPosition {
+    /// The corners of the plot area, those with the fewest data points near them first (ties:
+    /// upper right, upper left, lower right, lower left).
+    fn corners_by_emptiness(&self, xr: &Range<f64>, yr: &Range<f64>) -> Vec<SeriesLabelPosition> {
         let unit = |v: f64, r: &Range<f64>, log: bool| {
             if log {
                 (v.ln() - r.start.ln()) / (r.end.ln() - r.start.ln())
@@ -192,11 +228,18 @@ impl Chart {
             SeriesLabelPosition::LowerRight,
             SeriesLabelPosition::LowerLeft,
         ];
-        let best = (0..4).min_by_key(|&k| counts[k]).unwrap_or(0);
-        corners[best].clone()
+        let mut order = [0, 1, 2, 3];
+        order.sort_by_key(|&k| counts[k]);
+        order.iter().map(|&k| corners[k].clone()).collect()
     }
 
-    fn draw<X, Y>(&self, pixels: &mut [u8], frame: &Frame<'_>, xr: X, yr: Y) -> Result<(), String>
+    fn draw<X, Y>(
+        &self,
+        pixels: &mut [u8],
+        frame: &Frame<'_>,
+        xr: X,
+        yr: Y,
+    ) -> Result<Layout, String>
     where
         X: AsRangedCoord<Value = f64>,
         Y: AsRangedCoord<Value = f64>,
@@ -204,25 +247,41 @@ impl Chart {
         Y::CoordDescType: ValueFormatter<f64>,
     {
         let [x_axis, y_axis] = frame.axes;
-        let root = BitMapBackend::with_buffer(pixels, frame.size).into_drawing_area();
+        let record = Recording::default();
+        let backend = Recorder {
+            inner: BitMapBackend::with_buffer(pixels, frame.size),
+            record: record.clone(),
+        };
+        let root = backend.into_drawing_area();
         root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let (title, title_px) = fit_text(&self.title, frame.size.0.saturating_sub(2 * MARGIN), 22);
+        stage(&record, Stage::Title);
         let mut chart = ChartBuilder::on(&root)
-            .caption(&self.title, (FONT, title_size(&self.title, frame.size.0)))
-            .margin(12)
-            .x_label_area_size(48)
-            .y_label_area_size(y_label_area(y_axis, frame.y_ticks))
+            .caption(&title, (FONT, title_px))
+            .margin(MARGIN)
+            .x_label_area_size(x_label_area(TICK_PX, DESC_PX))
+            .y_label_area_size(y_label_area(y_axis, frame.y_ticks, TICK_PX, DESC_PX))
             .build_cartesian_2d(xr, yr)
             .map_err(|e| e.to_string())?;
+        stage(
+            &record,
+            Stage::Axes {
+                x_title: x_axis.label.clone(),
+                y_title: y_axis.label.clone(),
+            },
+        );
         chart
             .configure_mesh()
             .x_desc(&x_axis.label)
             .y_desc(&y_axis.label)
-            .label_style((FONT, 14))
-            .axis_desc_style((FONT, 16))
+            .label_style((FONT, TICK_PX))
+            .axis_desc_style((FONT, DESC_PX))
             .x_label_formatter(&|v| x_axis.tick(*v))
             .y_label_formatter(&|v| y_axis.tick(*v))
             .draw()
             .map_err(|e| e.to_string())?;
+        stage(&record, Stage::Quiet);
+        let mut markers = Vec::new();
         for (k, s) in self.series.iter().enumerate() {
             let colour = COLOURS[k % COLOURS.len()];
             let points: Vec<(f64, f64)> =
@@ -236,6 +295,11 @@ impl Chart {
                     })
                     .map(|(x, y)| (*x, *y))
                     .collect();
+            let half = if s.style == Style::Points { 3 } else { 1 };
+            markers.extend(points.iter().map(|p| {
+                let (x, y) = chart.backend_coord(p);
+                Rect::spanning((x - half, y - half), (x + half + 1, y + half + 1))
+            }));
             let anno = match s.style {
                 Style::Line => chart.draw_series(LineSeries::new(points, colour.stroke_width(2))),
                 Style::Dashed => {
@@ -248,50 +312,183 @@ impl Chart {
                 ),
             }
             .map_err(|e| e.to_string())?;
-            anno.label(s.label.clone()).legend(move |(x, y)| {
-                PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
-            });
+            // The legend shows each series as it is drawn: a dot, a dashed or a solid line.
+            if s.style == Style::Points {
+                anno.label(s.label.clone())
+                    .legend(move |(x, y)| Circle::new((x + 9, y), 3, colour.filled()));
+            } else if s.style == Style::Dashed {
+                anno.label(s.label.clone()).legend(move |(x, y)| {
+                    plotters::element::DashedPathElement::new(
+                        vec![(x, y), (x + 18, y)],
+                        5,
+                        3,
+                        colour.stroke_width(2),
+                    )
+                });
+            } else {
+                anno.label(s.label.clone()).legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
+                });
+            }
         }
+        stage(&record, Stage::Legend);
         chart
             .configure_series_labels()
             .position(frame.legend.clone())
-            .label_font((FONT, 14))
+            .label_font((FONT, TICK_PX))
             .background_style(WHITE.mix(0.85))
             .border_style(BLACK)
             .draw()
             .map_err(|e| e.to_string())?;
+        stage(&record, Stage::Quiet);
+        let (px, py) = chart.plotting_area().get_pixel_range();
+        let plot = Rect::spanning((px.start, py.start), (px.end, py.end));
         root.present().map_err(|e| e.to_string())?;
-        Ok(())
+        let layout = record.borrow().layout(frame.size, Some(plot), markers);
+        Ok(layout)
     }
 }
+
+/// Draws a chart (through `draw`, given the vertical range and the legend corner) with the
+/// legend in each of `corners` in turn until it covers no data marker. If it covers some in
+/// every corner, the vertical range is extended upwards by the legend's height (headroom, on a
+/// log axis in decades) and the upper corners are tried again. Returns the pixels and layout
+/// of the drawing whose legend covers the fewest markers.
+fn place_legend(
+    corners: Vec<SeriesLabelPosition>,
+    y_range: &Range<f64>,
+    log_y: bool,
+    mut draw: impl FnMut(&Range<f64>, &SeriesLabelPosition) -> Result<(Vec<u8>, Layout), PlotError>,
+) -> Result<(Vec<u8>, Layout), PlotError> {
+    let covered = |layout: &Layout| layout.legend.map_or(0, |l| layout.covered_markers(&l));
+    let mut best: Option<(Vec<u8>, Layout, usize)> = None;
+    let mut attempt = |range: &Range<f64>,
+                       corners: &[SeriesLabelPosition],
+                       best: &mut Option<(Vec<u8>, Layout, usize)>|
+     -> Result<(), PlotError> {
+        for corner in corners {
+            let (pixels, layout) = draw(range, corner)?;
+            let count = covered(&layout);
+            if best.as_ref().is_none_or(|b| count < b.2) {
+                *best = Some((pixels, layout, count));
+            }
+            if count == 0 {
+                break;
+            }
+        }
+        Ok(())
+    };
+    attempt(y_range, &corners, &mut best)?;
+    let room = best.as_ref().and_then(|(_, layout, count)| {
+        let (legend, plot) = (layout.legend?, layout.plot?);
+        let needed = (legend.y1 - legend.y0 + 20) as f64 / (plot.y1 - plot.y0).max(1) as f64;
+        (*count > 0).then_some(needed.min(0.6))
+    });
+    if let Some(fraction) = room {
+        let taller = headroom(y_range, log_y, fraction);
+        let upper = [
+            SeriesLabelPosition::UpperRight,
+            SeriesLabelPosition::UpperLeft,
+        ];
+        attempt(&taller, &upper, &mut best)?;
+    }
+    best.map(|(pixels, layout, _)| (pixels, layout))
+        .ok_or_else(|| PlotError::Render {
+            title: String::new(),
+            reason: "no legend corner tried".into(),
+        })
+}
+
+/// `range` extended upwards so that its old extent fills `1 - fraction` of the new one (in
+/// decades on a log axis).
+fn headroom(range: &Range<f64>, log: bool, fraction: f64) -> Range<f64> {
+    let stretch = 1.0 / (1.0 - fraction);
+    if log {
+        let (lo, hi) = (range.start.ln(), range.end.ln());
+        range.start..(lo + (hi - lo) * stretch).exp()
+    } else {
+        range.start..range.start + (range.end - range.start) * stretch
+    }
+}
+
+/// Blank border around a chart (px).
+const MARGIN: u32 = 12;
+/// Font size of tick labels and legend entries (px).
+const TICK_PX: u32 = 14;
+/// Font size of axis titles (px).
+const DESC_PX: u32 = 16;
 
 /// What a chart is drawn into and how its axes read.
 struct Frame<'a> {
     size: (u32, u32),
     axes: &'a [AxisFormat; 2],
-    /// The ends of the vertical axis, whose tick labels set the room left for them.
-    y_ticks: [f64; 2],
+    /// The tick values of the vertical axis, whose labels set the room left for them.
+    y_ticks: &'a [f64],
     legend: SeriesLabelPosition,
 }
 
-/// Title font size (px) that fits `title` into `width` pixels: 22 px, smaller for a long title
-/// (DejaVu Sans averages about 0.55 em a character; common practice for a text estimate).
-fn title_size(title: &str, width: u32) -> u32 {
-    let fit = (width.saturating_sub(24)) as f64 / (0.55 * title.chars().count().max(1) as f64);
-    fit.clamp(10.0, 22.0) as u32
+/// The tick values plotters draws on an axis over `range`: on a log axis those of
+/// [`axis::log_ticks`] (passed to plotters as key points), on a linear one plotters' own for at
+/// most ten labels (the mesh default).
+fn ticks(range: &Range<f64>, log: bool) -> Vec<f64> {
+    if log {
+        axis::log_ticks(range.start, range.end)
+    } else {
+        let coord: RangedCoordf64 = range.clone().into();
+        coord.key_points(BoldPoints(10))
+    }
 }
 
-/// Width (px) of the area left of the plot: the longest tick label at 14 px (about 8 px a
-/// character) plus the axis title and gaps, so the title never overlaps the labels.
-fn y_label_area(axis: &AxisFormat, ends: [f64; 2]) -> u32 {
-    let mid = 0.5 * (ends[0] + ends[1]);
-    let longest = [ends[0], mid, ends[1]]
+/// Width and height (px) of `text` in the embedded font at `size` px.
+pub(crate) fn text_size(text: &str, size: u32) -> (u32, u32) {
+    register_font();
+    FontDesc::new(FontFamily::Name(FONT), size as f64, FontStyle::Normal)
+        .box_size(text)
+        .unwrap_or((0, 0))
+}
+
+/// `text` at the largest font size up to `largest` (at least 10 px) whose measured width fits
+/// `width` pixels; a text too long even at 10 px is shortened with an ellipsis.
+pub(crate) fn fit_text(text: &str, width: u32, largest: u32) -> (String, u32) {
+    for size in (10..=largest.max(10)).rev() {
+        if text_size(text, size).0 <= width {
+            return (text.to_string(), size);
+        }
+    }
+    let mut chars: Vec<char> = text.chars().collect();
+    while !chars.is_empty() {
+        chars.pop();
+        let short = format!("{}…", chars.iter().collect::<String>().trim_end());
+        if text_size(&short, 10).0 <= width {
+            return (short, 10);
+        }
+    }
+    (String::new(), 10)
+}
+
+/// Distance from the axis line to the box of a tick label: twice plotters' default tick mark
+/// of 5 px (its `draw_axis_and_labels`).
+const LABEL_GAP: u32 = 10;
+/// Gap between the tick labels and the axis title (px).
+const TITLE_GAP: u32 = 8;
+
+/// Height (px) of the band under the plot: tick labels at `tick_px`, the axis title at
+/// `desc_px`, and the gaps.
+pub(crate) fn x_label_area(tick_px: u32, desc_px: u32) -> u32 {
+    LABEL_GAP + text_size("0123456789", tick_px).1 + TITLE_GAP + text_size("Agy(µ)", desc_px).1 + 2
+}
+
+/// Width (px) of the band left of the plot: the widest of the labels of `ticks` (measured in
+/// the embedded font at `tick_px`), the gaps, and the height of the rotated axis title at
+/// `desc_px`, so the title never overlaps the labels.
+pub(crate) fn y_label_area(axis: &AxisFormat, ticks: &[f64], tick_px: u32, desc_px: u32) -> u32 {
+    let widest = ticks
         .iter()
-        .map(|&v| axis.tick(v).chars().count())
+        .map(|&v| text_size(&axis.tick(v), tick_px).0)
         .max()
-        .unwrap_or(4)
-        .max(4);
-    8 * longest as u32 + 40
+        .unwrap_or(0)
+        .max(text_size("0.0", tick_px).0);
+    LABEL_GAP + widest + TITLE_GAP + text_size(&axis.label, desc_px).1 + 2
 }
 
 fn encode_png(pixels: &[u8], width: u32, height: u32) -> Result<Vec<u8>, String> {

@@ -81,6 +81,48 @@ impl AxisFormat {
     }
 }
 
+/// Tick values of a logarithmic axis over [`lo`, `hi`] (both positive): the powers of ten in
+/// the range, or, where those are fewer than three, 1-2-5 multiples of them, or every integer
+/// multiple; over many decades every k-th power, at most about ten ticks. (Plotters' own log
+/// ticks start at the first power of ten above `lo`, so a range such as 0.2–0.8 had none.)
+pub(crate) fn log_ticks(lo: f64, hi: f64) -> Vec<f64> {
+    if !(lo > 0.0 && hi > lo && hi.is_finite()) {
+        return Vec::new();
+    }
+    let first = lo.log10().floor() as i32;
+    let last = hi.log10().ceil() as i32;
+    let within = |mantissas: &[f64]| -> Vec<f64> {
+        let mut ticks = Vec::new();
+        for e in first..=last {
+            for &m in mantissas {
+                let v = m * 10f64.powi(e);
+                if v >= lo * (1.0 - 1e-12) && v <= hi * (1.0 + 1e-12) {
+                    ticks.push(v);
+                }
+            }
+        }
+        ticks
+    };
+    let decades = within(&[1.0]);
+    if decades.len() > 10 {
+        let stride = decades.len().div_ceil(8);
+        return decades.into_iter().step_by(stride).collect();
+    }
+    for mantissas in [
+        &[1.0][..],
+        &[1.0, 2.0, 5.0][..],
+        &[1.0, 2.0, 3.0, 5.0][..],
+        &[1.0, 2.0, 3.0, 4.0, 5.0, 6.0, 7.0, 8.0, 9.0][..],
+    ] {
+        let ticks = within(mantissas);
+        if ticks.len() >= 3 {
+            return ticks;
+        }
+    }
+    // A range narrower than one step of the integer multiples: its ends.
+    vec![lo, hi]
+}
+
 /// The unit in the last parentheses of an axis title, and where the parentheses start.
 fn unit_of(label: &str) -> Option<(usize, &str)> {
     let open = label.rfind('(')?;
@@ -153,6 +195,24 @@ mod tests {
         assert_eq!(ratio.label, "width ratio n (-)");
         assert_eq!(ratio.tick(0.2), "0.2");
         assert_eq!(AxisFormat::new("count", 0.0, 30.0, false).tick(20.0), "20");
+    }
+
+    #[test]
+    fn log_axes_have_ticks_also_below_one() {
+        let format = AxisFormat::new("width ratio n (-)", 0.2, 0.8, true);
+        let labels: Vec<String> = log_ticks(0.2, 0.8)
+            .iter()
+            .map(|&v| format.tick(v))
+            .collect();
+        assert_eq!(labels, ["0.2", "0.3", "0.5"]);
+        let labels: Vec<String> = log_ticks(0.1, 10.0)
+            .iter()
+            .map(|&v| format.tick(v))
+            .collect();
+        assert_eq!(labels, ["0.1", "1", "10"]);
+        assert_eq!(log_ticks(0.15, 3.0), [0.2, 0.5, 1.0, 2.0]);
+        let wide = log_ticks(1e-9, 1e9);
+        assert!((3..=10).contains(&wide.len()), "{wide:?}");
     }
 
     #[test]

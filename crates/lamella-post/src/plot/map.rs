@@ -4,31 +4,36 @@
 //! Colours follow the viridis map (van der Walt & Smith 2015, the matplotlib default; as
 //! shipped by plotters), low values dark blue, high values yellow. Values that are not finite
 //! (no data) are drawn light grey. The plot area keeps the aspect ratio of the rectangle, so a
-//! square domain gives a square map.
+//! square domain gives a square map. Signed quantities (a growth rate) use the diverging
+//! [`Scale::Diverging`] instead, centred on zero.
 
 // Negated comparisons are deliberate: a NaN must fail every check.
 #![allow(clippy::neg_cmp_op_on_partial_ord)]
 
+use plotters::coord::Shift;
+use plotters::coord::ranged1d::{BoldPoints, Ranged};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
-use super::{AxisFormat, FONT, PlotError, encode_png, register_font};
+use super::layout::{Layout, Recorder, Recording, Rect, Stage, stage};
+use super::{AxisFormat, FONT, PlotError, encode_png, fit_text, register_font};
 
 /// Height of the title band (px).
-const TITLE_HEIGHT: u32 = 36;
+pub(crate) const TITLE_HEIGHT: u32 = 36;
 /// Blank border around the map and around the colour bar (px).
-const MARGIN: u32 = 12;
+pub(crate) const MARGIN: u32 = 12;
 /// Band under the map for the x tick labels and axis label (px).
 const X_AXIS_HEIGHT: u32 = 48;
 /// Band left of the map for the y tick labels and axis label (px).
 const Y_AXIS_WIDTH: u32 = 84;
 /// Width of the colour bar itself (px).
-const BAR_THICKNESS: u32 = 22;
+pub(crate) const BAR_THICKNESS: u32 = 22;
 /// Band right of the colour bar for its tick labels and label (px).
-const BAR_LABELS_WIDTH: u32 = 80;
-/// Shortest side the plot area is given, whatever the aspect ratio (px).
-const MIN_SIDE: u32 = 16;
+pub(crate) const BAR_LABELS_WIDTH: u32 = 80;
+/// Shortest side the plot area is given, whatever the aspect ratio (px): room for a few tick
+/// labels and the colour bar's title (a thin strip is drawn thicker than it is).
+const MIN_SIDE: u32 = 160;
 /// Colour of a value that is not finite.
 const NO_DATA: RGBColor = RGBColor(200, 200, 200);
 /// Colour steps of the colour bar.
@@ -57,7 +62,7 @@ pub struct MapFrame {
 impl MapFrame {
     /// Pixel size (width, height) of the image whose plot area has `long_side` pixels along the
     /// longer side of the rectangle and the rectangle's aspect ratio (the shorter side at least
-    /// 16 px).
+    /// 160 px).
     pub fn image_size(&self, long_side: u32) -> (u32, u32) {
         let (w, h) = self.plot_size(long_side);
         (
@@ -113,11 +118,131 @@ impl MapFrame {
 
 /// Colour of `value` on the viridis map over `range`; light grey when not finite.
 fn colour(value: f64, range: [f64; 2]) -> RGBColor {
-    if !value.is_finite() {
-        return NO_DATA;
+    Scale::Sequential(range).colour(value)
+}
+
+/// The ColorBrewer "RdBu" scheme, 11 classes from dark red to dark blue (Cynthia Brewer,
+/// colorbrewer2.org, Apache-2.0 licence; matplotlib's `RdBu` is these colours interpolated
+/// linearly, as here). Reversed, so negative values are blue and positive ones red.
+const RD_BU: [(u8, u8, u8); 11] = [
+    (0x67, 0x00, 0x1f),
+    (0xb2, 0x18, 0x2b),
+    (0xd6, 0x60, 0x4d),
+    (0xf4, 0xa5, 0x82),
+    (0xfd, 0xdb, 0xc7),
+    (0xf7, 0xf7, 0xf7),
+    (0xd1, 0xe5, 0xf0),
+    (0x92, 0xc5, 0xde),
+    (0x43, 0x93, 0xc3),
+    (0x21, 0x66, 0xac),
+    (0x05, 0x30, 0x61),
+];
+
+/// Colour at `position` in [0, 1] of the reversed RdBu map: 0 dark blue, 0.5 the light grey
+/// centre, 1 dark red; linear between the eleven ColorBrewer classes.
+pub(crate) fn blue_red(position: f64) -> RGBColor {
+    let t = (1.0 - position.clamp(0.0, 1.0)) * (RD_BU.len() - 1) as f64;
+    let k = (t.floor() as usize).min(RD_BU.len() - 2);
+    let f = t - k as f64;
+    let mix = |a: u8, b: u8| (a as f64 + f * (b as f64 - a as f64)).round() as u8;
+    let (a, b) = (RD_BU[k], RD_BU[k + 1]);
+    RGBColor(mix(a.0, b.0), mix(a.1, b.1), mix(a.2, b.2))
+}
+
+/// How values map to colours and where they sit on the colour bar (a position in [0, 1]).
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub(crate) enum Scale {
+    /// Viridis over [lo, hi], linear.
+    Sequential([f64; 2]),
+    /// Reversed RdBu centred on zero with a separate linear scale on each side (the
+    /// "two-slope" normalisation of matplotlib's `TwoSlopeNorm`): `lo` (≤ 0) is the bluest,
+    /// zero the centre, `hi` (≥ 0) the reddest, so the sign of a value reads from its hue
+    /// however unequal the two sides are.
+    Diverging { lo: f64, hi: f64 },
+}
+
+impl Scale {
+    /// The diverging scale over the finite `values` (zero always included).
+    pub(crate) fn diverging(values: impl Iterator<Item = f64>) -> Self {
+        let (lo, hi) = values
+            .filter(|v| v.is_finite())
+            .fold((0.0f64, 0.0f64), |(a, b), v| (a.min(v), b.max(v)));
+        Scale::Diverging { lo, hi }
     }
-    let h = ((value - range[0]) / (range[1] - range[0])).clamp(0.0, 1.0);
-    ViridisRGB::get_color(h)
+
+    /// Position of `value` on the bar, clamped to [0, 1].
+    pub(crate) fn position(&self, value: f64) -> f64 {
+        match *self {
+            Scale::Sequential([lo, hi]) => ((value - lo) / (hi - lo)).clamp(0.0, 1.0),
+            Scale::Diverging { lo, hi } => {
+                if value < 0.0 && lo < 0.0 {
+                    0.5 - 0.5 * (value / lo).min(1.0)
+                } else if value > 0.0 && hi > 0.0 {
+                    0.5 + 0.5 * (value / hi).min(1.0)
+                } else {
+                    0.5
+                }
+            }
+        }
+    }
+
+    /// The value at `position` (the inverse of [`Scale::position`] inside the range).
+    fn value(&self, position: f64) -> f64 {
+        match *self {
+            Scale::Sequential([lo, hi]) => lo + position * (hi - lo),
+            Scale::Diverging { lo, hi } => {
+                if position < 0.5 {
+                    lo * (0.5 - position) / 0.5
+                } else {
+                    hi * (position - 0.5) / 0.5
+                }
+            }
+        }
+    }
+
+    /// Colour of `value`; light grey when not finite.
+    pub(crate) fn colour(&self, value: f64) -> RGBColor {
+        if !value.is_finite() {
+            return NO_DATA;
+        }
+        match self {
+            Scale::Sequential(_) => ViridisRGB::get_color(self.position(value)),
+            Scale::Diverging { .. } => blue_red(self.position(value)),
+        }
+    }
+
+    /// The lowest and highest value the bar shows.
+    fn ends(&self) -> [f64; 2] {
+        match *self {
+            Scale::Sequential(range) => range,
+            Scale::Diverging { lo, hi } => [lo, hi],
+        }
+    }
+
+    /// Values labelled on the bar: plotters' round values for about six ticks; on a diverging
+    /// bar about three on each side and zero.
+    fn ticks(&self) -> Vec<f64> {
+        let round = |lo: f64, hi: f64, count: usize| -> Vec<f64> {
+            if lo < hi {
+                let coord: RangedCoordf64 = (lo..hi).into();
+                coord.key_points(BoldPoints(count))
+            } else {
+                Vec::new()
+            }
+        };
+        match *self {
+            Scale::Sequential([lo, hi]) => round(lo, hi, 6),
+            Scale::Diverging { lo, hi } => {
+                // Round-off leaves ticks such as -3e-17 next to zero: drop them.
+                let tiny = 1e-9 * (hi - lo);
+                let mut ticks = round(lo, 0.0, 3);
+                ticks.retain(|v| *v < -tiny);
+                ticks.push(0.0);
+                ticks.extend(round(0.0, hi, 3).into_iter().filter(|v| *v > tiny));
+                ticks
+            }
+        }
+    }
 }
 
 /// Tick label of a colour-bar value: fixed-point with as many decimals as the span of the
@@ -132,33 +257,129 @@ fn bar_tick(value: f64, range: [f64; 2]) -> String {
     }
 }
 
+/// A linear axis with the tick values given (plotters' `WithKeyPoints` over a linear f64 axis
+/// takes no label formatter).
+struct Ticked {
+    inner: RangedCoordf64,
+    ticks: Vec<f64>,
+}
+
+impl Ranged for Ticked {
+    type FormatOption = plotters::coord::ranged1d::DefaultFormatting;
+    type ValueType = f64;
+
+    fn map(&self, value: &f64, limit: (i32, i32)) -> i32 {
+        self.inner.map(value, limit)
+    }
+
+    fn key_points<Hint: plotters::coord::ranged1d::KeyPointHint>(&self, _: Hint) -> Vec<f64> {
+        self.ticks.clone()
+    }
+
+    fn range(&self) -> std::ops::Range<f64> {
+        self.inner.range()
+    }
+}
+
 type MapChart<'a, 'b> =
-    ChartContext<'a, BitMapBackend<'b>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+    ChartContext<'a, Recorder<BitMapBackend<'b>>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+
+/// Draws the title of a chart of `width` pixels into the band `top`.
+pub(crate) fn draw_title<DB: DrawingBackend>(
+    top: &DrawingArea<DB, Shift>,
+    record: &Recording,
+    title: &str,
+    width: u32,
+) -> Result<(), String> {
+    let (text, size) = fit_text(title, width.saturating_sub(2 * MARGIN), 20);
+    let title_style = TextStyle::from((FONT, size).into_font())
+        .pos(Pos::new(HPos::Center, VPos::Center))
+        .color(&BLACK);
+    stage(record, Stage::Title);
+    top.draw_text(
+        &text,
+        &title_style,
+        (width as i32 / 2, TITLE_HEIGHT as i32 / 2),
+    )
+    .map_err(|e| e.to_string())?;
+    stage(record, Stage::Quiet);
+    Ok(())
+}
+
+/// Draws the colour bar of `scale` titled `label` into `area` (whose lower `x_axis_height`
+/// pixels are left blank, level with the map's x axis band).
+pub(crate) fn draw_bar<DB: DrawingBackend>(
+    area: &DrawingArea<DB, Shift>,
+    record: &Recording,
+    scale: &Scale,
+    label: &str,
+    x_axis_height: u32,
+) -> Result<(), String> {
+    let [lo, hi] = scale.ends();
+    let span = scale.position(lo)..scale.position(hi);
+    let ticks: Vec<f64> = scale.ticks().iter().map(|&v| scale.position(v)).collect();
+    let mut bar = ChartBuilder::on(area)
+        .margin(MARGIN)
+        .x_label_area_size(x_axis_height)
+        .right_y_label_area_size(BAR_LABELS_WIDTH)
+        .build_cartesian_2d(
+            0.0..1.0,
+            Ticked {
+                inner: span.clone().into(),
+                ticks,
+            },
+        )
+        .map_err(|e| e.to_string())?;
+    let step = (span.end - span.start) / BAR_STEPS as f64;
+    bar.draw_series((0..BAR_STEPS).map(|k| {
+        let p = span.start + k as f64 * step;
+        Rectangle::new(
+            [(0.0, p), (1.0, p + step)],
+            scale.colour(scale.value(p + 0.5 * step)).filled(),
+        )
+    }))
+    .map_err(|e| e.to_string())?;
+    stage(
+        record,
+        Stage::Bar {
+            title: label.to_string(),
+        },
+    );
+    let range = [lo, hi];
+    bar.configure_mesh()
+        .disable_mesh()
+        .disable_x_axis()
+        .y_desc(label)
+        .label_style((FONT, 13))
+        .axis_desc_style((FONT, 15))
+        .y_label_formatter(&|p| bar_tick(scale.value(*p), range))
+        .draw()
+        .map_err(|e| e.to_string())?;
+    stage(record, Stage::Quiet);
+    Ok(())
+}
 
 /// Draws the frame (title, axes, colour bar over `range`) of a `long_side` map, lets `paint`
-/// fill the plot area, and encodes the image.
+/// fill the plot area (returning the extents of what it drew), and encodes the image.
 fn render(
     frame: &MapFrame,
     range: [f64; 2],
     long_side: u32,
-    paint: impl FnOnce(&mut MapChart<'_, '_>) -> Result<(), String>,
-) -> Result<Vec<u8>, PlotError> {
+    paint: impl FnOnce(&mut MapChart<'_, '_>) -> Result<Vec<Rect>, String>,
+) -> Result<(Vec<u8>, Layout), PlotError> {
     register_font();
     let (width, height) = frame.image_size(long_side);
     let mut pixels = vec![255u8; width as usize * height as usize * 3];
-    let draw = |pixels: &mut [u8]| -> Result<(), String> {
-        let root = BitMapBackend::with_buffer(pixels, (width, height)).into_drawing_area();
+    let record = Recording::default();
+    let draw = |pixels: &mut [u8]| -> Result<Layout, String> {
+        let backend = Recorder {
+            inner: BitMapBackend::with_buffer(pixels, (width, height)),
+            record: record.clone(),
+        };
+        let root = backend.into_drawing_area();
         root.fill(&WHITE).map_err(|e| e.to_string())?;
         let (top, body) = root.split_vertically(TITLE_HEIGHT);
-        let title_style = TextStyle::from((FONT, 20).into_font())
-            .pos(Pos::new(HPos::Center, VPos::Center))
-            .color(&BLACK);
-        top.draw_text(
-            &frame.title,
-            &title_style,
-            (width as i32 / 2, TITLE_HEIGHT as i32 / 2),
-        )
-        .map_err(|e| e.to_string())?;
+        draw_title(&top, &record, &frame.title, width)?;
         let bar_width = 2 * MARGIN + BAR_THICKNESS + BAR_LABELS_WIDTH;
         let (map_area, bar_area) = body.split_horizontally(width - bar_width);
 
@@ -171,9 +392,16 @@ fn render(
                 frame.lower[1]..frame.upper[1],
             )
             .map_err(|e| e.to_string())?;
-        paint(&mut chart)?;
+        let markers = paint(&mut chart)?;
         let x_axis = AxisFormat::new(&frame.x_label, frame.lower[0], frame.upper[0], false);
         let y_axis = AxisFormat::new(&frame.y_label, frame.lower[1], frame.upper[1], false);
+        stage(
+            &record,
+            Stage::Axes {
+                x_title: x_axis.label.clone(),
+                y_title: y_axis.label.clone(),
+            },
+        );
         chart
             .configure_mesh()
             .disable_mesh()
@@ -187,36 +415,23 @@ fn render(
             .y_label_formatter(&|v| y_axis.tick(*v))
             .draw()
             .map_err(|e| e.to_string())?;
-
-        let mut bar = ChartBuilder::on(&bar_area)
-            .margin(MARGIN)
-            .x_label_area_size(X_AXIS_HEIGHT)
-            .right_y_label_area_size(BAR_LABELS_WIDTH)
-            .build_cartesian_2d(0.0..1.0, range[0]..range[1])
-            .map_err(|e| e.to_string())?;
-        let step = (range[1] - range[0]) / BAR_STEPS as f64;
-        bar.draw_series((0..BAR_STEPS).map(|k| {
-            let v = range[0] + k as f64 * step;
-            Rectangle::new(
-                [(0.0, v), (1.0, v + step)],
-                colour(v + 0.5 * step, range).filled(),
-            )
-        }))
-        .map_err(|e| e.to_string())?;
-        bar.configure_mesh()
-            .disable_mesh()
-            .disable_x_axis()
-            .y_labels(6)
-            .y_desc(&frame.value_label)
-            .label_style((FONT, 13))
-            .axis_desc_style((FONT, 15))
-            .y_label_formatter(&|v| bar_tick(*v, range))
-            .draw()
-            .map_err(|e| e.to_string())?;
-        root.present().map_err(|e| e.to_string())
+        stage(&record, Stage::Quiet);
+        let (px, py) = chart.plotting_area().get_pixel_range();
+        let plot = Rect::spanning((px.start, py.start), (px.end, py.end));
+        draw_bar(
+            &bar_area,
+            &record,
+            &Scale::Sequential(range),
+            &frame.value_label,
+            X_AXIS_HEIGHT,
+        )?;
+        root.present().map_err(|e| e.to_string())?;
+        let layout = record.borrow().layout((width, height), Some(plot), markers);
+        Ok(layout)
     };
-    draw(&mut pixels).map_err(|reason| frame.invalid(reason))?;
-    encode_png(&pixels, width, height).map_err(|reason| frame.invalid(reason))
+    let layout = draw(&mut pixels).map_err(|reason| frame.invalid(reason))?;
+    let png = encode_png(&pixels, width, height).map_err(|reason| frame.invalid(reason))?;
+    Ok((png, layout))
 }
 
 /// A heat map of a field on `cells[0]` × `cells[1]` equal cells over the frame's rectangle,
@@ -228,6 +443,16 @@ pub fn field_map(
     values: &[f64],
     long_side: u32,
 ) -> Result<Vec<u8>, PlotError> {
+    field_map_layout(frame, cells, values, long_side).map(|(png, _)| png)
+}
+
+/// [`field_map`] with the layout it drew (no markers: a field fills the plot area).
+pub fn field_map_layout(
+    frame: &MapFrame,
+    cells: [usize; 2],
+    values: &[f64],
+    long_side: u32,
+) -> Result<(Vec<u8>, Layout), PlotError> {
     if cells.contains(&0) || values.len() != cells[0] * cells[1] {
         return Err(frame.invalid(format!(
             "{} values for a grid of {} × {} cells",
@@ -249,7 +474,7 @@ pub fn field_map(
                 let y = frame.lower[1] + j * d[1];
                 Rectangle::new([(x, y), (x + d[0], y + d[1])], colour(v, range).filled())
             }))
-            .map(|_| ())
+            .map(|_| Vec::new())
             .map_err(|e| e.to_string())
     })
 }
@@ -263,6 +488,17 @@ pub fn scatter_map(
     marker: f64,
     long_side: u32,
 ) -> Result<Vec<u8>, PlotError> {
+    scatter_map_layout(frame, points, values, marker, long_side).map(|(png, _)| png)
+}
+
+/// [`scatter_map`] with the layout it drew (no markers listed: there is no legend to avoid).
+pub fn scatter_map_layout(
+    frame: &MapFrame,
+    points: &[[f64; 2]],
+    values: &[f64],
+    marker: f64,
+    long_side: u32,
+) -> Result<(Vec<u8>, Layout), PlotError> {
     if points.len() != values.len() {
         return Err(frame.invalid(format!(
             "{} values for {} points",
@@ -285,7 +521,7 @@ pub fn scatter_map(
                     colour(v, range).filled(),
                 )
             }))
-            .map(|_| ())
+            .map(|_| Vec::new())
             .map_err(|e| e.to_string())
     })
 }
@@ -343,8 +579,8 @@ mod tests {
         );
         let square = frame([1e-3, 1e-3]).image_size(500);
         assert_eq!(square, (500 + extra.0, 500 + extra.1));
-        let wide = frame([4e-3, 1e-3]).image_size(500);
-        assert_eq!(wide, (500 + extra.0, 125 + extra.1));
+        let wide = frame([2e-3, 1e-3]).image_size(500);
+        assert_eq!(wide, (500 + extra.0, 250 + extra.1));
         let tall = frame([1e-3, 2e-3]).image_size(500);
         assert_eq!(tall, (250 + extra.0, 500 + extra.1));
         let strip = frame([1.0, 1e-4]).image_size(500);
@@ -419,6 +655,26 @@ mod tests {
             scatter_map(&f, &points, &values[..2], 0.1, 300),
             Err(PlotError::Render { .. })
         ));
+    }
+
+    #[test]
+    fn diverging_scale_is_blue_below_zero_red_above_and_light_at_zero() {
+        let scale = Scale::diverging([-4.0, 0.5, 1.0].into_iter());
+        assert_eq!(scale, Scale::Diverging { lo: -4.0, hi: 1.0 });
+        // Each side has its own slope: -4 and 1 are the ends, -2 and 0.5 the middles.
+        assert_eq!(scale.position(-4.0), 0.0);
+        assert_eq!(scale.position(-2.0), 0.25);
+        assert_eq!(scale.position(0.0), 0.5);
+        assert_eq!(scale.position(0.5), 0.75);
+        assert_eq!(scale.colour(1.0), RGBColor(0x67, 0x00, 0x1f));
+        assert_eq!(scale.colour(-4.0), RGBColor(0x05, 0x30, 0x61));
+        assert_eq!(scale.colour(0.0), RGBColor(0xf7, 0xf7, 0xf7));
+        let RGBColor(r, _, b) = scale.colour(0.3);
+        assert!(r > b, "a small growth is still red");
+        let RGBColor(r, _, b) = scale.colour(-0.5);
+        assert!(b > r, "a small decay is still blue");
+        let ticks = scale.ticks();
+        assert!(ticks.contains(&0.0) && ticks.iter().all(|v| (-4.0..=1.0).contains(v)));
     }
 
     #[test]

@@ -1,7 +1,7 @@
 //! Charts of stability results, drawn with the shared [`crate::plot`] helper.
 
-use super::search::{CurvePoint, MapPoint};
-use crate::plot::{Chart, Series, Style};
+use super::search::{CurvePoint, MapPoint, NEUTRAL_RATE};
+use crate::plot::{Chart, PointMap, Series, Style, ValuedPoint};
 
 /// Growth rate α c_i against wavenumber α (scaled units), with the zero line.
 pub fn growth_curve_chart(curve: &[CurvePoint]) -> Chart {
@@ -35,21 +35,11 @@ pub fn growth_curve_chart(curve: &[CurvePoint]) -> Chart {
     }
 }
 
-/// Stability map over (m, n): unstable and stable points on log axes, with the long-wave
-/// neutral curves m = 1 and m = n² of Yih 1967 for orientation.
-pub fn map_chart(map: &[MapPoint], reynolds: f64, wavenumber: f64) -> Chart {
-    let pick = |unstable: bool| {
-        let points: Vec<&MapPoint> = map
-            .iter()
-            .filter(|p| (p.growth_rate > 0.0) == unstable)
-            .collect();
-        (
-            points.iter().map(|p| p.n).collect::<Vec<f64>>(),
-            points.iter().map(|p| p.m).collect::<Vec<f64>>(),
-        )
-    };
-    let (nu, mu) = pick(true);
-    let (ns, ms) = pick(false);
+/// Stability map over (m, n): every point coloured by its growth rate α c_i (scaled units,
+/// U_max/h) on a diverging map centred on zero, unstable points (α c_i > [`NEUTRAL_RATE`]) as
+/// circles and stable or neutral ones as squares, on log axes, with the long-wave neutral curves m = 1 and m = n² of
+/// Yih 1967 for orientation.
+pub fn map_chart(map: &[MapPoint], reynolds: f64, wavenumber: f64) -> PointMap {
     let n_lo = map.iter().map(|p| p.n).fold(f64::INFINITY, f64::min);
     let n_hi = map.iter().map(|p| p.n).fold(0.0, f64::max);
     let m_lo = map.iter().map(|p| p.m).fold(f64::INFINITY, f64::min);
@@ -59,37 +49,42 @@ pub fn map_chart(map: &[MapPoint], reynolds: f64, wavenumber: f64) -> Chart {
         .map(|k| n_lo * (n_hi / n_lo).powf(k as f64 / steps as f64))
         .filter(|n| n * n >= m_lo && n * n <= m_hi)
         .collect();
-    Chart {
+    let mut curves = vec![Series {
+        label: "long-wave neutral m = n²".into(),
+        y: n_curve.iter().map(|n| n * n).collect(),
+        x: n_curve,
+        style: Style::Dashed,
+    }];
+    if m_lo <= 1.0 && 1.0 <= m_hi {
+        curves.push(Series {
+            label: "long-wave neutral m = 1".into(),
+            x: vec![n_lo, n_hi],
+            y: vec![1.0, 1.0],
+            style: Style::Line,
+        });
+    }
+    PointMap {
         title: format!("Stability map at Re = {reynolds}, k h = {wavenumber}"),
         x_label: "width ratio n = d_lower/d_upper (-)".into(),
-        y_label: "viscosity ratio m = mu_lower/mu_upper (-)".into(),
+        y_label: "viscosity ratio m = μ_lower/μ_upper (-)".into(),
+        value_label: "growth rate k c_i (U_max/h)".into(),
         log_x: true,
         log_y: true,
-        series: vec![
-            Series {
-                label: "unstable".into(),
-                x: nu,
-                y: mu,
-                style: Style::Points,
-            },
-            Series {
-                label: "stable".into(),
-                x: ns,
-                y: ms,
-                style: Style::Points,
-            },
-            Series {
-                label: "long-wave neutral m = n^2".into(),
-                y: n_curve.iter().map(|n| n * n).collect(),
-                x: n_curve,
-                style: Style::Dashed,
-            },
-            Series {
-                label: "long-wave neutral m = 1".into(),
-                x: vec![n_lo, n_hi],
-                y: vec![1.0, 1.0],
-                style: Style::Dashed,
-            },
-        ],
+        points: map
+            .iter()
+            .map(|p| ValuedPoint {
+                x: p.n,
+                y: p.m,
+                // Round-off around a neutral mode is neither growth nor decay.
+                value: if p.growth_rate.abs() <= NEUTRAL_RATE {
+                    0.0
+                } else {
+                    p.growth_rate
+                },
+            })
+            .collect(),
+        positive_label: "unstable (k c_i > 0)".into(),
+        other_label: "stable (k c_i ≤ 0)".into(),
+        curves,
     }
 }

@@ -56,7 +56,7 @@ pub use charts::{growth_curve_chart, map_chart};
 pub use eigenmode::Eigenmode;
 pub use long_wave::{LongWave, long_wave_coefficient};
 pub use search::{
-    CheckedMode, CriticalPoint, CurvePoint, MapPoint, critical_point, growth_curve,
+    CheckedMode, CriticalPoint, CurvePoint, MapPoint, NEUTRAL_RATE, critical_point, growth_curve,
     growth_curve_observed, leading_checked, most_unstable, neutral_reynolds, stability_map,
     stability_map_observed,
 };

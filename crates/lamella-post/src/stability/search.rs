@@ -237,6 +237,18 @@ pub struct MapPoint {
     pub growth_rate: f64,
 }
 
+/// Growth rates (scaled, U_max/h) no larger than this in size are neutral: round-off. The
+/// leading mode of one liquid (m = 1, any n) comes out at up to ±1.4e-15 on a map at Re = 1,
+/// k h = π.
+pub const NEUTRAL_RATE: f64 = 1e-10;
+
+impl MapPoint {
+    /// Whether the pair is unstable: growth rate above [`NEUTRAL_RATE`].
+    pub fn is_unstable(&self) -> bool {
+        self.growth_rate > NEUTRAL_RATE
+    }
+}
+
 /// Leading mode of the two-layer channel for every (m, n) pair, `m` varying fastest, at
 /// the Reynolds number, wavenumber, tension and resolution of `problem` (whose channel is
 /// replaced).

@@ -240,7 +240,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
             stability::stability_map_observed(&setup.problem, &ms, &ns, &mut |k| progress.set(k));
         progress.finish();
         let map = map.map_err(solve_failure)?;
-        let unstable = map.iter().filter(|p| p.growth_rate > 0.0).count();
+        let unstable = map.iter().filter(|p| p.is_unstable()).count();
         writeln!(
             report,
             "stability map at Re = {}, wavenumber {}: {unstable} of {} (m, n) pairs unstable",
