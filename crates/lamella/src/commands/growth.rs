@@ -5,6 +5,7 @@
 use std::path::PathBuf;
 
 use lamella_post::growth::{self, ModeFit};
+use lamella_post::number::with_uncertainty;
 use lamella_post::table::csv_document;
 
 use crate::Failure;
@@ -108,8 +109,8 @@ fn report(measured: &Measurement, fit: &ModeFit) -> String {
         "interface mode in {}: wavelength {:.4e} m (k = {k:.4e} 1/m), {} samples, t = {:.4}..{:.4} s\n\
          start-up until t = {:.4} s (from {})\n\
          fit window t = {:.4}..{:.4} s ({} samples, {}), R² = {:.4}\n\
-         growth rate {:.4e} ± {:.2e} 1/s (95 %)\n\
-         wave speed {:.4e} ± {:.2e} m/s (95 %)\n\
+         growth rate {} 1/s (95 %)\n\
+         wave speed {} m/s (95 %)\n\
          noise floor {:.3e} m (mean over the window)\n\
          {}\n",
         measured.series.display(),
@@ -132,10 +133,8 @@ fn report(measured: &Measurement, fit: &ModeFit) -> String {
             "automatic"
         },
         fit.r_squared,
-        fit.rate,
-        fit.rate_ci95,
-        fit.wave_speed,
-        fit.wave_speed_ci95,
+        with_uncertainty(fit.rate, fit.rate_ci95),
+        with_uncertainty(fit.wave_speed, fit.wave_speed_ci95),
         fit.noise_floor,
         period_line(measured, fit, None),
     )

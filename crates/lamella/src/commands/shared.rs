@@ -2,6 +2,7 @@
 //! fit (`growth`, `stability --run`) and how a measured growth is reported and drawn.
 
 use lamella_post::growth::{self, ModeFit, Window};
+use lamella_post::number::{significant, with_uncertainty};
 use lamella_post::plot::{Chart, Series, Style};
 use lamella_run::analysis::growth::{DEFAULT_MIN_R2, FitSettings, Measurement};
 
@@ -96,6 +97,22 @@ pub fn period_line(measured: &Measurement, fit: &ModeFit, predicted: Option<f64>
 /// window and, when given, the exponential of a predicted rate (1/s) from the fitted amplitude
 /// at the start of the window to the end of the record.
 pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>) -> Chart {
+    // The noise floor of a seeded lattice starts near zero; drawn from there it would stretch
+    // the log axis over decades the amplitude never visits, so only the part above 1/1000 of
+    // the smallest amplitude is drawn.
+    let smallest = measured
+        .amplitude
+        .iter()
+        .copied()
+        .filter(|a| *a > 0.0)
+        .fold(f64::INFINITY, f64::min);
+    let (floor_time, floor): (Vec<f64>, Vec<f64>) = measured
+        .time
+        .iter()
+        .zip(&measured.noise)
+        .filter(|&(_, &n)| n >= 1e-3 * smallest)
+        .map(|(&t, &n)| (t, n))
+        .unzip();
     let mut series = vec![
         Series {
             label: "mode amplitude".into(),
@@ -105,8 +122,8 @@ pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>)
         },
         Series {
             label: "noise floor".into(),
-            x: measured.time.clone(),
-            y: measured.noise.clone(),
+            x: floor_time,
+            y: floor,
             style: Style::Line,
         },
     ];
@@ -119,12 +136,12 @@ pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>)
             .filter(|&t| t >= fit.start && t <= fit.end)
             .collect();
         series.push(Series {
-            label: format!("fit, {:.3e} ± {:.1e} 1/s", fit.rate, fit.rate_ci95),
+            label: format!("fit, {} 1/s", with_uncertainty(fit.rate, fit.rate_ci95)),
             x: inside.clone(),
             y: inside.iter().map(|&t| fit.amplitude(t)).collect(),
             style: Style::Dashed,
         });
-        heading = format!("{title}: growth rate {:.3e} 1/s", fit.rate);
+        heading = format!("{title}: growth rate {} 1/s", significant(fit.rate, 3));
         if let Some(rate) = predicted {
             let anchor = fit.amplitude(fit.start);
             let (x, y): (Vec<f64>, Vec<f64>) = measured
@@ -134,7 +151,7 @@ pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>)
                 .map(|&t| (t, anchor * (rate * (t - fit.start)).exp()))
                 .unzip();
             series.push(Series {
-                label: format!("theory, {rate:.3e} 1/s"),
+                label: format!("theory, {} 1/s", significant(rate, 4)),
                 x,
                 y,
                 style: Style::Line,

@@ -12,6 +12,7 @@ use std::fs;
 use std::path::{Path, PathBuf};
 
 use lamella_case::Case;
+use lamella_post::number::{significant, with_uncertainty};
 use lamella_post::stability::{
     self, CurvePoint, DEFAULT_POINTS_PER_LAYER, LayeredChannel, MapPoint, StabilityError,
     StabilityProblem,
@@ -413,19 +414,17 @@ fn compare(
     );
     writeln!(
         report,
-        "  growth rate: measured {:.4e} ± {:.2e} 1/s (95 %), predicted {:.4e} 1/s, {}; {rate_why}",
-        fit.rate,
-        fit.rate_ci95,
-        predicted.rate,
+        "  growth rate: measured {} 1/s (95 %), predicted {} 1/s, {}; {rate_why}",
+        with_uncertainty(fit.rate, fit.rate_ci95),
+        significant(predicted.rate, 5),
         ratio(fit.rate, fit.rate_ci95, predicted.rate)
     )
     .ok();
     writeln!(
         report,
-        "  wave speed: measured {:.4e} ± {:.2e} m/s (95 %), predicted {:.4e} m/s, {}; {speed_why}",
-        fit.wave_speed,
-        fit.wave_speed_ci95,
-        predicted.wave_speed,
+        "  wave speed: measured {} m/s (95 %), predicted {} m/s, {}; {speed_why}",
+        with_uncertainty(fit.wave_speed, fit.wave_speed_ci95),
+        significant(predicted.wave_speed, 5),
         ratio(fit.wave_speed, fit.wave_speed_ci95, predicted.wave_speed)
     )
     .ok();
