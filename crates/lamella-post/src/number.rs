@@ -25,10 +25,12 @@ pub fn significant(x: f64, digits: usize) -> String {
 /// positive number or the numbers are too large or small to write plainly.
 pub fn with_uncertainty(value: f64, uncertainty: f64) -> String {
     let plain = |x: f64| x == 0.0 || (1e-6..1e6).contains(&x.abs());
-    if !(uncertainty.is_finite() && uncertainty > 0.0 && value.is_finite())
-        || !plain(value)
-        || !plain(uncertainty)
-    {
+    let writable = uncertainty.is_finite()
+        && uncertainty > 0.0
+        && value.is_finite()
+        && plain(value)
+        && plain(uncertainty);
+    if !writable {
         return format!(
             "{} ± {}",
             significant(value, 4),
