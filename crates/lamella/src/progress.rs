@@ -6,6 +6,7 @@ use std::io::IsTerminal;
 use std::time::{Duration, Instant};
 
 use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use lamella_post::number::significant;
 use lamella_run::runner::{NoProgress, Progress};
 use lamella_sph::StepReport;
 
@@ -137,8 +138,13 @@ impl Progress for Console {
         let rate = steps as f64 / elapsed.max(1e-9);
         let fraction = self.fraction(report.time);
         let status = format!(
-            "t = {:.4e} s of {:.4e} s, step {}, {:.0} steps/s, dt {:.3e} s ({})",
-            report.time, self.end_time, report.step, rate, report.dt, report.limit
+            "t = {} s of {} s, step {}, {:.0} steps/s, dt {} s ({})",
+            significant(report.time, 4),
+            significant(self.end_time, 4),
+            report.step,
+            rate,
+            significant(report.dt, 3),
+            report.limit
         );
         if let Some(bar) = &self.bar {
             bar.set_position(bar_position(fraction));

@@ -9,6 +9,7 @@ use std::sync::atomic::AtomicBool;
 use glam::{DVec2, DVec3};
 use lamella_case::Case;
 use lamella_cells::Vector;
+use lamella_post::number::significant;
 use lamella_sph::Simulation;
 
 use crate::Failure;
@@ -138,10 +139,10 @@ fn run_case<V: Vector>(
     let (mut sim, note) = initial_simulation::<V>(case, start.from)?;
     if !globals.quiet {
         crate::note!(
-            "{name}: {} particles, sound speed {:.4e} m/s, end time {:.4e} s",
+            "{name}: {} particles, sound speed {} m/s, end time {} s",
             sim.particles().len(),
-            sim.config().state_law.sound_speed,
-            case.time.end
+            significant(sim.config().state_law.sound_speed, 4),
+            significant(case.time.end, 4)
         );
     }
     let mut observer = Recorder::<V>::start(out, start.force, case, case_text, name)?;
