@@ -12,6 +12,7 @@
 use std::ops::Range;
 use std::sync::OnceLock;
 
+use plotters::chart::SeriesAnno;
 use plotters::coord::ranged1d::{AsRangedCoord, BoldPoints, Ranged, ValueFormatter};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
@@ -263,24 +264,7 @@ impl Chart {
             .y_label_area_size(y_label_area(y_axis, frame.y_ticks, TICK_PX, DESC_PX))
             .build_cartesian_2d(xr, yr)
             .map_err(|e| e.to_string())?;
-        stage(
-            &record,
-            Stage::Axes {
-                x_title: x_axis.label.clone(),
-                y_title: y_axis.label.clone(),
-            },
-        );
-        chart
-            .configure_mesh()
-            .x_desc(&x_axis.label)
-            .y_desc(&y_axis.label)
-            .label_style((FONT, TICK_PX))
-            .axis_desc_style((FONT, DESC_PX))
-            .x_label_formatter(&|v| x_axis.tick(*v))
-            .y_label_formatter(&|v| y_axis.tick(*v))
-            .draw()
-            .map_err(|e| e.to_string())?;
-        stage(&record, Stage::Quiet);
+        draw_axes(&mut chart, &record, x_axis, y_axis)?;
         let mut markers = Vec::new();
         for (k, s) in self.series.iter().enumerate() {
             let colour = COLOURS[k % COLOURS.len()];
@@ -316,19 +300,8 @@ impl Chart {
             if s.style == Style::Points {
                 anno.label(s.label.clone())
                     .legend(move |(x, y)| Circle::new((x + 9, y), 3, colour.filled()));
-            } else if s.style == Style::Dashed {
-                anno.label(s.label.clone()).legend(move |(x, y)| {
-                    plotters::element::DashedPathElement::new(
-                        vec![(x, y), (x + 18, y)],
-                        5,
-                        3,
-                        colour.stroke_width(2),
-                    )
-                });
             } else {
-                anno.label(s.label.clone()).legend(move |(x, y)| {
-                    PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
-                });
+                line_legend(anno, &s.label, colour, s.style == Style::Dashed);
             }
         }
         stage(&record, Stage::Legend);
@@ -346,6 +319,64 @@ impl Chart {
         root.present().map_err(|e| e.to_string())?;
         let layout = record.borrow().layout(frame.size, Some(plot), markers);
         Ok(layout)
+    }
+}
+
+/// Draws the axes, grid and tick labels of `chart` in the two axis formats, telling the layout
+/// `record` which texts are the axis titles.
+pub(crate) fn draw_axes<DB, X, Y>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<X, Y>>,
+    record: &Recording,
+    x_axis: &AxisFormat,
+    y_axis: &AxisFormat,
+) -> Result<(), String>
+where
+    DB: DrawingBackend,
+    X: Ranged<ValueType = f64> + ValueFormatter<f64>,
+    Y: Ranged<ValueType = f64> + ValueFormatter<f64>,
+{
+    stage(
+        record,
+        Stage::Axes {
+            x_title: x_axis.label.clone(),
+            y_title: y_axis.label.clone(),
+        },
+    );
+    chart
+        .configure_mesh()
+        .x_desc(&x_axis.label)
+        .y_desc(&y_axis.label)
+        .label_style((FONT, TICK_PX))
+        .axis_desc_style((FONT, DESC_PX))
+        .x_label_formatter(&|v| x_axis.tick(*v))
+        .y_label_formatter(&|v| y_axis.tick(*v))
+        .draw()
+        .map_err(|e| e.to_string())?;
+    stage(record, Stage::Quiet);
+    Ok(())
+}
+
+/// Labels a line series in the legend with a short solid or dashed stroke of its colour.
+pub(crate) fn line_legend<DB: DrawingBackend>(
+    anno: &mut SeriesAnno<'_, DB>,
+    label: &str,
+    colour: RGBColor,
+    dashed: bool,
+) {
+    let anno = anno.label(label);
+    if dashed {
+        anno.legend(move |(x, y)| {
+            plotters::element::DashedPathElement::new(
+                vec![(x, y), (x + 18, y)],
+                5,
+                3,
+                colour.stroke_width(2),
+            )
+        });
+    } else {
+        anno.legend(move |(x, y)| {
+            PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
+        });
     }
 }
 

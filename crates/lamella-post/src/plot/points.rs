@@ -18,8 +18,8 @@ use super::map::{
     BAR_LABELS_WIDTH, BAR_THICKNESS, MARGIN, Scale, TITLE_HEIGHT, draw_bar, draw_title,
 };
 use super::{
-    AxisFormat, COLOURS, DESC_PX, FONT, PlotError, Series, Style, TICK_PX, axis_range, encode_png,
-    place_legend, register_font, ticks, x_label_area, y_label_area,
+    AxisFormat, COLOURS, DESC_PX, FONT, PlotError, Series, Style, TICK_PX, axis_range, draw_axes,
+    encode_png, line_legend, place_legend, register_font, ticks, x_label_area, y_label_area,
 };
 
 /// Radius of a circle marker and half the side of a square one (px).
@@ -179,24 +179,7 @@ impl PointMap {
             ))
             .build_cartesian_2d(xc, yc)
             .map_err(|e| e.to_string())?;
-        stage(
-            &record,
-            Stage::Axes {
-                x_title: x_axis.label.clone(),
-                y_title: y_axis.label.clone(),
-            },
-        );
-        chart
-            .configure_mesh()
-            .x_desc(&x_axis.label)
-            .y_desc(&y_axis.label)
-            .label_style((FONT, TICK_PX))
-            .axis_desc_style((FONT, DESC_PX))
-            .x_label_formatter(&|v| x_axis.tick(*v))
-            .y_label_formatter(&|v| y_axis.tick(*v))
-            .draw()
-            .map_err(|e| e.to_string())?;
-        stage(&record, Stage::Quiet);
+        draw_axes(&mut chart, &record, &x_axis, &y_axis)?;
         let shown = |x: f64, y: f64| {
             x.is_finite() && y.is_finite() && (!self.log_x || x > 0.0) && (!self.log_y || y > 0.0)
         };
@@ -214,20 +197,7 @@ impl PointMap {
                 Style::Line | Style::Points => chart.draw_series(LineSeries::new(points, style)),
             }
             .map_err(|e| e.to_string())?;
-            if s.style == Style::Dashed {
-                anno.label(s.label.clone()).legend(move |(x, y)| {
-                    plotters::element::DashedPathElement::new(
-                        vec![(x, y), (x + 18, y)],
-                        5,
-                        3,
-                        colour.stroke_width(2),
-                    )
-                });
-            } else {
-                anno.label(s.label.clone()).legend(move |(x, y)| {
-                    PathElement::new(vec![(x, y), (x + 18, y)], colour.stroke_width(2))
-                });
-            }
+            line_legend(anno, &s.label, colour, s.style == Style::Dashed);
         }
         let mut markers = Vec::new();
         for positive in [true, false] {
