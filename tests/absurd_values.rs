@@ -5,10 +5,7 @@
 use std::process::{Command, Output};
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .args(args)
-        .output()
-        .unwrap()
+    lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
 }
 
 fn assert_refused(out: &Output, args: &[&str], words: &[&str]) {

@@ -3,7 +3,7 @@
 //! of NaN. Each is refused with exit code 2 and a message naming the file; nothing panics.
 
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 
 use glam::DVec3;
 use lamella_run::output::{SnapshotMeta, read_snapshot, write_snapshot};
@@ -33,11 +33,10 @@ const CASE: &str = r#"
 "#;
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .arg("--quiet")
-        .args(args)
-        .output()
-        .unwrap()
+    lamella_suite::run(
+        env!("CARGO_BIN_EXE_lamella"),
+        &[&["--quiet"], args].concat(),
+    )
 }
 
 /// A finished run of [`CASE`] in `dir/run`.

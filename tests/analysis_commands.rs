@@ -11,7 +11,7 @@
 //!   real PNG of the expected size and more than one colour, each value in its range.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
 use std::sync::atomic::AtomicBool;
 
 use glam::DVec2;
@@ -23,10 +23,7 @@ use lamella_sph::Kind;
 use lamella_suite::cases_dir;
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .args(args)
-        .output()
-        .expect("lamella starts")
+    lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
 }
 
 fn write_case(case: &Case, path: &Path) {

@@ -2,13 +2,10 @@
 //! are complete and consistent, and bad options are refused with exit code 2. (What they
 //! measure is not asserted: speed is a benchmark's business, never a test's.)
 
-use std::process::{Command, Output};
+use std::process::Output;
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .args(args)
-        .output()
-        .expect("the lamella binary runs")
+    lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
 }
 
 fn case(name: &str) -> String {

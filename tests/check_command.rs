@@ -2,22 +2,16 @@
 //! (the one `lamella stability` uses), and warnings, never refusals, for magnitudes that are
 //! likely unit slips and for a drive that cannot give the expected speed.
 
+use lamella_suite::text;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .args(args)
-        .output()
-        .expect("the lamella binary runs")
+    lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
 }
 
 fn bundled(name: &str) -> PathBuf {
     lamella_suite::cases_dir().join(name)
-}
-
-fn text(bytes: &[u8]) -> String {
-    String::from_utf8_lossy(bytes).into_owned()
 }
 
 /// `lamella check` on the bundled two-layer channel with `from` replaced by `to`: its report.

@@ -1,19 +1,13 @@
 //! Command-line tests of `check`, `new`, `run` input handling and `--help`, run on the binary.
 
+use lamella_suite::text;
 use std::path::Path;
 use std::process::{Command, Output};
 
 use lamella_suite::{bundled_cases, workspace_root as root};
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .args(args)
-        .output()
-        .expect("the lamella binary runs")
-}
-
-fn text(bytes: &[u8]) -> String {
-    String::from_utf8_lossy(bytes).into_owned()
+    lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
 }
 
 fn path_str(path: &Path) -> &str {

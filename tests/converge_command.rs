@@ -2,17 +2,14 @@
 //! holds an earlier study, and a refused study writes nothing.
 
 use std::path::PathBuf;
-use std::process::{Command, Output};
+use std::process::Output;
 
 fn couette() -> PathBuf {
     lamella_suite::cases_dir().join("couette.ron")
 }
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .args(args)
-        .output()
-        .expect("lamella starts")
+    lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
 }
 
 fn stderr(out: &Output) -> String {

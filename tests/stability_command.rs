@@ -1,17 +1,11 @@
 //! Command-line tests of `lamella stability`, run on the binary.
 
+use lamella_suite::text;
 use std::path::Path;
-use std::process::{Command, Output};
+use std::process::Output;
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .args(args)
-        .output()
-        .expect("the lamella binary runs")
-}
-
-fn text(bytes: &[u8]) -> String {
-    String::from_utf8_lossy(bytes).into_owned()
+    lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
 }
 
 fn case(name: &str) -> String {

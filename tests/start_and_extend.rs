@@ -2,14 +2,13 @@
 //! and `lamella resume DIR --until T` (a finished run extended), on the binary.
 
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+use std::process::Output;
 
 fn lamella(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_lamella"))
-        .arg("--quiet")
-        .args(args)
-        .output()
-        .expect("the lamella binary runs")
+    lamella_suite::run(
+        env!("CARGO_BIN_EXE_lamella"),
+        &[&["--quiet"], args].concat(),
+    )
 }
 
 fn path_str(path: &Path) -> &str {

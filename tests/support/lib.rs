@@ -1,11 +1,12 @@
 //! Shared helpers for Lamella's workspace-level tests and benchmarks: paths to the bundled
-//! cases, the layered channel of the validations ([`layered`]) and its runs at large viscosity
-//! ratios ([`viscous_layers`]).
+//! cases, running the `lamella` binary ([`run`], [`text`]), the layered channel of the
+//! validations ([`layered`]) and its runs at large viscosity ratios ([`viscous_layers`]).
 
 pub mod layered;
 pub mod viscous_layers;
 
 use std::path::PathBuf;
+use std::process::{Command, Output};
 
 /// The workspace root (the folder holding the top-level `Cargo.toml`).
 pub fn workspace_root() -> PathBuf {
@@ -26,4 +27,18 @@ pub fn bundled_cases() -> Vec<PathBuf> {
         .collect();
     cases.sort();
     cases
+}
+
+/// Runs `binary` (a test passes `env!("CARGO_BIN_EXE_lamella")`, which only test crates see)
+/// with `args` and returns its output; panics if it cannot start.
+pub fn run(binary: &str, args: &[&str]) -> Output {
+    Command::new(binary)
+        .args(args)
+        .output()
+        .unwrap_or_else(|err| panic!("{binary} does not start: {err}"))
+}
+
+/// Output bytes as text, invalid UTF-8 replaced.
+pub fn text(bytes: &[u8]) -> String {
+    String::from_utf8_lossy(bytes).into_owned()
 }

@@ -24,6 +24,7 @@ mod map;
 mod points;
 pub use axis::AxisFormat;
 pub use layout::{Layout, Rect, Role, TextBox};
+use map::MARGIN;
 pub use map::{MapFrame, field_map, field_map_layout, scatter_map, scatter_map_layout};
 pub use points::{PointMap, ValuedPoint};
 
@@ -169,7 +170,7 @@ impl Chart {
             };
             let (lx, ly) = (self.log_x, self.log_y);
             let xt = || ticks(&xr, lx);
-            let yt = || ticks(yr, ly);
+            let yt = || y_ticks.clone();
             let layout = match (lx, ly) {
                 (false, false) => self.draw(&mut pixels, &frame, xr.clone(), yr.clone()),
                 (true, false) => self.draw(
@@ -442,8 +443,6 @@ fn headroom(range: &Range<f64>, log: bool, fraction: f64) -> Range<f64> {
     }
 }
 
-/// Blank border around a chart (px).
-const MARGIN: u32 = 12;
 /// Font size of tick labels and legend entries (px).
 const TICK_PX: u32 = 14;
 /// Font size of axis titles (px).

@@ -173,6 +173,16 @@ impl<V: Vector> Recorder<V> {
         })
     }
 
+    /// Where the run began: the time of its first snapshot (t = 0, or the time of the state it
+    /// started from), when the folder holds one with a finite time.
+    pub fn run_start(&self) -> Option<f64> {
+        self.collection
+            .entries()
+            .first()
+            .map(|e| e.time)
+            .filter(|t| t.is_finite())
+    }
+
     /// The run folder.
     pub fn folder(&self) -> &RunFolder {
         &self.folder

@@ -67,14 +67,9 @@ impl PointProgress {
                 }
                 self.last_shown = now;
                 let elapsed = now.duration_since(self.started).as_secs_f64();
-                let eta = if done > 0 {
-                    format!(
-                        "{:.0} s",
-                        elapsed * (self.total - done.min(self.total)) as f64 / done as f64
-                    )
-                } else {
-                    "unknown".to_string()
-                };
+                let fraction = done.min(self.total) as f64 / self.total.max(1) as f64;
+                let eta = crate::progress::eta_seconds(elapsed, 0.0, fraction)
+                    .map_or_else(|| "unknown".to_string(), |s| format!("{s:.0} s"));
                 crate::note!("{done} of {} {}s solved, ETA {eta}", self.total, self.what);
             }
         }

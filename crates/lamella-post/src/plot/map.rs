@@ -21,7 +21,7 @@ use super::{AxisFormat, FONT, PlotError, encode_png, fit_text, register_font};
 
 /// Height of the title band (px).
 pub(crate) const TITLE_HEIGHT: u32 = 36;
-/// Blank border around the map and around the colour bar (px).
+/// Blank border around a chart or map and around the colour bar (px).
 pub(crate) const MARGIN: u32 = 12;
 /// Band under the map for the x tick labels and axis label (px).
 const X_AXIS_HEIGHT: u32 = 48;

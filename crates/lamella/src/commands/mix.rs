@@ -95,11 +95,13 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
     let dx = case.particles.spacing;
     let lower = V::from_fn(|a| case.domain.lower[a]);
     let upper = V::from_fn(|a| case.domain.upper[a]);
+    // Default: cells of two spacings.
+    let default_cells: Vec<usize> = (0..dim)
+        .map(|a| ((case.extent(a) / (2.0 * dx)).round() as usize).max(1))
+        .collect();
     let cells: Vec<usize> = match &args.grid {
         Some(text) => parse_list(text, "--grid").map_err(Failure::BadInput)?,
-        None => (0..dim)
-            .map(|a| ((case.extent(a) / (2.0 * dx)).round() as usize).max(1))
-            .collect(),
+        None => default_cells.clone(),
     };
     let grid = Grid::new(lower, upper, &cells).ok_or_else(|| {
         Failure::BadInput(format!(
@@ -229,8 +231,9 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
                 .map(usize::to_string)
                 .collect::<Vec<_>>()
                 .join(","),
-            (0..dim)
-                .map(|a| (((case.extent(a) / (2.0 * dx)).round() as usize).max(1)).to_string())
+            default_cells
+                .iter()
+                .map(usize::to_string)
                 .collect::<Vec<_>>()
                 .join(",")
         ));

@@ -15,7 +15,6 @@ use crate::commands::{Globals, run_recorded};
 use crate::signals::interrupt_flag;
 use lamella_run::feasibility::load_case;
 use lamella_run::output::checkpoint::{checksum, outside_by};
-use lamella_run::output::collection::Collection;
 use lamella_run::output::{Checkpoint, CheckpointStore, RunFolder};
 use lamella_run::recorder::Recorder;
 use lamella_run::{RunError, setup};
@@ -98,13 +97,9 @@ fn resume_case<V: Vector>(
         crate::note!("warning: skipping a checkpoint that cannot be used: {skipped}");
     }
     let checkpoint = restored.checkpoint;
-    // Where the run began: its first snapshot (t = 0, or the time of the state it started
-    // from); the progress bar spans the whole run from there.
-    let run_start = Collection::read(&folder.collection())
-        .ok()
-        .and_then(|c| c.entries().first().map(|e| e.time))
-        .filter(|t| t.is_finite());
     let mut recorder = Recorder::resume(folder, case, case_text, &checkpoint)?;
+    // The progress bar spans the whole run from its first snapshot.
+    let run_start = recorder.run_start();
     for skipped in &restored.skipped {
         recorder.note(&format!(
             "skipped a checkpoint that cannot be used: {skipped}"
