@@ -305,18 +305,7 @@ impl Chart {
                 line_legend(anno, &s.label, colour, s.style == Style::Dashed);
             }
         }
-        stage(&record, Stage::Legend);
-        chart
-            .configure_series_labels()
-            .position(frame.legend.clone())
-            .label_font((FONT, TICK_PX))
-            .background_style(WHITE.mix(0.85))
-            .border_style(BLACK)
-            .draw()
-            .map_err(|e| e.to_string())?;
-        stage(&record, Stage::Quiet);
-        let (px, py) = chart.plotting_area().get_pixel_range();
-        let plot = Rect::spanning((px.start, py.start), (px.end, py.end));
+        let plot = draw_legend(&mut chart, &record, &frame.legend, 0.85)?;
         root.present().map_err(|e| e.to_string())?;
         let layout = record.borrow().layout(frame.size, Some(plot), markers);
         Ok(layout)
@@ -355,6 +344,33 @@ where
         .map_err(|e| e.to_string())?;
     stage(record, Stage::Quiet);
     Ok(())
+}
+
+/// Draws the legend of `chart` in `corner` on a white box of `opacity`, telling the layout
+/// `record` which texts are the legend's, and returns the plot area's rectangle.
+pub(crate) fn draw_legend<'a, DB, X, Y>(
+    chart: &mut ChartContext<'a, DB, Cartesian2d<X, Y>>,
+    record: &Recording,
+    corner: &SeriesLabelPosition,
+    opacity: f64,
+) -> Result<Rect, String>
+where
+    DB: DrawingBackend + 'a,
+    X: Ranged,
+    Y: Ranged,
+{
+    stage(record, Stage::Legend);
+    chart
+        .configure_series_labels()
+        .position(corner.clone())
+        .label_font((FONT, TICK_PX))
+        .background_style(WHITE.mix(opacity))
+        .border_style(BLACK)
+        .draw()
+        .map_err(|e| e.to_string())?;
+    stage(record, Stage::Quiet);
+    let (px, py) = chart.plotting_area().get_pixel_range();
+    Ok(Rect::spanning((px.start, py.start), (px.end, py.end)))
 }
 
 /// Labels a line series in the legend with a short solid or dashed stroke of its colour.

@@ -13,13 +13,14 @@ use plotters::element::{Drawable, PointCollection};
 use plotters::prelude::*;
 use plotters_backend::{BackendCoord, DrawingErrorKind};
 
-use super::layout::{Layout, Recorder, Recording, Rect, Stage, stage};
+use super::layout::{Layout, Recorder, Recording, Rect};
 use super::map::{
     BAR_LABELS_WIDTH, BAR_THICKNESS, MARGIN, Scale, TITLE_HEIGHT, draw_bar, draw_title,
 };
 use super::{
-    AxisFormat, COLOURS, DESC_PX, FONT, PlotError, Series, Style, TICK_PX, axis_range, draw_axes,
-    encode_png, line_legend, place_legend, register_font, ticks, x_label_area, y_label_area,
+    AxisFormat, COLOURS, DESC_PX, PlotError, Series, Style, TICK_PX, axis_range, draw_axes,
+    draw_legend, encode_png, line_legend, place_legend, register_font, ticks, x_label_area,
+    y_label_area,
 };
 
 /// Radius of a circle marker and half the side of a square one (px).
@@ -225,18 +226,7 @@ impl PointMap {
             anno.label(label.clone())
                 .legend(move |(x, y)| marker((x + 9, y), positive, swatch));
         }
-        stage(&record, Stage::Legend);
-        chart
-            .configure_series_labels()
-            .position(corner.clone())
-            .label_font((FONT, TICK_PX))
-            .background_style(WHITE.mix(0.9))
-            .border_style(BLACK)
-            .draw()
-            .map_err(|e| e.to_string())?;
-        stage(&record, Stage::Quiet);
-        let (px, py) = chart.plotting_area().get_pixel_range();
-        let plot = Rect::spanning((px.start, py.start), (px.end, py.end));
+        let plot = draw_legend(&mut chart, &record, corner, 0.9)?;
         draw_bar(&bar_area, &record, &scale, &self.value_label, x_area)?;
         root.present().map_err(|e| e.to_string())?;
         let layout = record.borrow().layout(size, Some(plot), markers);
