@@ -413,3 +413,33 @@ fn implausible_magnitudes_warn_with_the_likely_unit_slip() {
     };
     assert!(messages(&case).is_empty(), "{:?}", messages(&case));
 }
+
+/// A moving wall that meets another wall (a lid corner) adds a sound-speed bound: Morris, Fox &
+/// Zhu 1997's viscous bound with the spacing as its length, c0² ≥ ν_max U_w/(dx δ), since the
+/// velocity jumps from U_w to zero over one spacing there. A plate sliding over a periodic
+/// channel has no corner and keeps the three bounds.
+#[test]
+fn a_lid_corner_adds_the_viscous_bound_over_one_spacing() {
+    use lamella_case::{Side, Wall};
+    let base = PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("tests/base.ron");
+    let mut case = load(&base).expect("the base case is valid");
+    case.walls[1].velocity = Some(vec![0.1, 0.0]);
+    assert_eq!(case.lid_corner_speed(), None, "periodic along x: no corner");
+    assert_eq!(case.sound_speed_criteria().len(), 3);
+
+    case.domain.periodic.clear();
+    for side in [Side::Left, Side::Right] {
+        case.walls.push(Wall {
+            side,
+            layers: 3,
+            velocity: None,
+        });
+    }
+    assert_eq!(case.lid_corner_speed(), Some(0.1));
+    let criteria = case.sound_speed_criteria();
+    assert_eq!(criteria.len(), 4);
+    assert_eq!(criteria[3].name, "lid corner");
+    // ν_max = 4e-3/1000 m²/s, U_w = 0.1 m/s, dx = 5e-5 m, δ = 0.01: c0² = 0.8 m²/s².
+    assert!((criteria[3].sound_speed - 0.8f64.sqrt()).abs() < 1e-12);
+    assert_eq!(case.sound_speed(), criteria[3].sound_speed);
+}

@@ -153,9 +153,9 @@ fn summary(path: &Path, case: &Case) -> String {
         .map(|c| format!("{} {} m/s", c.name, sig(c.sound_speed)))
         .collect();
     let how = if case.scales.sound_speed.is_some() {
-        "as given".to_string()
+        "as given"
     } else {
-        "the largest of Morris, Fox & Zhu 1997's bounds".to_string()
+        "the largest of the bounds"
     };
     let _ = writeln!(
         s,
