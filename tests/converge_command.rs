@@ -1,5 +1,6 @@
-//! `lamella converge` refusals, run on the binary: a study never starts into a folder that
-//! holds an earlier study, and a refused study writes nothing.
+//! `lamella converge` refusals, run on the binary: a case with no analytical profile is refused
+//! with the reason, a study never starts into a folder that holds an earlier study, and a
+//! refused study writes nothing.
 
 use std::path::PathBuf;
 use std::process::Output;
@@ -66,4 +67,29 @@ fn a_refused_study_leaves_no_folder_behind() {
         "the refused study left {}",
         study.display()
     );
+}
+
+#[test]
+fn a_case_without_an_analytical_profile_is_refused_with_the_reason() {
+    let dir = tempfile::tempdir().unwrap();
+    let study = dir.path().join("study");
+    let cavity = lamella_suite::cases_dir().join("cavity-re100.ron");
+    let out = lamella(&[
+        "converge",
+        cavity.to_str().unwrap(),
+        "--spacings",
+        "1e-4,5e-5",
+        "--out",
+        study.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains(
+            "no analytical profile for this case (the domain is not periodic along x, as a \
+             channel is)"
+        ),
+        "{}",
+        stderr(&out)
+    );
+    assert!(!study.exists());
 }

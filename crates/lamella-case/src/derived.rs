@@ -276,6 +276,15 @@ impl Case {
             .collect()
     }
 
+    /// True when the two layers of `pair` have one density: equal within a relative 1e-9 of
+    /// the lower layer's. The stability analysis and the eigenmode seed assume equal densities
+    /// and refuse layers that differ by more.
+    pub fn layers_share_density(&self, pair: &LayerPair) -> bool {
+        let lower = self.phases[pair.lower].density;
+        let upper = self.phases[pair.upper].density;
+        (lower - upper).abs() <= 1e-9 * lower.abs()
+    }
+
     /// The interface whose growth a run records and `lamella growth` measures: the lowest pair
     /// of adjacent layers of different phases. `None` unless the case is layered.
     pub fn tracked_interface(&self) -> Option<LayerPair> {

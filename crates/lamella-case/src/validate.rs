@@ -687,9 +687,10 @@ impl Case {
         }
         let driven_two_layers = matches!(
             self.channel_flow(),
-            Some(ChannelFlow::TwoLayers { force_density, upper_force_density, .. })
-                if force_density != 0.0 && upper_force_density == force_density
-        );
+            Some(ChannelFlow::TwoLayers { force_density, .. }) if force_density != 0.0
+        ) && self
+            .tracked_interface()
+            .is_some_and(|pair| self.layers_share_density(&pair));
         if !driven_two_layers {
             c.bad(
                 "interface_perturbation.mode",

@@ -2,7 +2,7 @@
 
 use std::path::PathBuf;
 
-use lamella_case::{Case, ChannelFlow, load};
+use lamella_case::{Case, ChannelFlow, SeedMode, load};
 
 fn case(name: &str) -> Case {
     let path = PathBuf::from(env!("CARGO_MANIFEST_DIR"))
@@ -106,4 +106,26 @@ fn unequal_densities_drive_each_layer_by_its_own_force_and_non_channels_say_why(
     closed.domain.periodic.clear();
     let why = closed.channel_flow_or_why().unwrap_err();
     assert!(why.contains("not periodic along x"), "{why}");
+}
+
+#[test]
+fn layers_share_a_density_within_a_relative_1e_9_for_the_eigenmode_seed() {
+    // The eigenmode seed and the stability analysis assume one density; the rule they share
+    // allows a relative difference of 1e-9 (of the lower layer's density), no more.
+    let mut c = case("interface-growth.ron");
+    c.interface_perturbation.as_mut().expect("seeded").mode = SeedMode::Eigenmode;
+    let pair = c.tracked_interface().expect("two layers");
+    let density = c.phases[pair.lower].density;
+    let mode_problems = |c: &Case| {
+        c.validate()
+            .iter()
+            .filter(|p| p.path() == Some("interface_perturbation.mode"))
+            .count()
+    };
+    c.phases[pair.upper].density = density * (1.0 + 1e-12);
+    assert!(c.layers_share_density(&pair));
+    assert_eq!(mode_problems(&c), 0, "{:#?}", c.validate());
+    c.phases[pair.upper].density = density * (1.0 + 1e-6);
+    assert!(!c.layers_share_density(&pair));
+    assert_eq!(mode_problems(&c), 1, "{:#?}", c.validate());
 }

@@ -168,31 +168,13 @@ impl Chart {
                 y_ticks: &y_ticks,
                 legend: corner.clone(),
             };
-            let (lx, ly) = (self.log_x, self.log_y);
-            let xt = || ticks(&xr, lx);
-            let yt = || y_ticks.clone();
-            let layout = match (lx, ly) {
-                (false, false) => self.draw(&mut pixels, &frame, xr.clone(), yr.clone()),
-                (true, false) => self.draw(
-                    &mut pixels,
-                    &frame,
-                    xr.clone().log_scale().with_key_points(xt()),
-                    yr.clone(),
-                ),
-                (false, true) => self.draw(
-                    &mut pixels,
-                    &frame,
-                    xr.clone(),
-                    yr.clone().log_scale().with_key_points(yt()),
-                ),
-                (true, true) => self.draw(
-                    &mut pixels,
-                    &frame,
-                    xr.clone().log_scale().with_key_points(xt()),
-                    yr.clone().log_scale().with_key_points(yt()),
-                ),
-            }
-            .map_err(failed)?;
+            let drawing = ChartDrawing {
+                chart: self,
+                pixels: &mut pixels,
+                frame: &frame,
+            };
+            let layout =
+                draw_on_axes(drawing, (&xr, self.log_x), (yr, self.log_y)).map_err(failed)?;
             Ok((pixels, layout))
         })?;
         let png = encode_png(&pixels, width, height).map_err(failed)?;
@@ -309,6 +291,58 @@ impl Chart {
         root.present().map_err(|e| e.to_string())?;
         let layout = record.borrow().layout(frame.size, Some(plot), markers);
         Ok(layout)
+    }
+}
+
+/// A drawing on a horizontal and a vertical axis, each linear or logarithmic: `draw` is
+/// generic over the axes' coordinate types, which [`draw_on_axes`] picks at run time.
+trait OnAxes {
+    /// Draws with `x` and `y` as the coordinates of the axes and returns the layout drawn.
+    fn draw<X, Y>(self, x: X, y: Y) -> Result<Layout, String>
+    where
+        X: AsRangedCoord<Value = f64>,
+        Y: AsRangedCoord<Value = f64>,
+        X::CoordDescType: ValueFormatter<f64>,
+        Y::CoordDescType: ValueFormatter<f64>;
+}
+
+/// Draws `drawing` over the ranges `x` and `y`, each on a logarithmic scale (with the ticks of
+/// [`ticks`] as its key points) where its flag is set, else on a linear one.
+fn draw_on_axes(
+    drawing: impl OnAxes,
+    (x, log_x): (&Range<f64>, bool),
+    (y, log_y): (&Range<f64>, bool),
+) -> Result<Layout, String> {
+    let log = |range: &Range<f64>| {
+        range
+            .clone()
+            .log_scale()
+            .with_key_points(ticks(range, true))
+    };
+    match (log_x, log_y) {
+        (false, false) => drawing.draw(x.clone(), y.clone()),
+        (true, false) => drawing.draw(log(x), y.clone()),
+        (false, true) => drawing.draw(x.clone(), log(y)),
+        (true, true) => drawing.draw(log(x), log(y)),
+    }
+}
+
+/// A [`Chart`] to draw into `pixels` in `frame`.
+struct ChartDrawing<'a> {
+    chart: &'a Chart,
+    pixels: &'a mut [u8],
+    frame: &'a Frame<'a>,
+}
+
+impl OnAxes for ChartDrawing<'_> {
+    fn draw<X, Y>(self, x: X, y: Y) -> Result<Layout, String>
+    where
+        X: AsRangedCoord<Value = f64>,
+        Y: AsRangedCoord<Value = f64>,
+        X::CoordDescType: ValueFormatter<f64>,
+        Y::CoordDescType: ValueFormatter<f64>,
+    {
+        self.chart.draw(self.pixels, self.frame, x, y)
     }
 }
 

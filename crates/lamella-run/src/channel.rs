@@ -6,7 +6,7 @@
 //! of the steady layered profile (Bird, Stewart & Lightfoot §2.5), Re = ρ U_max h/μ_lower,
 //! α = k h, growth rate α c_i U_max/h (Yih 1967, J. Fluid Mech. 27).
 
-use lamella_case::{Axis, Case, LayerPair, Side};
+use lamella_case::{Case, ChannelFlow, LayerPair};
 use lamella_post::stability::{
     ChannelScales, LayeredChannel, StabilityError, StabilityProblem, c64,
 };
@@ -20,7 +20,7 @@ pub enum ChannelError {
          layer boundaries"
     )]
     Layers(usize),
-    /// Not a plane channel with fixed walls, periodic along x, filled by the layers.
+    /// Not a two-layer channel between fixed walls: why, as [`Case::channel_flow_or_why`] says.
     #[error("{0}")]
     Shape(String),
     /// The two layers differ in density.
@@ -60,16 +60,18 @@ pub struct CaseChannel {
 }
 
 impl CaseChannel {
-    /// The channel of `case`: two layers of one density filling a plane channel between
-    /// fixed walls, periodic along x, driven by a body force along x.
+    /// The channel of `case`: a two-layer channel as [`Case::channel_flow_or_why`] knows it
+    /// (fixed walls, periodic along x, the layers filling the height), of one density
+    /// ([`Case::layers_share_density`]), driven by a body force along x.
     pub fn of(case: &Case) -> Result<Self, ChannelError> {
         let pairs = case.layer_pairs();
-        let [pair] = pairs.as_slice() else {
-            return Err(ChannelError::Layers(pairs.len()));
+        let (pair, force_density) = match (pairs.as_slice(), case.channel_flow_or_why()) {
+            ([pair], Ok(ChannelFlow::TwoLayers { force_density, .. })) => (pair, force_density),
+            ([_], Err(why)) => return Err(ChannelError::Shape(why)),
+            _ => return Err(ChannelError::Layers(pairs.len())),
         };
-        require_channel(case).map_err(ChannelError::Shape)?;
         let (lower, upper) = (&case.phases[pair.lower], &case.phases[pair.upper]);
-        if (lower.density - upper.density).abs() > 1e-9 * lower.density.abs() {
+        if !case.layers_share_density(pair) {
             return Err(ChannelError::Densities {
                 lower: lower.name.clone(),
                 upper: upper.name.clone(),
@@ -77,17 +79,14 @@ impl CaseChannel {
                 upper_density: upper.density,
             });
         }
-        let force = case
-            .body_force
-            .as_ref()
-            .map(|f| f[0])
-            .filter(|f| *f != 0.0)
-            .ok_or(ChannelError::NoDrive)?;
+        if force_density == 0.0 {
+            return Err(ChannelError::NoDrive);
+        }
         let channel = LayeredChannel::two_layer(pair.viscosity_ratio, pair.width_ratio)?;
         let scales = ChannelScales::new(
             &channel,
             case.extent(1) / 2.0,
-            lower.density * force.abs(),
+            force_density.abs(),
             lower.density,
             lower.viscosity_law.reference_viscosity(),
         );
@@ -95,7 +94,7 @@ impl CaseChannel {
             pair: pair.clone(),
             channel,
             scales,
-            direction: force.signum(),
+            direction: force_density.signum(),
         })
     }
 
@@ -125,34 +124,52 @@ impl CaseChannel {
     }
 }
 
-/// A plane channel: fixed walls at the bottom and top, periodic along x, layers filling the
-/// height.
-fn require_channel(case: &Case) -> Result<(), String> {
-    for side in [Side::Bottom, Side::Top] {
-        match case.walls.iter().find(|w| w.side == side) {
-            None => return Err(format!("the channel needs a wall at the {side:?} side")),
-            Some(w)
-                if w.velocity
-                    .as_ref()
-                    .is_some_and(|v| v.iter().any(|x| *x != 0.0)) =>
-            {
-                return Err(format!(
-                    "the {side:?} wall moves; the analysis is for fixed walls"
-                ));
-            }
-            Some(_) => {}
-        }
+#[cfg(test)]
+mod tests {
+    use super::{CaseChannel, ChannelError};
+    use lamella_case::Case;
+    use std::path::Path;
+
+    fn growing() -> Case {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../../cases/interface-growth.ron");
+        lamella_case::load(&path).expect("bundled case")
     }
-    if !case.is_periodic(Axis::X) {
-        return Err("the channel must be periodic along x".into());
+
+    #[test]
+    fn densities_are_one_within_a_relative_1e_9() {
+        let mut case = growing();
+        let upper = case.tracked_interface().expect("two layers").upper;
+        let density = case.phases[upper].density;
+        case.phases[upper].density = density * (1.0 + 1e-12);
+        assert!(CaseChannel::of(&case).is_ok());
+        case.phases[upper].density = density * (1.0 + 1e-6);
+        assert!(matches!(
+            CaseChannel::of(&case),
+            Err(ChannelError::Densities { .. })
+        ));
     }
-    let bands = case.layer_bands();
-    let (lo, hi) = (case.domain.lower[1], case.domain.upper[1]);
-    let tol = 1e-9 * (hi - lo);
-    let covers = bands.first().is_some_and(|b| (b.bottom - lo).abs() <= tol)
-        && bands.last().is_some_and(|b| (b.top - hi).abs() <= tol);
-    if !covers {
-        return Err("the two layers must fill the channel from the bottom to the top".into());
+
+    #[test]
+    fn the_channel_is_the_one_the_references_know_and_driven_along_x() {
+        let mut across = growing();
+        across.body_force.as_mut().expect("driven")[1] = 1.0;
+        let why = across.channel_flow_or_why().expect_err("a force across");
+        assert_eq!(CaseChannel::of(&across), Err(ChannelError::Shape(why)));
+        let mut sliding = growing();
+        let top = sliding
+            .walls
+            .iter_mut()
+            .find(|w| w.side == lamella_case::Side::Top);
+        top.expect("a top wall").velocity = Some(vec![1.0e-3, 0.0]);
+        assert!(matches!(
+            CaseChannel::of(&sliding),
+            Err(ChannelError::Shape(_))
+        ));
+        let mut undriven = growing();
+        undriven.body_force = None;
+        assert_eq!(CaseChannel::of(&undriven), Err(ChannelError::NoDrive));
+        let mut one_layer = growing();
+        one_layer.regions.truncate(1);
+        assert_eq!(CaseChannel::of(&one_layer), Err(ChannelError::Layers(0)));
     }
-    Ok(())
 }

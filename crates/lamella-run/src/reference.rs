@@ -102,10 +102,16 @@ impl Reference {
     }
 }
 
-/// The reference of a channel case ([`Case::channel_flow`]); `None` for anything else.
+/// The reference of a channel case ([`channel_reference_or_why`]); `None` for anything else.
 pub fn channel_reference(case: &Case) -> Option<Reference> {
+    channel_reference_or_why(case).ok()
+}
+
+/// The reference of a channel case ([`Case::channel_flow_or_why`]), or why the case has none
+/// (a sentence naming the case setting that rules it out).
+pub fn channel_reference_or_why(case: &Case) -> Result<Reference, String> {
     let from_rest = !matches!(case.initial_velocity, InitialVelocity::SteadyChannel);
-    Some(match case.channel_flow()? {
+    Ok(match case.channel_flow_or_why()? {
         ChannelFlow::TwoLayers {
             lower_width,
             upper_width,

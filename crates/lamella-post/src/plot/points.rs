@@ -18,9 +18,9 @@ use super::map::{
     BAR_LABELS_WIDTH, BAR_THICKNESS, MARGIN, Scale, TITLE_HEIGHT, draw_bar, draw_title,
 };
 use super::{
-    AxisFormat, COLOURS, DESC_PX, PlotError, Series, Style, TICK_PX, axis_range, draw_axes,
-    draw_legend, encode_png, line_legend, place_legend, register_font, ticks, x_label_area,
-    y_label_area,
+    AxisFormat, COLOURS, DESC_PX, OnAxes, PlotError, Series, Style, TICK_PX, axis_range, draw_axes,
+    draw_legend, draw_on_axes, encode_png, line_legend, place_legend, register_font, ticks,
+    x_label_area, y_label_area,
 };
 
 /// Radius of a circle marker and half the side of a square one (px).
@@ -101,39 +101,15 @@ impl PointMap {
         ];
         let (pixels, layout) = place_legend(corners, &yr, self.log_y, |yr, corner| {
             let mut pixels = vec![255u8; width as usize * height as usize * 3];
-            let size = (width, height);
-            let (lx, ly) = (self.log_x, self.log_y);
-            let xt = || ticks(&xr, lx);
-            let yt = || ticks(yr, ly);
-            let (x, y) = (xr.clone(), yr.clone());
-            let layout = match (lx, ly) {
-                (false, false) => self.draw(&mut pixels, size, corner, (x, y), (&xr, yr)),
-                (true, false) => self.draw(
-                    &mut pixels,
-                    size,
-                    corner,
-                    (x.log_scale().with_key_points(xt()), y),
-                    (&xr, yr),
-                ),
-                (false, true) => self.draw(
-                    &mut pixels,
-                    size,
-                    corner,
-                    (x, y.log_scale().with_key_points(yt())),
-                    (&xr, yr),
-                ),
-                (true, true) => self.draw(
-                    &mut pixels,
-                    size,
-                    corner,
-                    (
-                        x.log_scale().with_key_points(xt()),
-                        y.log_scale().with_key_points(yt()),
-                    ),
-                    (&xr, yr),
-                ),
-            }
-            .map_err(failed)?;
+            let drawing = MapDrawing {
+                map: self,
+                pixels: &mut pixels,
+                size: (width, height),
+                corner,
+                ranges: (&xr, yr),
+            };
+            let layout =
+                draw_on_axes(drawing, (&xr, self.log_x), (yr, self.log_y)).map_err(failed)?;
             Ok((pixels, layout))
         })?;
         let png = encode_png(&pixels, width, height).map_err(failed)?;
@@ -231,6 +207,29 @@ impl PointMap {
         root.present().map_err(|e| e.to_string())?;
         let layout = record.borrow().layout(size, Some(plot), markers);
         Ok(layout)
+    }
+}
+
+/// A [`PointMap`] to draw into `pixels` of `size`, with the legend in `corner`, over the
+/// horizontal and vertical `ranges`.
+struct MapDrawing<'a> {
+    map: &'a PointMap,
+    pixels: &'a mut [u8],
+    size: (u32, u32),
+    corner: &'a SeriesLabelPosition,
+    ranges: (&'a Range<f64>, &'a Range<f64>),
+}
+
+impl OnAxes for MapDrawing<'_> {
+    fn draw<X, Y>(self, x: X, y: Y) -> Result<Layout, String>
+    where
+        X: AsRangedCoord<Value = f64>,
+        Y: AsRangedCoord<Value = f64>,
+        X::CoordDescType: ValueFormatter<f64>,
+        Y::CoordDescType: ValueFormatter<f64>,
+    {
+        self.map
+            .draw(self.pixels, self.size, self.corner, (x, y), self.ranges)
     }
 }
 

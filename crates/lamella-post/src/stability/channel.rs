@@ -216,6 +216,18 @@ impl ChannelScales {
     ) -> Self {
         let peak_velocity =
             channel.base_flow().peak_coefficient() * drive * half_width.powi(2) / lower_viscosity;
+        Self::of_peak(half_width, peak_velocity, density, lower_viscosity)
+    }
+
+    /// The scales of a channel of half-width `half_width` (m) whose steady profile peaks at
+    /// `peak_velocity` (m/s), however it is driven, with lower-layer density `density`
+    /// (kg/m³) and viscosity `lower_viscosity` (Pa·s): Re = ρ U_max h/μ_lower.
+    pub fn of_peak(
+        half_width: f64,
+        peak_velocity: f64,
+        density: f64,
+        lower_viscosity: f64,
+    ) -> Self {
         Self {
             half_width,
             peak_velocity,
@@ -268,6 +280,18 @@ mod tests {
         let channel = LayeredChannel::two_layer(0.25, 0.5).unwrap();
         let flow = channel.base_flow();
         assert!((flow.peak_height() - channel.interfaces()[0]).abs() < 1e-14);
+    }
+
+    #[test]
+    fn scales_of_a_single_layer_by_hand() {
+        // Plane Poiseuille flow: U_max = G h²/(2μ) = 8 · 1e-6/(2 · 1e-3) = 4e-3 m/s, and
+        // Re = ρ U_max h/μ = 1000 · 4e-3 · 1e-3/1e-3 = 4, from the drive or from the peak.
+        let scales = ChannelScales::new(&LayeredChannel::single(), 1e-3, 8.0, 1000.0, 1e-3);
+        assert!((scales.peak_velocity - 4e-3).abs() < 1e-15);
+        assert!((scales.reynolds - 4.0).abs() < 1e-12);
+        let by_peak = ChannelScales::of_peak(1e-3, 4e-3, 1000.0, 1e-3);
+        assert!((by_peak.reynolds - 4.0).abs() < 1e-12);
+        assert_eq!((by_peak.half_width, by_peak.peak_velocity), (1e-3, 4e-3));
     }
 
     #[test]

@@ -1,5 +1,6 @@
 //! The bin-averaged streamwise velocity across the channel of a run at one time, compared with
-//! the case's analytical profile when it has one ([`crate::reference::channel_reference`]).
+//! the case's analytical profile when it has one
+//! ([`crate::reference::channel_reference_or_why`]).
 
 use std::path::Path;
 
@@ -11,16 +12,15 @@ use lamella_sph::Kind;
 use super::AnalysisError;
 use super::folder::Run;
 use crate::output::atomic::write_bytes;
-use crate::reference::{Reference, channel_reference};
+use crate::reference::{Reference, channel_reference_or_why};
 
 /// What a profile found.
 pub struct ProfileResult {
     /// Snapshot time (s).
     pub time: f64,
-    /// The comparison and the reference's name, when the case has an analytical profile.
-    pub comparison: Option<(ProfileComparison, &'static str)>,
-    /// Why there is no comparison, when there is none.
-    pub no_reference: Option<String>,
+    /// The comparison and the reference's name, or why there is no analytical profile to
+    /// compare with (the case has none, or the profile is not across y).
+    pub comparison: Result<(ProfileComparison, &'static str), String>,
     /// A note when the requested time lies outside the run (the closest snapshot was taken).
     pub time_note: Option<String>,
 }
@@ -57,21 +57,12 @@ pub fn profile(
     let value: Vec<f64> = fluid.iter().map(|&i| snap.velocity[i][component]).collect();
     let t = snap.meta.time;
     let reference = if axis == 1 {
-        channel_reference(case)
+        channel_reference_or_why(case)
     } else {
-        None
-    };
-    let no_reference = match (&reference, axis) {
-        (Some(_), _) => None,
-        (None, 1) => Some(
-            case.channel_flow_or_why()
-                .err()
-                .unwrap_or_else(|| "none for this case".into()),
-        ),
-        (None, _) => Some(format!(
+        Err(format!(
             "binned across {}; the channel references are profiles across y",
             ["x", "y", "z"][axis]
-        )),
+        ))
     };
     let bad = |e: lamella_post::profile::ProfileError| {
         AnalysisError::BadInput(format!(
@@ -80,16 +71,16 @@ pub fn profile(
         ))
     };
     let (binned, comparison) = match &reference {
-        Some(r) => {
+        Ok(r) => {
             let c = compare_with_reference(&coord, &value, lower, upper, bins, |y| {
                 r.velocity(y - lower, t)
             })
             .map_err(bad)?;
-            (c.sampled.clone(), Some((c, r.name())))
+            (c.sampled.clone(), Ok((c, r.name())))
         }
-        None => (
+        Err(why) => (
             bin_average(&coord, &value, lower, upper, bins).map_err(bad)?,
-            None,
+            Err(why.clone()),
         ),
     };
     let axis_name = ["x", "y", "z"][axis];
@@ -97,7 +88,7 @@ pub fn profile(
     let counts: Vec<u64> = binned.count.iter().map(|&n| n as u64).collect();
     let exact_bins: Vec<f64> = comparison
         .as_ref()
-        .map_or_else(|| vec![f64::NAN; bins], |(c, _)| c.reference.clone());
+        .map_or_else(|_| vec![f64::NAN; bins], |(c, _)| c.reference.clone());
     let h_pos = format!("{axis_name}_m");
     let h_sim = format!("{comp_name}_m_per_s");
     let h_ref = format!("{comp_name}_reference_m_per_s");
@@ -120,7 +111,7 @@ pub fn profile(
         y: binned.centres.clone(),
         style: Style::Points,
     }];
-    if let Some(r) = &reference {
+    if let Ok(r) = &reference {
         let n = 200;
         let ys: Vec<f64> = (0..=n)
             .map(|k| lower + (upper - lower) * k as f64 / n as f64)
@@ -144,11 +135,11 @@ pub fn profile(
         }
     }
     let title = match &comparison {
-        Some((c, _)) => format!(
+        Ok((c, _)) => format!(
             "{} at t = {t:.3} s: relative L2 error {:.2e}",
             case.title, c.relative_l2
         ),
-        None => format!("{} at t = {t:.3} s", case.title),
+        Err(_) => format!("{} at t = {t:.3} s", case.title),
     };
     let chart = Chart {
         title,
@@ -168,7 +159,6 @@ pub fn profile(
     Ok(ProfileResult {
         time: t,
         comparison,
-        no_reference,
         time_note,
     })
 }

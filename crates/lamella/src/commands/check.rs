@@ -5,6 +5,7 @@ use std::path::{Path, PathBuf};
 
 use glam::{DVec2, DVec3};
 use lamella_case::{Case, Generated, ViscosityTreatment, generate};
+use lamella_post::stability::ChannelScales;
 use lamella_sph::Limit;
 
 use crate::Failure;
@@ -239,15 +240,21 @@ fn summary(path: &Path, case: &Case) -> String {
 
 /// The Reynolds number of a case with its definition. A channel (layered or one liquid,
 /// driven by a body force or a moving wall) gets the convention of `lamella stability` and of
-/// linear stability theory (Orszag 1971; Yih 1967): Re = ρ U_max h/μ_lower, U_max the peak of
-/// the steady profile, h the channel half-width, μ_lower the viscosity of the lower layer.
-/// Anything else gets U L/ν from the case's scales and its least viscous phase.
+/// linear stability theory (Orszag 1971; Yih 1967), through the same [`ChannelScales`]:
+/// Re = ρ U_max h/μ_lower, U_max the peak of the steady profile, h the channel half-width,
+/// μ_lower the viscosity of the lower layer. Anything else gets U L/ν from the case's scales
+/// and its least viscous phase.
 pub(crate) fn reynolds(case: &Case) -> String {
     if let Some(reference) = channel_reference(case) {
         let lower = case.layer_pairs().first().map_or(0, |pair| pair.lower);
         let phase = &case.phases[lower];
-        let (peak, half_width) = (reference.steady_peak_speed(), case.extent(1) / 2.0);
         let mu = phase.viscosity_law.reference_viscosity();
+        let scales = ChannelScales::of_peak(
+            case.extent(1) / 2.0,
+            reference.steady_peak_speed(),
+            phase.density,
+            mu,
+        );
         let (mu_name, which) = if case.phases.len() > 1 {
             ("μ_lower", format!("lower liquid '{}'", phase.name))
         } else {
@@ -257,9 +264,9 @@ pub(crate) fn reynolds(case: &Case) -> String {
             "Re = ρ U_max h/{mu_name} = {} (U_max = {} m/s the peak of the steady profile, h = {} \
              m the channel half-width, ρ and {mu_name} = {} Pa·s of the {which}; the convention \
              of `lamella stability`)",
-            sig(phase.density * peak * half_width / mu),
-            sig(peak),
-            sig(half_width),
+            sig(scales.reynolds),
+            sig(scales.peak_velocity),
+            sig(scales.half_width),
             sig(mu)
         );
     }

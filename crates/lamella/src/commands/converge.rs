@@ -26,7 +26,7 @@ use lamella_run::analysis::profile::profile;
 use lamella_run::feasibility::load_case;
 use lamella_run::output::atomic::write_bytes;
 use lamella_run::output::{InterfaceTracker, RunFolder};
-use lamella_run::reference::channel_reference;
+use lamella_run::reference::channel_reference_or_why;
 
 /// Options of `lamella converge`.
 #[derive(Debug, clap::Args)]
@@ -65,14 +65,11 @@ pub struct Args {
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let mut case = load_case(&args.case)?;
     let wave_study = InterfaceTracker::of(&case).is_some();
-    if channel_reference(&case).is_none() {
+    if let Err(why) = channel_reference_or_why(&case) {
         return Err(Failure::BadInput(format!(
-            "{}: no analytical profile for this case ({}); a convergence study needs a layered \
-             channel, Poiseuille or Couette case",
-            args.case.display(),
-            case.channel_flow_or_why()
-                .err()
-                .unwrap_or_else(|| "none known".into())
+            "{}: no analytical profile for this case ({why}); a convergence study needs a \
+             layered channel, Poiseuille or Couette case",
+            args.case.display()
         )));
     }
     let spacings: Vec<f64> = parse_list(&args.spacings, "--spacings").map_err(Failure::BadInput)?;
@@ -181,8 +178,10 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let mut max = Vec::new();
     for (dx, _, dir) in &runs {
         let result = profile(&Run::open(dir)?, None, 1, None, None, None)?;
-        let (c, _) = result.comparison.ok_or_else(|| {
-            Failure::RunFailed(format!("run at spacing {dx:e} m: no analytical profile"))
+        let (c, _) = result.comparison.map_err(|why| {
+            Failure::RunFailed(format!(
+                "run at spacing {dx:e} m: no analytical profile ({why})"
+            ))
         })?;
         l2.push(c.relative_l2);
         max.push(c.max_abs);

@@ -127,10 +127,19 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
 
     let mut rows: Vec<(f64, Scalars)> = Vec::new();
     let mut notes: Vec<String> = time_note.into_iter().collect();
+    let mut start_boxes = None;
     for entry in &run.entries {
         let snap = run.read(entry)?;
-        let (scalars, fields) = analyse::<V>(&snap, &grid, domain, &kernel, radius, phases)
-            .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
+        let (scalars, fields) = analyse::<V>(
+            &snap,
+            &grid,
+            domain,
+            &kernel,
+            radius,
+            phases,
+            &mut start_boxes,
+        )
+        .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
         if entry.file == field_entry {
             write_vtk(&out_dir, case, &grid, &fields)?;
             let layout = maps::Layout {
@@ -288,6 +297,9 @@ struct Fields<V: Vector> {
     ftle: Vec<f64>,
 }
 
+/// The mixing measures of `snap`. `start_boxes` holds the box counts of the particles at their
+/// initial positions, which are the same in every snapshot of a run: the first call counts
+/// them, later calls reuse them.
 fn analyse<V: Vector>(
     snap: &Snapshot,
     grid: &Grid<V>,
@@ -295,6 +307,7 @@ fn analyse<V: Vector>(
     kernel: &Kernel,
     radius: f64,
     phases: usize,
+    start_boxes: &mut Option<BoxCounts>,
 ) -> Result<(Scalars, Fields<V>), String> {
     let fluid: Vec<usize> = (0..snap.len())
         .filter(|&i| snap.kind[i] == Kind::Fluid)
@@ -333,16 +346,9 @@ fn analyse<V: Vector>(
     };
     let (occupied_now, occupied_start) = (occupied(&sums), occupied(&start_sums));
     // Box counts on the same grid for Lacey's index and the entropy index.
-    let mut boxes = BoxCounts::new(grid.len(), phases);
-    let mut start_boxes = BoxCounts::new(grid.len(), phases);
-    for ((p, q), &k) in pos.iter().zip(&init).zip(&phase) {
-        if let Some(c) = grid.cell_of(domain.wrap(*p)) {
-            boxes.add(c, k);
-        }
-        if let Some(c) = grid.cell_of(domain.wrap(*q)) {
-            start_boxes.add(c, k);
-        }
-    }
+    let boxes = box_counts(&pos, &phase, grid, domain, phases);
+    let start_boxes =
+        &*start_boxes.get_or_insert_with(|| box_counts(&init, &phase, grid, domain, phases));
     let mut intensity = 0.0;
     for k in 0..phases {
         let now = intensity_of_segregation(&phase_column(&frac, phases, k), &occupied_now)
@@ -362,9 +368,9 @@ fn analyse<V: Vector>(
     };
     let mut lacey = 0.0;
     for k in 0..phases {
-        lacey += box_index(lacey_index(&boxes, &start_boxes, k))? / phases as f64;
+        lacey += box_index(lacey_index(&boxes, start_boxes, k))? / phases as f64;
     }
-    let entropy_idx = box_index(entropy_index(&boxes, &start_boxes))?;
+    let entropy_idx = box_index(entropy_index(&boxes, start_boxes))?;
     let unresolved = (lacey.is_nan() || entropy_idx.is_nan()).then(|| boxes.per_box());
     let among = Neighbours::among(&pos, domain, radius).map_err(|e| e.to_string())?;
     let (local, _) = phase_fractions(&among, &volume, &phase, phases, w, Some(kernel.value(0.0)));
@@ -395,6 +401,24 @@ fn analyse<V: Vector>(
         ftle: exponents,
     };
     Ok((scalars, fields))
+}
+
+/// The particles at `points`, of phases `phase`, counted in the cells of `grid` (a particle
+/// outside the grid in none).
+fn box_counts<V: Vector>(
+    points: &[V],
+    phase: &[usize],
+    grid: &Grid<V>,
+    domain: Domain<V>,
+    phases: usize,
+) -> BoxCounts {
+    let mut boxes = BoxCounts::new(grid.len(), phases);
+    for (p, &k) in points.iter().zip(phase) {
+        if let Some(c) = grid.cell_of(domain.wrap(*p)) {
+            boxes.add(c, k);
+        }
+    }
+    boxes
 }
 
 /// Writes the gridded volume fractions (`mix_fields.vti`) and the per-particle fields

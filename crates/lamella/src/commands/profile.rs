@@ -64,19 +64,15 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     }
     if !globals.quiet {
         match &result.comparison {
-            Some((c, name)) => crate::report!(
+            Ok((c, name)) => crate::report!(
                 "profile at t = {:.4} s against {name}: relative L2 error {:.4e}, max error {:.4e} m/s",
                 result.time,
                 c.relative_l2,
                 c.max_abs
             )?,
-            None => crate::report!(
-                "profile at t = {:.4} s (no analytical profile: {})",
-                result.time,
-                result
-                    .no_reference
-                    .as_deref()
-                    .unwrap_or("none for this case")
+            Err(why) => crate::report!(
+                "profile at t = {:.4} s (no analytical profile: {why})",
+                result.time
             )?,
         }
     }
