@@ -316,7 +316,9 @@ fn a_closed_stderr_or_stdout_never_stops_a_run_without_its_results() {
 #[test]
 fn a_run_folder_in_use_is_refused_naming_its_holder_and_a_killed_holder_frees_it() {
     let dir = tempfile::tempdir().unwrap();
-    let intervals = 4000.0;
+    // Far longer than any of the runs below lasts before it is stopped: on a busy machine a
+    // run of 4000 intervals once finished before its interrupt arrived.
+    let intervals = 40000.0;
     let case = write_case(dir.path(), intervals);
     let out = dir.path().join("run");
     let first = run_command(&case, &out).spawn().unwrap();
