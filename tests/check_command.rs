@@ -150,3 +150,30 @@ fn a_body_force_far_too_strong_for_the_expected_speed_is_a_warning() {
     );
     assert!(!report.contains("expected_max_speed"), "{report}");
 }
+
+/// A lid corner adds a sound-speed bound (the viscous bound of Morris, Fox & Zhu 1997 over one
+/// spacing): `check` lists it, and a given sound speed below it draws a warning that names it.
+/// The bundled two-phase cavity meets it (0.36 m/s against 0.354); at 0.3 m/s it does not.
+#[test]
+fn a_sound_speed_below_the_lid_corner_bound_is_a_warning() {
+    let original = std::fs::read_to_string(bundled("two-phase-cavity.ron")).unwrap();
+    let report =
+        text(&lamella(&["check", bundled("two-phase-cavity.ron").to_str().unwrap()]).stdout);
+    assert!(report.contains("lid corner 0.3536 m/s"), "{report}");
+    assert!(warnings(&report).is_empty(), "{report}");
+
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("slow.ron");
+    let from = "sound_speed: 0.36,";
+    assert!(original.contains(from));
+    std::fs::write(&path, original.replace(from, "sound_speed: 0.3,")).unwrap();
+    let out = lamella(&["check", path.to_str().unwrap()]);
+    assert_eq!(out.status.code(), Some(0), "{}", text(&out.stderr));
+    let report = text(&out.stdout);
+    let found = warnings(&report);
+    assert_eq!(found.len(), 1, "{report}");
+    assert!(
+        found[0].contains("below the lid corner bound 0.3536 m/s"),
+        "{report}"
+    );
+}

@@ -168,8 +168,8 @@ fn summary(path: &Path, case: &Case) -> String {
     if let Some(below) = criteria.iter().skip(1).find(|c| c0 < c.sound_speed) {
         let _ = writeln!(
             s,
-            "  warning: scales.sound_speed: {} m/s is below the {} bound {} m/s of Morris, Fox & \
-             Zhu 1997; density may vary by more than 1 % and walls may not hold the liquid",
+            "  warning: scales.sound_speed: {} m/s is below the {} bound {} m/s (after Morris, \
+             Fox & Zhu 1997); density may vary by more than 1 % and walls may not hold the liquid",
             sig(c0),
             below.name,
             sig(below.sound_speed)
