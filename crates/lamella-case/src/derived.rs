@@ -8,6 +8,11 @@ use crate::schema::{Axis, Case, InitialVelocity, Region, Side};
 /// Zhu 1997 §2.4 (c0 ≥ U/√δ gives c0 ≥ 10 U: common practice).
 pub const DENSITY_VARIATION: f64 = 0.01;
 
+/// Euclidean length of a vector given as its components (a speed from a velocity, m/s).
+pub(crate) fn magnitude(v: &[f64]) -> f64 {
+    v.iter().map(|x| x * x).sum::<f64>().sqrt()
+}
+
 /// One lower bound on the sound speed (see [`Case::sound_speed_criteria`]).
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct SoundSpeedCriterion {
@@ -140,9 +145,7 @@ impl Case {
 
     /// Magnitude of the body force per unit mass (m/s²), zero when none is given.
     pub fn body_force_magnitude(&self) -> f64 {
-        self.body_force
-            .as_ref()
-            .map_or(0.0, |f| f.iter().map(|x| x * x).sum::<f64>().sqrt())
+        self.body_force.as_ref().map_or(0.0, |f| magnitude(f))
     }
 
     /// Sound speed c0 (m/s): `scales.sound_speed` if given, else the smallest value that keeps
@@ -198,10 +201,7 @@ impl Case {
         self.walls
             .iter()
             .filter_map(|wall| {
-                let speed = wall
-                    .velocity
-                    .as_ref()
-                    .map(|v| v.iter().map(|x| x * x).sum::<f64>().sqrt())?;
+                let speed = magnitude(wall.velocity.as_ref()?);
                 let meets_another = Side::ALL.iter().any(|&other| {
                     other.axis() != wall.side.axis()
                         && other.axis().index() < usize::from(self.dimension)

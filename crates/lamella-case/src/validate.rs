@@ -3,7 +3,7 @@
 
 use std::collections::HashSet;
 
-use crate::derived::ChannelFlow;
+use crate::derived::{ChannelFlow, magnitude};
 use crate::error::{Problem, Warning, approx, num, vec_str};
 use crate::schema::{
     Axis, Case, EquationOfState, InitialVelocity, PairViscosity, Probe, Region, SeedMode, Side,
@@ -736,7 +736,7 @@ impl Case {
             InitialVelocity::Uniform { velocity } => {
                 let path = "initial_velocity.velocity";
                 if c.vector(path, velocity, dim, "velocity in m/s") {
-                    let speed = velocity.iter().map(|x| x * x).sum::<f64>().sqrt();
+                    let speed = magnitude(velocity);
                     if speed > umax {
                         c.bad(
                             path,
@@ -865,7 +865,7 @@ impl Case {
                             ),
                         );
                     }
-                    let speed = v.iter().map(|x| x * x).sum::<f64>().sqrt();
+                    let speed = magnitude(v);
                     if speed > self.scales.expected_max_speed {
                         c.bad(
                             &vpath,
