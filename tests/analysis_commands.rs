@@ -45,11 +45,7 @@ fn run_case(case: &Case, dir: &Path, file_name: &str) -> PathBuf {
         "--out",
         run_dir.to_str().unwrap(),
     ]);
-    assert!(
-        out.status.success(),
-        "run failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    lamella_suite::assert_success(&out, "run");
     run_dir
 }
 
@@ -132,11 +128,7 @@ fn profile_reproduces_the_validation_error_and_growth_refuses_a_run_without_the_
         "--figure",
         figure.to_str().unwrap(),
     ]);
-    assert!(
-        out.status.success(),
-        "profile failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    lamella_suite::assert_success(&out, "profile");
     let text = String::from_utf8_lossy(&out.stdout);
     let reported: f64 = text
         .split("relative L2 error ")
@@ -405,11 +397,7 @@ fn mix_on_a_coarse_two_phase_cavity_writes_every_output() {
     case.particles.spacing = 6.0e-5;
     let run_dir = run_case(&case, dir.path(), "cavity.ron");
     let out = lamella(&["mix", run_dir.to_str().unwrap()]);
-    assert!(
-        out.status.success(),
-        "mix failed: {}",
-        String::from_utf8_lossy(&out.stderr)
-    );
+    lamella_suite::assert_success(&out, "mix");
     let analysis = run_dir.join("analysis");
 
     // One chart per measure over time and one map per field at the last snapshot, each a real

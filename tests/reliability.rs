@@ -5,12 +5,13 @@
 use std::fs;
 use std::io::Read;
 use std::path::{Path, PathBuf};
-use std::process::{Child, Command, Output, Stdio};
+use std::process::{Child, Command, Stdio};
 use std::time::{Duration, Instant};
 
 use glam::DVec2;
 use lamella_run::output::checkpoint::PAUSE_HOOK_ENV;
 use lamella_run::output::{CheckpointStore, RunFolder};
+use lamella_suite::assert_success;
 
 /// A small two-layer channel (10 × 10 fluid particles); `END` is filled in per test.
 const CASE: &str = r#"
@@ -76,15 +77,6 @@ fn resume_command(out: &Path) -> Command {
     let mut command = lamella();
     command.arg("--quiet").arg("resume").arg(out);
     command
-}
-
-fn assert_success(output: &Output, what: &str) {
-    assert!(
-        output.status.success(),
-        "{what} failed ({:?}):\n{}",
-        output.status.code(),
-        String::from_utf8_lossy(&output.stderr)
-    );
 }
 
 /// Waits (at most a minute) until `ready` holds.

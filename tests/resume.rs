@@ -12,6 +12,7 @@ use glam::DVec2;
 use lamella_run::output::{CheckpointStore, RunFolder};
 use lamella_run::recorder::Recorder;
 use lamella_run::runner::{NoProgress, run_to_end};
+use lamella_suite::assert_success;
 
 /// A small two-layer channel (10 × 10 fluid particles, 60 wall particles) with a probe line;
 /// `{end}` and `{minutes}` are filled in per test.
@@ -80,15 +81,6 @@ fn run(case: &Path, out: &Path) -> Output {
 
 fn resume(out: &Path) -> Output {
     lamella().arg("resume").arg(out).output().unwrap()
-}
-
-fn assert_success(output: &Output, what: &str) {
-    assert!(
-        output.status.success(),
-        "{what} failed ({:?}):\n{}",
-        output.status.code(),
-        String::from_utf8_lossy(&output.stderr)
-    );
 }
 
 /// The newest checkpoint file of a run folder.

@@ -42,3 +42,13 @@ pub fn run(binary: &str, args: &[&str]) -> Output {
 pub fn text(bytes: &[u8]) -> String {
     String::from_utf8_lossy(bytes).into_owned()
 }
+
+/// Panics with `what`, the exit code and the standard error unless `output` is a success.
+pub fn assert_success(output: &Output, what: &str) {
+    assert!(
+        output.status.success(),
+        "{what} failed ({:?}):\n{}",
+        output.status.code(),
+        String::from_utf8_lossy(&output.stderr)
+    );
+}
