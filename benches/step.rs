@@ -79,6 +79,7 @@ fn step_and_parts(c: &mut Criterion) {
                             &config.reference_density,
                             &particles,
                             &cells,
+                            None,
                             &mut seen,
                         )
                     })

@@ -17,9 +17,9 @@ pub use error::{CaseError, Problem, Warning};
 pub use generate::{Generated, Seed, generate};
 pub use load::{load, parse_listing, parse_str, parse_unvalidated, to_ron};
 pub use schema::{
-    Analysis, Axis, Case, Domain, EquationOfState, InitialVelocity, Kernel, Output, PairViscosity,
-    ParticleSettings, Perturbation, Phase, Probe, Region, Scales, SeedMode, Side, Time,
-    TimeStepFactors, ViscosityLaw, ViscosityTreatment, Wall,
+    Analysis, Axis, Case, Domain, EquationOfState, InitialVelocity, Kernel, NoSlip, Output,
+    PairViscosity, ParticleSettings, Perturbation, Phase, Probe, Region, Scales, SeedMode, Side,
+    Time, TimeStepFactors, ViscosityLaw, ViscosityTreatment, Wall,
 };
 pub use validate::{
     ACOUSTIC_FORCE_FACTOR_LIMIT, ARITHMETIC_WARNING_RATIO, IMPLICIT_TOLERANCE_RANGE,

@@ -1,8 +1,8 @@
 //! From a validated case to a ready solver: configuration and initial particles.
 
 use lamella_case::{
-    Case, EquationOfState, InitialVelocity, Kernel as CaseKernel, PairViscosity as CasePair,
-    ViscosityTreatment as CaseTreatment,
+    Case, EquationOfState, InitialVelocity, Kernel as CaseKernel, NoSlip as CaseNoSlip,
+    PairViscosity as CasePair, ViscosityTreatment as CaseTreatment,
 };
 use lamella_cells::{Domain, Vector};
 use lamella_sph::forces::lattice_viscous_normalisation;
@@ -10,8 +10,8 @@ use lamella_sph::forces::lattice_viscous_normalisation;
 use crate::eigenmode::EigenmodeSeed;
 use crate::reference::channel_reference;
 use lamella_sph::{
-    DEFAULT_DENSITY_DIFFUSION, Kernel, KernelKind, Kind, PairViscosity, Particles, Regularisation,
-    SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
+    DEFAULT_DENSITY_DIFFUSION, Kernel, KernelKind, Kind, NoSlip, PairViscosity, Particles,
+    Regularisation, SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
     implicit_viscosity::{ImplicitSettings, ViscosityTreatment},
 };
 
@@ -114,6 +114,15 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         },
         density_tolerance: case.density_tolerance,
         search_domain,
+        // Without walls there is nothing to continue.
+        no_slip: match case.no_slip {
+            _ if case.walls.is_empty() => NoSlip::Averaged,
+            CaseNoSlip::Averaged => NoSlip::Averaged,
+            CaseNoSlip::Quadratic => NoSlip::Quadratic {
+                lower: V::from_fn(|a| case.domain.lower[a]),
+                upper: V::from_fn(|a| case.domain.upper[a]),
+            },
+        },
         fluid_lower,
         fluid_upper,
     })
@@ -131,10 +140,11 @@ fn full_viscous_stress(case: &Case) -> bool {
 pub fn heap_bytes_per_particle(case: &Case) -> usize {
     let full = full_viscous_stress(case);
     let implicit = matches!(case.viscosity_treatment, CaseTreatment::Implicit { .. });
+    let quadratic = case.no_slip == CaseNoSlip::Quadratic && !case.walls.is_empty();
     if case.dimension == 3 {
-        Simulation::<glam::DVec3>::heap_bytes_per_particle(full, implicit)
+        Simulation::<glam::DVec3>::heap_bytes_per_particle(full, implicit, quadratic)
     } else {
-        Simulation::<glam::DVec2>::heap_bytes_per_particle(full, implicit)
+        Simulation::<glam::DVec2>::heap_bytes_per_particle(full, implicit, quadratic)
     }
 }
 
@@ -292,12 +302,13 @@ mod tests {
 
     #[test]
     fn bytes_per_particle_count_the_gradient_only_with_two_viscosities() {
-        // One viscosity: the 2D arrays of `Simulation::heap_bytes_per_particle`; two add a
-        // 3 × 3 velocity gradient for the full viscous stress.
+        // One viscosity: the 2D arrays of `Simulation::heap_bytes_per_particle` (walls with
+        // the default quadratic no slip); two add a 3 × 3 velocity gradient for the full
+        // viscous stress.
         let one = heap_bytes_per_particle(&bundled("poiseuille.ron"));
         assert_eq!(
             one,
-            Simulation::<DVec2>::heap_bytes_per_particle(false, false)
+            Simulation::<DVec2>::heap_bytes_per_particle(false, false, true)
         );
         let two = heap_bytes_per_particle(&bundled("two-layer-channel.ron"));
         assert_eq!(two, one + 72);

@@ -366,7 +366,7 @@ mod tests {
             background_pressure,
         };
         let mut seen = vec![InteractionState::default(); p.len()];
-        interaction_states(kernel, &law, DVec2::ZERO, rho0, p, nb, &mut seen);
+        interaction_states(kernel, &law, DVec2::ZERO, rho0, p, nb, None, &mut seen);
         seen
     }
 

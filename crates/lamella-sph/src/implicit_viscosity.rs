@@ -367,6 +367,7 @@ mod tests {
             &[1000.0, 1000.0],
             p,
             nb,
+            None,
             &mut seen,
         );
         seen

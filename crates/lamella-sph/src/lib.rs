@@ -28,3 +28,4 @@ pub use shifting::Regularisation;
 pub use simulation::{DEFAULT_DENSITY_DIFFUSION, SetupError, Simulation, SolverConfig, StepReport};
 pub use time_step::{Limit, TimeStepFactors, stable_time_step};
 pub use viscosity::ViscosityLaw;
+pub use walls::NoSlip;

@@ -48,7 +48,7 @@ use crate::shear_rate::{Flow, shear_rates_into, velocity_gradients};
 use crate::shifting::{Regularisation, shift};
 use crate::time_step::{Limit, TimeStepFactors, stable_time_step};
 use crate::viscosity::{ViscosityLaw, update_viscosities};
-use crate::walls::{InteractionState, interaction_states};
+use crate::walls::{InteractionState, NearWallFlow, NoSlip, interaction_states};
 
 /// Density-diffusion coefficient δ of the δ-SPH term when a case does not choose one
 /// (Antuono et al. 2010, Comput. Phys. Commun. 181: 0.1, common practice).
@@ -95,6 +95,8 @@ pub struct SolverConfig<V: Vector> {
     pub density_tolerance: f64,
     /// The box every particle (walls included) must stay in; its periodic axes wrap.
     pub search_domain: Domain<V>,
+    /// How wall particles continue the fluid's velocity for the viscous term.
+    pub no_slip: NoSlip<V>,
     /// Fluid particles must stay within `[fluid_lower, fluid_upper]` on non-periodic axes (m).
     pub fluid_lower: V,
     /// Upper corner of the fluid's allowed region (m).
@@ -176,6 +178,8 @@ struct Scratch<V: Vector> {
     viscous_solve: SolverScratch<V>,
     /// The velocity after every force but the implicit viscous one, v*.
     kicked_velocity: Vec<V>,
+    /// The fluid's velocity gradient and curvature next to the walls ([`NoSlip::Quadratic`]).
+    near_wall: NearWallFlow<V>,
 }
 
 /// A running simulation: configuration, complete state and scratch space.
@@ -195,9 +199,14 @@ impl<V: Vector> Simulation<V> {
     /// scratch (one element of each type), the wall states, the rates and density rates, the
     /// next state (two vectors and a density), the cell list, with `full_viscous_stress` a
     /// 3 × 3 velocity gradient and with `implicit_viscosity` the work space of the viscous
-    /// solve (the kicked velocity, five conjugate-gradient vectors and the diagonal).
+    /// solve (the kicked velocity, five conjugate-gradient vectors and the diagonal), with
+    /// `quadratic_no_slip` the fluid's gradient and curvature next to walls ([`NearWallFlow`]).
     /// Transient buffers of a step (shifting) are not counted.
-    pub fn heap_bytes_per_particle(full_viscous_stress: bool, implicit_viscosity: bool) -> usize {
+    pub fn heap_bytes_per_particle(
+        full_viscous_stress: bool,
+        implicit_viscosity: bool,
+        quadratic_no_slip: bool,
+    ) -> usize {
         use std::mem::size_of;
         let mut one = Particles::<V>::default();
         one.for_each_field_mut(|_, field| match field {
@@ -231,6 +240,11 @@ impl<V: Vector> Simulation<V> {
             + gradients
             + if implicit_viscosity {
                 6 * size_of::<V>() + size_of::<f64>()
+            } else {
+                0
+            }
+            + if quadratic_no_slip {
+                NearWallFlow::<V>::BYTES_PER_PARTICLE
             } else {
                 0
             }
@@ -327,6 +341,37 @@ impl<V: Vector> Simulation<V> {
     fn evaluate_interaction_states(&mut self) {
         let n = self.particles.len();
         self.scratch.seen.resize(n, InteractionState::default());
+        // The velocity gradients of the full viscous stress: the quadratic no slip takes them
+        // too. Only fluid neighbours count, so the fluid's own volumes m/ρ serve.
+        let p = &self.particles;
+        if self.config.full_viscous_stress {
+            self.scratch.gradients.resize(n, DMat3::ZERO);
+            velocity_gradients(
+                &self.cells,
+                p,
+                |b| p.mass[b] / p.density[b],
+                &self.config.kernel,
+                &mut self.scratch.gradients,
+            );
+        }
+        let near_wall = match self.config.no_slip {
+            NoSlip::Averaged => None,
+            NoSlip::Quadratic { lower, upper } => {
+                let domain = &self.config.search_domain;
+                let walled = std::array::from_fn(|axis| !domain.is_periodic(axis));
+                self.scratch.near_wall.evaluate(
+                    (lower, upper),
+                    walled,
+                    &self.config.kernel,
+                    p,
+                    &self.cells,
+                    self.config
+                        .full_viscous_stress
+                        .then_some(self.scratch.gradients.as_slice()),
+                );
+                Some((&self.scratch.near_wall, lower, upper))
+            }
+        };
         interaction_states(
             &self.config.kernel,
             &self.config.state_law,
@@ -334,6 +379,7 @@ impl<V: Vector> Simulation<V> {
             &self.config.reference_density,
             &self.particles,
             &self.cells,
+            near_wall,
             &mut self.scratch.seen,
         );
         let p = &mut self.particles;
@@ -426,17 +472,6 @@ impl<V: Vector> Simulation<V> {
                 self.config.viscous_normalisation
             },
         };
-        if self.config.full_viscous_stress {
-            gradients.resize(n, DMat3::ZERO);
-            let states: &[InteractionState<V>] = seen;
-            velocity_gradients(
-                &self.cells,
-                &self.particles,
-                |b| states[b].volume,
-                &self.config.kernel,
-                gradients,
-            );
-        }
         particle_rates(
             &params,
             &self.particles,
@@ -725,6 +760,7 @@ mod tests {
             regularisation: Regularisation::None,
             density_tolerance: 0.5,
             search_domain: Domain::new(DVec2::ZERO, size, [true, true, false]).unwrap(),
+            no_slip: NoSlip::Averaged,
             fluid_lower: DVec2::ZERO,
             fluid_upper: size,
         };
@@ -859,23 +895,28 @@ mod tests {
         // 2D: state 91 (three vectors, four scalars, phase, kind, id), reorder scratch 35,
         // wall states 40, rates and density rates 56, next state 40, cell list 10.
         assert_eq!(
-            Simulation::<DVec2>::heap_bytes_per_particle(false, false),
+            Simulation::<DVec2>::heap_bytes_per_particle(false, false, false),
             272
         );
         assert_eq!(
-            Simulation::<DVec2>::heap_bytes_per_particle(true, false),
+            Simulation::<DVec2>::heap_bytes_per_particle(true, false, false),
             272 + 72
         );
         // The implicit viscous solve: six vectors and a scalar more.
         assert_eq!(
-            Simulation::<DVec2>::heap_bytes_per_particle(false, true),
+            Simulation::<DVec2>::heap_bytes_per_particle(false, true, false),
             272 + 6 * 16 + 8
         );
         // 3D: every vector is 8 bytes longer (three in the state, one each in the reorder
         // scratch and the wall states, three in the rates, two in the next state).
         assert_eq!(
-            Simulation::<glam::DVec3>::heap_bytes_per_particle(false, false),
+            Simulation::<glam::DVec3>::heap_bytes_per_particle(false, false, false),
             272 + 10 * 8
+        );
+        // Quadratic no slip: an optional 3 × 3 gradient (80), a column (16), three curvatures (48).
+        assert_eq!(
+            Simulation::<DVec2>::heap_bytes_per_particle(false, false, true),
+            272 + 80 + 16 + 48
         );
     }
 
