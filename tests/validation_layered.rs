@@ -200,9 +200,9 @@ fn layered_flow_with_a_viscous_lower_layer() {
     check_layered(
         4.0,
         Bounds {
-            relative_l2: (0.00289, 0.006),
-            interface_velocity: (0.00607, 0.0125),
-            gradient_jump: (0.0033, 0.007),
+            relative_l2: (0.0008, 0.0016),
+            interface_velocity: (0.00425, 0.0085),
+            gradient_jump: (0.0034, 0.007),
         },
     );
 }
@@ -212,9 +212,9 @@ fn layered_flow_with_a_viscous_upper_layer() {
     check_layered(
         0.25,
         Bounds {
-            relative_l2: (0.00325, 0.007),
-            interface_velocity: (0.00261, 0.0055),
-            gradient_jump: (0.0324, 0.065),
+            relative_l2: (0.0012, 0.0025),
+            interface_velocity: (0.00093, 0.002),
+            gradient_jump: (0.0313, 0.065),
         },
     );
 }

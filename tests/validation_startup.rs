@@ -112,8 +112,8 @@ fn check_startup(
 #[test]
 fn startup_poiseuille_follows_the_morris_series() {
     let bounds = Bounds {
-        transient: (0.0038, 0.008),
-        steady: (0.00224, 0.0045),
+        transient: (0.00162, 0.0033),
+        steady: (0.00043, 0.0009),
     };
     check_startup(
         "poiseuille.ron",
@@ -129,8 +129,8 @@ fn startup_poiseuille_follows_the_morris_series() {
 #[test]
 fn startup_couette_follows_the_morris_series() {
     let bounds = Bounds {
-        transient: (0.00125, 0.0025),
-        steady: (0.00029, 0.0006),
+        transient: (0.00076, 0.0016),
+        steady: (0.00011, 0.00025),
     };
     check_startup("couette.ron", "Couette", bounds, |case, plates, y, t| {
         let lid = case

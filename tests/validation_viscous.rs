@@ -5,7 +5,7 @@
 //!   plane Poiseuille solution of Bird, Stewart & Lightfoot, Transport Phenomena, 2nd ed., §2.5:
 //!   viscous layer above (n = 0.2, 18 rows across, 15 of them runny): relative L2 error and
 //!   runny-layer flow rate within 1 % (the issue's bound); viscous layer below (n = 3, 36 rows
-//!   across, 9 runny): within 1.5 % and 2.5 %. The thin runny layer is the hard case: its error is
+//!   across, 9 runny): within 1 % and 1.7 % (regression bounds; the issue asks for 1 % and 1 %). The thin runny layer is the hard case: its error is
 //!   a resolution error of the layer (at m = 1000 and n = 5 it fell from 4.05 % to 0.82 % when
 //!   its 6 rows became 12, `cargo bench --bench viscous`), the same with the explicit scheme.
 //! - Start-up plane Poiseuille flow with the implicit option and its larger step, against the
@@ -65,7 +65,7 @@ fn check_layers(rows: usize, viscous_below: bool, width_ratio: f64, bounds: (f64
 
 #[test]
 fn implicit_layered_channel_at_ratio_100_viscous_below() {
-    check_layers(36, true, 3.0, (0.015, 0.025));
+    check_layers(36, true, 3.0, (0.01, 0.017));
 }
 
 #[test]
@@ -78,7 +78,7 @@ fn implicit_layered_channel_at_ratio_100_viscous_above() {
 /// the acoustic step is several times the explicit viscous limit: compared with the series
 /// solution at a quarter, a half and one time constant H²/(π² ν) after the start, before the
 /// steady state. The task's bound is 3 %; the regression bounds are about twice the relative
-/// L2 errors measured (2026-12-04): 0.708 %, 0.580 % and 0.382 %.
+/// L2 errors measured (2026-12-04, quadratic no slip): 0.713 %, 0.621 % and 0.462 %.
 #[test]
 fn implicit_start_up_poiseuille_follows_the_series_solution() {
     let mut case = lamella_case::load(&lamella_suite::cases_dir().join("poiseuille.ron"))
@@ -101,9 +101,9 @@ fn implicit_start_up_poiseuille_follows_the_series_solution() {
     let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
     let tau = gap * gap / (std::f64::consts::PI.powi(2) * nu);
     for (fraction, measured, bound) in [
-        (0.25, 0.00708, 0.0145),
-        (0.5, 0.0058, 0.012),
-        (1.0, 0.00382, 0.008),
+        (0.25, 0.00713, 0.0145),
+        (0.5, 0.00621, 0.0125),
+        (1.0, 0.00462, 0.0095),
     ] {
         let t = fraction * tau;
         let steps_before = sim.step_count();
