@@ -1,13 +1,16 @@
 //! One module per subcommand; each has an `Args` (clap) and a `run` function. The list of
 //! subcommands ([`Command`]) and the options they share ([`Globals`]) are here, so the
 //! subcommands never import the command line's top level. Subcommands never import each
-//! other: what they share is in [`shared`] and [`values`], or in the libraries.
+//! other: what they share is in [`shared`], [`values`] and [`launch`] (starting and resuming
+//! runs), or in the libraries.
 
 pub mod bench;
+pub mod calibration;
 pub mod check;
 pub mod converge;
 pub mod estimate;
 pub mod growth;
+pub mod launch;
 pub mod mix;
 pub mod new;
 pub mod profile;
