@@ -95,15 +95,15 @@ pub enum Values {
 }
 
 impl Values {
-    /// The values, or what is wrong with them.
+    /// The values, or what valid values would be.
     pub fn expand(&self) -> Result<Vec<f64>, String> {
         let (start, end, count) = match self {
             Values::List(list) if list.is_empty() => {
-                return Err("an empty list; give at least one value".into());
+                return Err("at least one value (the list is empty)".into());
             }
             Values::List(list) => {
                 return match list.iter().find(|v| !v.is_finite()) {
-                    Some(v) => Err(format!("{v} is not a finite number")),
+                    Some(v) => Err(format!("finite numbers ({v} is not)")),
                     None => Ok(list.clone()),
                 };
             }
@@ -112,15 +112,15 @@ impl Values {
             }
         };
         if count == 0 {
-            return Err("an empty range (count: 0); give count ≥ 1".into());
+            return Err("count ≥ 1 (count: 0 makes an empty range)".into());
         }
         if !(start.is_finite() && end.is_finite()) {
-            return Err(format!("start {start} and end {end} must be finite"));
+            return Err(format!("a finite start and end, not {start} and {end}"));
         }
         let log = matches!(self, Values::Log { .. });
         if log && !(start > 0.0 && end > 0.0) {
             return Err(format!(
-                "a log range needs a positive start and end, not {} and {}; use Linear for \
+                "a positive start and end for a log range, not {} and {}; use Linear for \
                  values that reach zero or below",
                 num(start),
                 num(end)
@@ -270,11 +270,8 @@ pub fn expand(
         match parameter.values.expand() {
             Ok(v) => values.push(v),
             Err(why) => {
-                problems.push(Problem::value(
-                    at("values"),
-                    format!("{:?}", parameter.values),
-                    why,
-                ));
+                let written = ron::to_string(&parameter.values).unwrap_or_default();
+                problems.push(Problem::value(at("values"), written, why));
                 values.push(Vec::new());
             }
         }

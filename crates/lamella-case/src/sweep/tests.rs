@@ -140,9 +140,17 @@ fn empty_and_bad_ranges_are_refused() {
         ])"#
     ));
     assert_eq!(found.len(), 3, "{found:?}");
-    assert!(found[0].contains("an empty range"), "{}", found[0]);
-    assert!(found[1].contains("positive start and end"), "{}", found[1]);
-    assert!(found[2].contains("an empty list"), "{}", found[2]);
+    assert!(
+        found[0].ends_with("bad value Linear(start:1.0,end:2.0,count:0); expected count ≥ 1 (count: 0 makes an empty range)"),
+        "{}",
+        found[0]
+    );
+    assert!(
+        found[1].contains("a positive start and end"),
+        "{}",
+        found[1]
+    );
+    assert!(found[2].contains("the list is empty"), "{}", found[2]);
 }
 
 #[test]

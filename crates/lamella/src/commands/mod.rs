@@ -18,6 +18,7 @@ pub mod resume;
 pub mod run;
 pub mod shared;
 pub mod stability;
+pub mod sweep;
 pub mod values;
 
 use std::sync::atomic::AtomicBool;
@@ -62,6 +63,8 @@ pub enum Command {
     Bench(bench::Args),
     /// Predict the wall time and memory of a case on this machine from a short calibration.
     Estimate(estimate::Args),
+    /// Parameter sweeps: check, run here or on a Slurm cluster, and report many cases at once.
+    Sweep(sweep::Args),
 }
 
 /// Runs the chosen subcommand.
@@ -78,6 +81,7 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
         Command::Mix(args) => mix::run(args, globals),
         Command::Bench(args) => bench::run(args, globals),
         Command::Estimate(args) => estimate::run(args, globals),
+        Command::Sweep(args) => sweep::run(args, globals),
     }
 }
 
