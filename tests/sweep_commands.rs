@@ -445,3 +445,59 @@ fn a_failed_member_is_recorded_and_the_others_go_on() {
         "--retry-failed did not run the member again"
     );
 }
+
+#[test]
+fn a_killed_member_is_not_finished_and_the_next_run_completes_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = two_members(dir.path());
+    let out = dir.path().join("sweep");
+    let child = Command::new(LAMELLA)
+        .args([
+            "sweep",
+            "run",
+            arg(&sweep),
+            "--out",
+            arg(&out),
+            "--jobs",
+            "1",
+        ])
+        .stderr(Stdio::piped())
+        .stdout(Stdio::null())
+        .spawn()
+        .unwrap();
+    // Member 1 is stepping; its lock file names its process.
+    let second = out.join("member-001/snapshots/state_000001.vtp");
+    let started = Instant::now();
+    while !second.exists() {
+        assert!(
+            started.elapsed() < Duration::from_secs(120),
+            "member 1 did not start"
+        );
+        std::thread::sleep(Duration::from_millis(5));
+    }
+    let holder = fs::read_to_string(out.join("member-001/run.lock")).unwrap();
+    let pid = holder
+        .strip_prefix("process ")
+        .and_then(|rest| rest.split_whitespace().next())
+        .unwrap_or_else(|| panic!("no process in {holder:?}"));
+    assert!(
+        Command::new("kill")
+            .args(["-KILL", pid])
+            .status()
+            .unwrap()
+            .success()
+    );
+    let ended = child.wait_with_output().unwrap();
+    let stderr = text(&ended.stderr);
+    assert_eq!(ended.status.code(), Some(1), "{stderr}");
+    assert!(
+        stderr.contains("1 of 2 members did not finish: member-001"),
+        "{stderr}"
+    );
+    assert_success(
+        &lamella(&["-q", "sweep", "run", arg(&sweep), "--out", arg(&out)]),
+        "the second sweep run",
+    );
+    let log = fs::read_to_string(out.join("member-001/run.log")).unwrap();
+    assert!(log.contains("finished at t = "), "{log}");
+}
