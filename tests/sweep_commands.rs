@@ -84,11 +84,12 @@ fn results(run: &Path) -> Vec<(String, Vec<u8>)> {
     out
 }
 
-#[test]
-fn a_stopped_sweep_skips_finished_members_and_resumes_the_interrupted_one() {
-    let dir = tempfile::tempdir().unwrap();
-    let sweep = two_members(dir.path());
-    let out = dir.path().join("sweep");
+/// Starts `lamella sweep run` of [`two_members`] with one job and returns once member 1 has
+/// written its second snapshot (t = 20 ms of 60), so it is stepping: the child, the sweep
+/// file and the sweep folder.
+fn start_until_member_one_steps(dir: &Path) -> (std::process::Child, PathBuf, PathBuf) {
+    let sweep = two_members(dir);
+    let out = dir.join("sweep");
     let child = Command::new(LAMELLA)
         .args([
             "sweep",
@@ -103,7 +104,6 @@ fn a_stopped_sweep_skips_finished_members_and_resumes_the_interrupted_one() {
         .stdout(Stdio::piped())
         .spawn()
         .unwrap();
-    // Member 1 has written its second snapshot (t = 20 ms of 60): it is stepping.
     let second = out.join("member-001/snapshots/state_000001.vtp");
     let started = Instant::now();
     while !second.exists() {
@@ -113,6 +113,13 @@ fn a_stopped_sweep_skips_finished_members_and_resumes_the_interrupted_one() {
         );
         std::thread::sleep(Duration::from_millis(5));
     }
+    (child, sweep, out)
+}
+
+#[test]
+fn a_stopped_sweep_skips_finished_members_and_resumes_the_interrupted_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let (child, sweep, out) = start_until_member_one_steps(dir.path());
     let sent = Command::new("kill")
         .args(["-INT", &child.id().to_string()])
         .status()
@@ -465,32 +472,8 @@ fn a_failed_member_is_recorded_and_the_others_go_on() {
 #[test]
 fn a_killed_member_is_not_finished_and_the_next_run_completes_it() {
     let dir = tempfile::tempdir().unwrap();
-    let sweep = two_members(dir.path());
-    let out = dir.path().join("sweep");
-    let child = Command::new(LAMELLA)
-        .args([
-            "sweep",
-            "run",
-            arg(&sweep),
-            "--out",
-            arg(&out),
-            "--jobs",
-            "1",
-        ])
-        .stderr(Stdio::piped())
-        .stdout(Stdio::null())
-        .spawn()
-        .unwrap();
     // Member 1 is stepping; its lock file names its process.
-    let second = out.join("member-001/snapshots/state_000001.vtp");
-    let started = Instant::now();
-    while !second.exists() {
-        assert!(
-            started.elapsed() < Duration::from_secs(120),
-            "member 1 did not start"
-        );
-        std::thread::sleep(Duration::from_millis(5));
-    }
+    let (child, sweep, out) = start_until_member_one_steps(dir.path());
     let holder = fs::read_to_string(out.join("member-001/run.lock")).unwrap();
     let pid = holder
         .strip_prefix("process ")

@@ -328,25 +328,38 @@ mod tests {
         (p, kernel, law)
     }
 
-    #[test]
-    fn wall_pressure_continues_the_hydrostatic_profile() {
-        let g = 9.81;
-        let (p, kernel, law) = column(g, DVec2::ZERO);
+    /// The interaction states of `p` over a brute-force search periodic in x (period 0.8).
+    fn states(
+        p: &Particles<DVec2>,
+        kernel: &Kernel,
+        law: &StateLaw,
+        g: f64,
+        near_wall: Option<(&NearWallFlow<DVec2>, DVec2, DVec2)>,
+    ) -> Vec<InteractionState<DVec2>> {
         let nb = BruteForce {
             radius: kernel.support_radius(),
             period: DVec2::new(0.8, 0.0),
         };
         let mut out = vec![InteractionState::default(); p.len()];
+        let body_force = DVec2::new(0.0, -g);
         interaction_states(
-            &kernel,
-            &law,
-            DVec2::new(0.0, -g),
+            kernel,
+            law,
+            body_force,
             &[1000.0],
-            &p,
+            p,
             &nb,
-            None,
+            near_wall,
             &mut out,
         );
+        out
+    }
+
+    #[test]
+    fn wall_pressure_continues_the_hydrostatic_profile() {
+        let g = 9.81;
+        let (p, kernel, law) = column(g, DVec2::ZERO);
+        let out = states(&p, &kernel, &law, g, None);
         // First wall row below the fluid (y = −0.05): expect about ρ0 g (0.8 + 0.05).
         let first_wall = 2 * 8;
         let expected = 1000.0 * g * 0.85;
@@ -360,21 +373,7 @@ mod tests {
     #[test]
     fn wall_velocity_is_extrapolated_for_no_slip() {
         let (p, kernel, law) = column(0.0, DVec2::new(1.0, 0.0));
-        let nb = BruteForce {
-            radius: kernel.support_radius(),
-            period: DVec2::new(0.8, 0.0),
-        };
-        let mut out = vec![InteractionState::default(); p.len()];
-        interaction_states(
-            &kernel,
-            &law,
-            DVec2::ZERO,
-            &[1000.0],
-            &p,
-            &nb,
-            None,
-            &mut out,
-        );
+        let out = states(&p, &kernel, &law, 0.0, None);
         assert_eq!(out[2 * 8].viscous_velocity, DVec2::new(-1.0, 0.0));
         assert_eq!(out[0].viscous_velocity, DVec2::ZERO, "no fluid in reach");
         assert_eq!(out[3 * 8].viscous_velocity, DVec2::new(1.0, 0.0));
@@ -413,29 +412,8 @@ mod tests {
         let (lower, upper) = (DVec2::ZERO, DVec2::new(0.8, height));
         let mut flow = NearWallFlow::default();
         flow.evaluate((lower, upper), [false, true, false], &kernel, &p, &nb, None);
-        let mut averaged = vec![InteractionState::default(); p.len()];
-        interaction_states(
-            &kernel,
-            &law,
-            DVec2::ZERO,
-            &[1000.0],
-            &p,
-            &nb,
-            None,
-            &mut averaged,
-        );
-        let mut quadratic = vec![InteractionState::default(); p.len()];
-        let near_wall = Some((&flow, lower, upper));
-        interaction_states(
-            &kernel,
-            &law,
-            DVec2::ZERO,
-            &[1000.0],
-            &p,
-            &nb,
-            near_wall,
-            &mut quadratic,
-        );
+        let averaged = states(&p, &kernel, &law, 0.0, None);
+        let quadratic = states(&p, &kernel, &law, 0.0, Some((&flow, lower, upper)));
         let peak = 0.25 * height * height;
         // The wall rows y = −0.05 and −0.15 (indices 2 · 8 and 1 · 8; the lowest has no fluid
         // in reach), each with a bound on the quadratic error relative to the averaged one.
