@@ -9,8 +9,9 @@
 #       slurm_start makes the folder ($SLURM_TEST_DIR), writes the configuration, starts the three
 #       daemons, exports SLURM_CONF so that sbatch, squeue, sinfo and scontrol talk to them, and
 #       waits until the node is idle. slurm_stop stops the daemons and removes the folder; call
-#       it from an EXIT trap so that it also runs on failure. slurm_wait_gone waits, with a time
-#       bound, until jobs have left the queue; slurm_dump_logs prints the daemons' logs.
+#       it from an EXIT trap so that it also runs on failure. slurm_wait_queue_empty waits, with
+#       a time bound, until every job has left the queue; slurm_check_jobs checks what slurmctld
+#       says of the jobs it ran; slurm_dump_logs prints the daemons' logs.
 #   bash tests/slurm/single_node.sh
 #       the self-test: starts the cluster, runs a 4-task job array and a job that depends on it,
 #       checks what they wrote, and stops the cluster.
@@ -214,9 +215,58 @@ slurm_wait_gone() {
     done
 }
 
-# The final state of one job (or array task, given as ID_TASK), from scontrol.
-slurm_job_state() {
-    slurm_bounded scontrol show job "$1" | sed -n 's/.*JobState=\([A-Z_]*\).*/\1/p' | head -n 1
+# Waits until the queue is empty (this cluster is ours alone), at most $1 seconds.
+slurm_wait_queue_empty() {
+    local limit=$1 deadline=$((SECONDS + $1)) left
+    while :; do
+        left=$(slurm_bounded squeue --noheader --array --format='%i %T %R') || return 1
+        [[ -z $left ]] && return 0
+        if ((SECONDS >= deadline)); then
+            slurm_log "jobs still queued or running after ${limit} s:"
+            printf '%s\n' "$left" >&2
+            return 1
+        fi
+        sleep 1
+    done
+}
+
+# Checks, from what slurmctld remembers of finished jobs (MinJobAge), that it ran exactly $1 array
+# tasks and $2 other jobs, all COMPLETED, and that the other jobs started no earlier than the last
+# array task ended (an afterany dependency; the Dependency field is cleared once it is met).
+slurm_check_jobs() {
+    local want_tasks=$1 want_others=$2 table tasks others bad last_end first_start
+    table=$(slurm_bounded scontrol --oneliner show job) || {
+        slurm_log "scontrol show job failed"
+        return 1
+    }
+    tasks=$(grep -c ' ArrayTaskId=' <<<"$table" || true)
+    others=$(grep -vc ' ArrayTaskId=' <<<"$table" || true)
+    bad=$(grep -v ' JobState=COMPLETED ' <<<"$table" || true)
+    last_end=$(grep ' ArrayTaskId=' <<<"$table" | sed -n 's/.* EndTime=\([^ ]*\).*/\1/p' | sort | tail -n 1)
+    first_start=$(grep -v ' ArrayTaskId=' <<<"$table" | sed -n 's/.* StartTime=\([^ ]*\).*/\1/p' | sort | head -n 1)
+    local ok=1
+    if ((tasks != want_tasks)); then
+        slurm_log "Slurm ran $tasks array tasks, expected $want_tasks"
+        ok=0
+    fi
+    if ((others != want_others)); then
+        slurm_log "Slurm ran $others jobs besides the array, expected $want_others"
+        ok=0
+    fi
+    if [[ -n $bad ]]; then
+        slurm_log "jobs that did not complete:"
+        printf '%s\n' "$bad" >&2
+        ok=0
+    fi
+    if ((want_others > 0)) && [[ $first_start < $last_end ]]; then
+        slurm_log "a dependent job started at $first_start, before the array's last task ended at $last_end"
+        ok=0
+    fi
+    if ((!ok)); then
+        printf '%s\n' "$table" >&2
+        return 1
+    fi
+    slurm_log "Slurm ran $tasks array tasks (last ended $last_end) and $others dependent job(s) (started $first_start), all COMPLETED"
 }
 
 slurm_dump_logs() {
@@ -294,22 +344,20 @@ slurm_self_test() {
     after_id=$(slurm_bounded sbatch --parsable --dependency="afterany:$array_id" \
         --output=after.log --wrap 'cat out.* | sort -n | tr "\n" " " > after.out')
     slurm_log "submitted array $array_id and dependent job $after_id"
-    if ! slurm_wait_gone 120 "$array_id" "$after_id"; then
+    if ! slurm_wait_queue_empty 120; then
         slurm_dump_logs
         return 1
     fi
-
-    local failed=0 state
+    local failed=0
+    slurm_check_jobs 4 1 || failed=1
     for task in 0 1 2 3; do
-        state=$(slurm_job_state "${array_id}_$task")
-        if [[ $(cat "out.$task" 2>/dev/null) != "$task" || $state != COMPLETED ]]; then
-            slurm_log "array task $task: state '$state', out.$task holds '$(cat "out.$task" 2>/dev/null)'"
+        if [[ $(cat "out.$task" 2>/dev/null) != "$task" ]]; then
+            slurm_log "array task $task: out.$task holds '$(cat "out.$task" 2>/dev/null)'"
             failed=1
         fi
     done
-    state=$(slurm_job_state "$after_id")
-    if [[ $(cat after.out 2>/dev/null) != "0 1 2 3 " || $state != COMPLETED ]]; then
-        slurm_log "dependent job: state '$state', after.out holds '$(cat after.out 2>/dev/null)'"
+    if [[ $(cat after.out 2>/dev/null) != "0 1 2 3 " ]]; then
+        slurm_log "dependent job: after.out holds '$(cat after.out 2>/dev/null)'"
         failed=1
     fi
     if ((failed)); then
