@@ -16,8 +16,8 @@
 #       the self-test: starts the cluster, runs a 4-task job array and a job that depends on it,
 #       checks what they wrote, and stops the cluster.
 #
-# Environment: SLURM_TEST_CTLD_PORT and SLURM_TEST_SLURMD_PORT (default 6817 and 6818, Slurm's own
-# defaults) if those ports are taken; SLURM_TEST_KEEP=1 keeps the folder for inspection.
+# Environment: SLURM_TEST_CTLD_PORT and SLURM_TEST_SLURMD_PORT choose the ports (default 6817 and
+# 6818, Slurm's own, or the first free pair from 16817 on); SLURM_TEST_KEEP=1 keeps the folder.
 
 # Seconds that each wait may take at most.
 SLURM_TEST_START_TIMEOUT=${SLURM_TEST_START_TIMEOUT:-60}
@@ -136,16 +136,23 @@ EOF
 
 slurm_start() {
     slurm_require_tools || return 1
-    SLURM_TEST_CTLD_PORT=${SLURM_TEST_CTLD_PORT:-6817}
-    SLURM_TEST_SLURMD_PORT=${SLURM_TEST_SLURMD_PORT:-6818}
-    local port
-    for port in "$SLURM_TEST_CTLD_PORT" "$SLURM_TEST_SLURMD_PORT"; do
-        if ! slurm_port_free "$port"; then
-            slurm_log "port $port is already in use (another Slurm?); set SLURM_TEST_CTLD_PORT"
-            slurm_log "and SLURM_TEST_SLURMD_PORT to free ports"
-            return 1
-        fi
-    done
+    # Slurm's own ports unless they are taken (another Slurm, another run of this test): then the
+    # first free pair from 16817 on. Set both variables to choose.
+    if [[ -z ${SLURM_TEST_CTLD_PORT:-} || -z ${SLURM_TEST_SLURMD_PORT:-} ]]; then
+        local port
+        for port in 6817 $(seq 16817 2 16915); do
+            if slurm_port_free "$port" && slurm_port_free $((port + 1)); then
+                SLURM_TEST_CTLD_PORT=$port
+                SLURM_TEST_SLURMD_PORT=$((port + 1))
+                break
+            fi
+        done
+    fi
+    if [[ -z ${SLURM_TEST_CTLD_PORT:-} ]] || ! slurm_port_free "$SLURM_TEST_CTLD_PORT" ||
+        ! slurm_port_free "$SLURM_TEST_SLURMD_PORT"; then
+        slurm_log "no free ports for slurmctld and slurmd (SLURM_TEST_CTLD_PORT, SLURM_TEST_SLURMD_PORT)"
+        return 1
+    fi
 
     SLURM_TEST_DIR=$(mktemp -d "${TMPDIR:-/tmp}/lamella-slurm.XXXXXX")
     local dir=$SLURM_TEST_DIR
@@ -183,7 +190,7 @@ slurm_start() {
         slurm_dump_logs
         return 1
     fi
-    slurm_log "node $SLURM_TEST_NODE idle in partition 'test' (SLURM_CONF=$SLURM_CONF)"
+    slurm_log "node $SLURM_TEST_NODE idle in partition 'test' (ports $SLURM_TEST_CTLD_PORT, $SLURM_TEST_SLURMD_PORT; SLURM_CONF=$SLURM_CONF)"
 }
 
 # Waits until none of the given job ids is in the queue any more, at most $1 seconds.
