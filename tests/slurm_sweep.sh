@@ -44,8 +44,12 @@ print_job_logs() {
     local f
     # The batch scripts and every log that the jobs or the members wrote.
     while IFS= read -r -d '' f; do
-        printf -- '----- %s (last 40 lines) -----\n' "$f" >&2
-        tail -n 40 "$f" >&2
+        if [[ -s $f ]]; then
+            printf -- '----- %s (last 40 lines) -----\n' "$f" >&2
+            tail -n 40 "$f" >&2
+        else
+            printf -- '----- %s (empty) -----\n' "$f" >&2
+        fi
     done < <(find "$out" -maxdepth 4 -type f \( -name '*.sbatch' -o -name '*.out' -o -name '*.err' \
         -o -name '*.log' -o -name 'sweep.csv' \) -print0 | sort -z)
 }

@@ -157,13 +157,17 @@ slurm_start() {
     SLURM_TEST_DIR=$(mktemp -d "${TMPDIR:-/tmp}/lamella-slurm.XXXXXX")
     local dir=$SLURM_TEST_DIR
     mkdir -p "$dir"/{munge,state,spool,run,log,jobs}
-    chmod 700 "$dir/munge"
+    # Clients reach munged's socket through these folders; the key is readable by root only.
+    chmod 755 "$dir" "$dir/munge"
     slurm_log "cluster folder $dir"
 
     # Munge: a fresh key of our own, a socket in the folder. --force lets munged run as root.
     mungekey --create --keyfile="$dir/munge/munge.key"
     chmod 400 "$dir/munge/munge.key"
-    munged --force --key-file="$dir/munge/munge.key" --socket="$dir/munge/munge.socket" \
+    # Each daemon runs in a session of its own (setsid), so that a signal to the test's process
+    # group (Ctrl-C, timeout) reaches the test, whose trap cancels the jobs and then stops the
+    # daemons in order, and not the daemons first.
+    setsid munged --force --key-file="$dir/munge/munge.key" --socket="$dir/munge/munge.socket" \
         --pid-file="$dir/run/munged.pid" --log-file="$dir/log/munged.log" \
         --seed-file="$dir/munge/munged.seed" --foreground \
         >>"$dir/log/munged.out" 2>&1 &
@@ -179,9 +183,9 @@ slurm_start() {
 
     # -D: stay in the foreground of a background job, so that we know the pid to stop;
     # -i/-c: start from empty state.
-    slurmctld -D -i -c -f "$SLURM_CONF" >>"$dir/log/slurmctld.out" 2>&1 &
+    setsid slurmctld -D -i -c -f "$SLURM_CONF" >>"$dir/log/slurmctld.out" 2>&1 &
     SLURM_TEST_PIDS+=($!)
-    slurmd -D -f "$SLURM_CONF" >>"$dir/log/slurmd.out" 2>&1 &
+    setsid slurmd -D -f "$SLURM_CONF" >>"$dir/log/slurmd.out" 2>&1 &
     SLURM_TEST_PIDS+=($!)
 
     if ! slurm_wait_for "$SLURM_TEST_START_TIMEOUT" "node $SLURM_TEST_NODE to be idle" \
@@ -260,6 +264,10 @@ slurm_check_jobs() {
         slurm_log "Slurm ran $others jobs besides the array, expected $want_others"
         ok=0
     fi
+    if ((!ok)); then
+        slurm_log "all jobs that slurmctld knows:"
+        printf '%s\n' "$table" >&2
+    fi
     if [[ -n $bad ]]; then
         slurm_log "jobs that did not complete:"
         printf '%s\n' "$bad" >&2
@@ -269,20 +277,20 @@ slurm_check_jobs() {
         slurm_log "a dependent job started at $first_start, before the array's last task ended at $last_end"
         ok=0
     fi
-    if ((!ok)); then
-        printf '%s\n' "$table" >&2
-        return 1
-    fi
+    ((ok)) || return 1
     slurm_log "Slurm ran $tasks array tasks (last ended $last_end) and $others dependent job(s) (started $first_start), all COMPLETED"
 }
 
 slurm_dump_logs() {
     [[ -n $SLURM_TEST_DIR && -d $SLURM_TEST_DIR/log ]] || return 0
-    local f
-    for f in "$SLURM_TEST_DIR"/log/*; do
-        [[ -s $f ]] || continue
-        printf -- '----- %s (last 40 lines) -----\n' "$f" >&2
-        tail -n 40 "$f" >&2
+    local name log
+    for name in munged slurmctld slurmd; do
+        # The daemon's own log file, or what it printed when it died before opening it.
+        log=$SLURM_TEST_DIR/log/$name.log
+        [[ -s $log ]] || log=$SLURM_TEST_DIR/log/$name.out
+        [[ -s $log ]] || continue
+        printf -- '----- %s (last 40 lines) -----\n' "$log" >&2
+        tail -n 40 "$log" >&2
     done
 }
 
@@ -314,15 +322,20 @@ slurm_stop() {
         wait "$pid" 2>/dev/null || true
     done
     SLURM_TEST_PIDS=()
-    # A slurmstepd (and its job) that survived: slurmd passed it our SLURM_CONF, so it is ours
-    # exactly when its environment names our folder's slurm.conf (no broad pattern).
+    # A slurmstepd or job process that survived: slurmd passed our SLURM_CONF to its steps and
+    # sbatch to the jobs, so a process is ours exactly when its environment names our folder's
+    # slurm.conf and it is not in this test's own session (no broad pattern).
     if [[ -n $SLURM_TEST_DIR ]]; then
-        for pid in $(pgrep -x slurmstepd || true); do
-            if tr '\0' '\n' 2>/dev/null <"/proc/$pid/environ" |
-                grep -qxF "SLURM_CONF=$SLURM_TEST_DIR/slurm.conf"; then
-                slurm_log "killing stray slurmstepd $pid"
-                kill -KILL "$pid" 2>/dev/null || true
-            fi
+        local own_session session entry
+        own_session=$(ps -o sid= -p $$ | tr -d ' ')
+        for entry in /proc/[0-9]*; do
+            pid=${entry#/proc/}
+            tr '\0' '\n' 2>/dev/null <"$entry/environ" |
+                grep -qxF "SLURM_CONF=$SLURM_TEST_DIR/slurm.conf" || continue
+            session=$(ps -o sid= -p "$pid" | tr -d ' ')
+            [[ -n $session && $session != "$own_session" ]] || continue
+            slurm_log "killing stray process $pid ($(ps -o args= -p "$pid" | cut -c1-80))"
+            kill -KILL "$pid" 2>/dev/null || true
         done
     fi
     if [[ -n $SLURM_TEST_DIR ]]; then
