@@ -9,6 +9,7 @@ mod error;
 mod generate;
 mod load;
 pub mod schema;
+pub mod sweep;
 pub mod templates;
 mod validate;
 

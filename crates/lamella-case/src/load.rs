@@ -12,26 +12,32 @@ use crate::schema::Case;
 /// Errors list every problem found: every unknown field and choice, and every bad value of
 /// a file that parses around them (another syntax error ends the listing).
 pub fn load(path: &Path) -> Result<Case, CaseError> {
+    let text = read_text(path, "case file")?;
+    parse_str(&text, &path.display().to_string())
+}
+
+/// The text of the `what` (e.g. "case file") at `path`, a regular file of UTF-8 text, or the
+/// problem naming it.
+pub(crate) fn read_text(path: &Path, what: &str) -> Result<String, CaseError> {
     let origin = path.display().to_string();
     let refuse = |problem: Problem| CaseError {
         origin: origin.clone(),
         problems: vec![problem],
     };
     let cannot_read = |err: std::io::Error| Problem::File {
-        message: format!("cannot read the case file: {err}; check the path and permissions"),
+        message: format!("cannot read the {what}: {err}; check the path and permissions"),
     };
     // A FIFO or device would block or never end: only regular files are read.
     let metadata = fs::metadata(path).map_err(|err| refuse(cannot_read(err)))?;
     if !metadata.is_file() {
         return Err(refuse(Problem::File {
-            message: "is not a regular file (a folder, FIFO or device); give the path of a \
-                      case file"
-                .into(),
+            message: format!(
+                "is not a regular file (a folder, FIFO or device); give the path of a {what}"
+            ),
         }));
     }
     let bytes = fs::read(path).map_err(|err| refuse(cannot_read(err)))?;
-    let text = utf8_text(&bytes).map_err(refuse)?;
-    parse_str(text, &origin)
+    utf8_text(&bytes).map(str::to_string).map_err(refuse)
 }
 
 /// The case text, or a syntax problem at the line and column of the first byte that is not
@@ -379,7 +385,7 @@ mod patch {
 }
 
 /// The parser's message with a hint on how to fix the common mistakes.
-fn syntax_message(code: &ron::Error) -> String {
+pub(crate) fn syntax_message(code: &ron::Error) -> String {
     let hint = match code {
         ron::Error::NoSuchStructField { .. } => {
             "; remove it or fix its spelling (every field is listed in cases/README.md)"

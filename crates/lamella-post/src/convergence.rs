@@ -5,6 +5,7 @@
 use thiserror::Error;
 
 use crate::fit::linear_fit;
+use crate::plot::{Chart, Series, Style};
 
 /// The fitted power law e = C Δxᵖ.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -99,6 +100,33 @@ impl OrderFit {
                 "not converging: the error does not fall as the spacing shrinks (slope {p:.2}, R² = {r2:.3})"
             )
         }
+    }
+}
+
+/// The convergence chart: the relative L2 error of each run against its spacing on log–log
+/// axes, with the fitted power law; the title is `title` and the fit's observed order.
+pub fn convergence_chart(title: &str, spacings: &[f64], errors: &[f64], fit: &OrderFit) -> Chart {
+    let fitted: Vec<f64> = spacings.iter().map(|&d| fit.predict(d)).collect();
+    Chart {
+        title: format!("{title}: observed order {:.2}", fit.order),
+        x_label: "particle spacing (m)".into(),
+        y_label: "relative L2 error of the profile (1)".into(),
+        log_x: true,
+        log_y: true,
+        series: vec![
+            Series {
+                label: "runs".into(),
+                x: spacings.to_vec(),
+                y: errors.to_vec(),
+                style: Style::Points,
+            },
+            Series {
+                label: format!("fit, slope {:.2}", fit.order),
+                x: spacings.to_vec(),
+                y: fitted,
+                style: Style::Dashed,
+            },
+        ],
     }
 }
 

@@ -3,7 +3,8 @@
 //! writes it during a run ([`recorder`]), the analytical channel profiles ([`reference`]),
 //! a case's two-layer channel as stability theory sees it ([`channel`]), the eigenmode seed
 //! ([`eigenmode`]), the analyses of a run folder ([`analysis`]), what a case asks of the
-//! machine ([`feasibility`]) and the standard benchmark ([`benchmark`]).
+//! machine ([`feasibility`]), the standard benchmark ([`benchmark`]) and the sweep folder of a
+//! parameter sweep ([`sweep`]).
 //!
 //! No command line, progress display or signal handling lives here: the run loop reports
 //! progress through [`runner::Progress`] and stops when a flag the caller owns is raised.
@@ -19,5 +20,6 @@ pub mod recorder;
 pub mod reference;
 pub mod runner;
 pub mod setup;
+pub mod sweep;
 
 pub use error::RunError;

@@ -19,6 +19,13 @@ use crate::output::snapshot::shear_rate_field;
 use crate::output::{OutputError, SnapshotMeta, write_snapshot};
 use crate::runner::RunObserver;
 
+/// How `run.log` begins the line of a run that reached its end time.
+pub const LOG_FINISHED: &str = "finished at t = ";
+/// How `run.log` begins the line of a run that went bad, followed by the fault.
+pub const LOG_WENT_BAD: &str = "the run went bad: ";
+/// How `run.log` begins the line of a run stopped by a signal after its checkpoint.
+pub const LOG_INTERRUPTED: &str = "interrupted; ";
+
 /// Checkpoint value names of the recorder's own bookkeeping.
 const NEXT_SNAPSHOT: &str = "output.next_snapshot_index";
 const NEXT_SAMPLE: &str = "output.next_sample_index";
@@ -377,7 +384,7 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
         self.checkpoint(sim).map_err(failed)?;
         self.log
             .line(&format!(
-                "finished at t = {} s, step {}",
+                "{LOG_FINISHED}{} s, step {}",
                 log_time(sim.time()),
                 sim.step_count()
             ))
@@ -387,7 +394,7 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
     fn on_failure(&mut self, sim: &Simulation<V>, fault: &Fault<V>) -> Result<(), RunError> {
         // The last good state, for inspection; the newest checkpoint stays the one to resume.
         self.log
-            .line(&format!("the run went bad: {fault}"))
+            .line(&format!("{LOG_WENT_BAD}{fault}"))
             .map_err(failed)?;
         self.series.flush().map_err(failed)?;
         self.probes.flush().map_err(failed)?;
@@ -397,7 +404,7 @@ impl<V: Vector> RunObserver<V> for Recorder<V> {
     fn on_interrupt(&mut self, sim: &Simulation<V>) -> Result<(), RunError> {
         self.checkpoint(sim).map_err(failed)?;
         self.log
-            .line("interrupted; resume with `lamella resume`")
+            .line(&format!("{LOG_INTERRUPTED}resume with `lamella resume`"))
             .map_err(failed)
     }
 }

@@ -59,14 +59,21 @@ impl Failure {
         ))
     }
 
+    /// Whether a stop signal ended the command (exit code 130).
+    pub fn is_interrupt(&self) -> bool {
+        matches!(
+            self,
+            Failure::Interrupted(_) | Failure::Run(RunError::Interrupted { .. })
+        )
+    }
+
     /// The line printed on standard error: "error: " and the message, except for an
     /// interrupt, which is what the user asked for and is reported as such.
     pub fn report_line(&self) -> String {
-        match self {
-            Failure::Interrupted(_) | Failure::Run(RunError::Interrupted { .. }) => {
-                self.to_string()
-            }
-            _ => format!("error: {self}"),
+        if self.is_interrupt() {
+            self.to_string()
+        } else {
+            format!("error: {self}")
         }
     }
 

@@ -1,5 +1,5 @@
 //! Progress over a known number of points (the wavenumbers of a stability scan, the (m, n)
-//! pairs of a map) on standard error, shown like a run's progress (`progress.rs`): a live bar
+//! pairs of a map, the members of a sweep) on standard error, shown like a run's progress (`progress.rs`): a live bar
 //! when standard error is a terminal, otherwise a plain line every
 //! [`crate::progress::LOG_INTERVAL`]; nothing with `--quiet`.
 
@@ -11,6 +11,8 @@ use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 /// Counts solved points out of a total and shows how far it is.
 pub struct PointProgress {
     what: &'static str,
+    /// What happened to a counted point ("solved", "done").
+    verb: &'static str,
     total: usize,
     display: Display,
     started: Instant,
@@ -24,8 +26,15 @@ enum Display {
 }
 
 impl PointProgress {
-    /// Progress over `total` points, each a `what` (e.g. "wavenumber"); silent when `quiet`.
+    /// Progress over `total` points, each a `what` (e.g. "wavenumber"), counted as solved;
+    /// silent when `quiet`.
     pub fn new(what: &'static str, total: usize, quiet: bool) -> Self {
+        Self::counting(what, "solved", total, quiet)
+    }
+
+    /// Progress over `total` things, each a `what` (e.g. "member"), counted as `verb` (e.g.
+    /// "done"); silent when `quiet`.
+    pub fn counting(what: &'static str, verb: &'static str, total: usize, quiet: bool) -> Self {
         let display = if quiet {
             Display::Silent
         } else if std::io::stderr().is_terminal() {
@@ -40,7 +49,7 @@ impl PointProgress {
                 .unwrap_or_else(|_| ProgressStyle::default_bar())
                 .progress_chars("=> "),
             );
-            bar.set_message(format!("{what}s solved"));
+            bar.set_message(format!("{what}s {verb}"));
             Display::Bar(bar)
         } else {
             Display::Lines
@@ -48,6 +57,7 @@ impl PointProgress {
         let now = Instant::now();
         PointProgress {
             what,
+            verb,
             total,
             display,
             started: now,
@@ -70,7 +80,12 @@ impl PointProgress {
                 let fraction = done.min(self.total) as f64 / self.total.max(1) as f64;
                 let eta = crate::progress::eta_seconds(elapsed, 0.0, fraction)
                     .map_or_else(|| "unknown".to_string(), |s| format!("{s:.0} s"));
-                crate::note!("{done} of {} {}s solved, ETA {eta}", self.total, self.what);
+                crate::note!(
+                    "{done} of {} {}s {}, ETA {eta}",
+                    self.total,
+                    self.what,
+                    self.verb
+                );
             }
         }
     }

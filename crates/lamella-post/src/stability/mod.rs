@@ -52,7 +52,7 @@ mod search;
 mod spectrum;
 
 pub use channel::{BaseFlow, ChannelScales, LayeredChannel};
-pub use charts::{growth_curve_chart, map_chart};
+pub use charts::{RatioPoint, growth_curve_chart, map_chart, ratio_map};
 pub use eigenmode::Eigenmode;
 pub use long_wave::{LongWave, long_wave_coefficient};
 pub use search::{

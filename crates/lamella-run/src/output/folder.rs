@@ -199,6 +199,15 @@ impl RunFolder {
     }
 }
 
+/// Whether a process holds the lock of the run folder at `root` now (a run or resume is
+/// writing it). Reads only: the lock file is opened read-only and probed with a shared lock.
+pub fn in_use(root: &Path) -> bool {
+    let Ok(file) = File::open(root.join(LOCK_FILE)) else {
+        return false;
+    };
+    matches!(file.try_lock_shared(), Err(fs::TryLockError::WouldBlock))
+}
+
 /// This machine's name, for the lock file ("unknown" where the system does not say).
 fn host_name() -> String {
     fs::read_to_string("/proc/sys/kernel/hostname")
@@ -357,7 +366,9 @@ mod tests {
             RunFolder::create(&root, true).unwrap_err(),
             OutputError::Folder(_)
         ));
+        assert!(in_use(&root));
         drop(first);
+        assert!(!in_use(&root));
         RunFolder::open(&root).unwrap().locked().unwrap();
     }
 

@@ -3,18 +3,15 @@
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
 
-use glam::{DVec2, DVec3};
-use lamella_case::{Case, Generated, ViscosityTreatment, generate};
+use lamella_case::{Case, ViscosityTreatment};
 use lamella_post::stability::ChannelScales;
 use lamella_sph::Limit;
 
 use crate::Failure;
 use crate::commands::Globals;
+use crate::commands::shared::counts;
 use lamella_run::feasibility::{self, load_case};
 use lamella_run::reference::channel_reference;
-
-/// Largest particle count `check` generates to count exactly; above it, counts are estimated.
-const COUNT_BY_GENERATION_LIMIT: f64 = 2.0e7;
 
 /// Options of `lamella check`.
 #[derive(Debug, clap::Args)]
@@ -35,69 +32,6 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         crate::console::report_text(format_args!("{}", summary(&args.case, &case)))?;
     }
     Ok(())
-}
-
-/// Particle counts of a case.
-pub(crate) struct Counts {
-    /// Fluid particles per phase.
-    pub per_phase: Vec<usize>,
-    /// Wall particles.
-    pub walls: usize,
-    /// Lattice sites no region covers.
-    pub uncovered: usize,
-    /// False when the counts are estimated from the lattice size (very large cases).
-    pub exact: bool,
-}
-
-impl Counts {
-    /// All particles, fluid and wall.
-    pub fn total(&self) -> usize {
-        self.per_phase.iter().sum::<usize>() + self.walls
-    }
-}
-
-/// Generates the particles of a validated case in its dimension.
-pub(crate) fn generate_counted(case: &Case) -> (Counts, usize) {
-    fn counted<V: lamella_cells::Vector>(case: &Case, g: &Generated<V>) -> Counts {
-        Counts {
-            per_phase: g.fluid_count_per_phase(case.phases.len()),
-            walls: g.wall_count(),
-            uncovered: g.uncovered_sites,
-            exact: true,
-        }
-    }
-    if case.dimension == 3 {
-        let g = generate::<DVec3>(case);
-        (counted(case, &g), g.len())
-    } else {
-        let g = generate::<DVec2>(case);
-        (counted(case, &g), g.len())
-    }
-}
-
-fn counts(case: &Case) -> Counts {
-    let sites: f64 = case.lattice_counts().iter().map(|&n| n as f64).product();
-    if sites <= COUNT_BY_GENERATION_LIMIT {
-        return generate_counted(case).0;
-    }
-    // Too many to generate for a check: all fluid in phase 0's count, walls from the box faces.
-    let dx = case.particles.spacing;
-    let walls: f64 = case
-        .walls
-        .iter()
-        .map(|w| {
-            let axis = w.side.axis().index();
-            f64::from(w.layers) * sites * dx / case.extent(axis)
-        })
-        .sum();
-    let mut per_phase = vec![0; case.phases.len()];
-    per_phase[0] = sites as usize;
-    Counts {
-        per_phase,
-        walls: walls as usize,
-        uncovered: 0,
-        exact: false,
-    }
 }
 
 /// The report `lamella check` prints for a valid case.

@@ -11,8 +11,7 @@
 use std::path::{Path, PathBuf};
 use std::process::{Command, Stdio};
 
-use lamella_post::convergence::fit_observed_order;
-use lamella_post::plot::{Chart, Series, Style};
+use lamella_post::convergence::{convergence_chart, fit_observed_order};
 use lamella_post::table::csv_document;
 
 use crate::Failure;
@@ -293,28 +292,7 @@ fn summarise(
     )
     .map_err(Failure::RunFailed)?;
     write_bytes(&out.join("convergence.csv"), csv.as_bytes())?;
-    let fitted: Vec<f64> = dx.iter().map(|&d| fit.predict(d)).collect();
-    let chart = Chart {
-        title: format!("{title}: observed order {:.2}", fit.order),
-        x_label: "particle spacing (m)".into(),
-        y_label: "relative L2 error of the profile (1)".into(),
-        log_x: true,
-        log_y: true,
-        series: vec![
-            Series {
-                label: "runs".into(),
-                x: dx.to_vec(),
-                y: l2.to_vec(),
-                style: Style::Points,
-            },
-            Series {
-                label: format!("fit, slope {:.2}", fit.order),
-                x: dx.to_vec(),
-                y: fitted,
-                style: Style::Dashed,
-            },
-        ],
-    };
+    let chart = convergence_chart(title, dx, l2, &fit);
     let png = chart
         .to_png(800, 600)
         .map_err(|e| Failure::RunFailed(e.to_string()))?;

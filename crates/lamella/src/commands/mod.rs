@@ -1,13 +1,16 @@
 //! One module per subcommand; each has an `Args` (clap) and a `run` function. The list of
 //! subcommands ([`Command`]) and the options they share ([`Globals`]) are here, so the
 //! subcommands never import the command line's top level. Subcommands never import each
-//! other: what they share is in [`shared`] and [`values`], or in the libraries.
+//! other: what they share is in [`shared`], [`values`] and [`launch`] (starting and resuming
+//! runs), or in the libraries.
 
 pub mod bench;
+pub mod calibration;
 pub mod check;
 pub mod converge;
 pub mod estimate;
 pub mod growth;
+pub mod launch;
 pub mod mix;
 pub mod new;
 pub mod profile;
@@ -15,6 +18,7 @@ pub mod resume;
 pub mod run;
 pub mod shared;
 pub mod stability;
+pub mod sweep;
 pub mod values;
 
 use std::sync::atomic::AtomicBool;
@@ -59,6 +63,8 @@ pub enum Command {
     Bench(bench::Args),
     /// Predict the wall time and memory of a case on this machine from a short calibration.
     Estimate(estimate::Args),
+    /// Parameter sweeps: check, run here or on a Slurm cluster, and report many cases at once.
+    Sweep(sweep::Args),
 }
 
 /// Runs the chosen subcommand.
@@ -75,6 +81,7 @@ pub fn dispatch(command: Command, globals: Globals) -> Result<(), Failure> {
         Command::Mix(args) => mix::run(args, globals),
         Command::Bench(args) => bench::run(args, globals),
         Command::Estimate(args) => estimate::run(args, globals),
+        Command::Sweep(args) => sweep::run(args, globals),
     }
 }
 

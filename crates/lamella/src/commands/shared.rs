@@ -1,6 +1,9 @@
 //! What several subcommands share on the command line: number lists, the options of the growth
-//! fit (`growth`, `stability --run`) and how a measured growth is reported and drawn.
+//! fit (`growth`, `stability --run`), how a measured growth is reported and drawn, and the
+//! particle counts of a case (`check`, `sweep check`).
 
+use glam::{DVec2, DVec3};
+use lamella_case::{Case, Generated, generate};
 use lamella_post::growth::{self, ModeFit, Window};
 use lamella_post::number::{significant, with_uncertainty};
 use lamella_post::plot::{Chart, Series, Style};
@@ -166,5 +169,71 @@ pub fn growth_chart(title: &str, measured: &Measurement, predicted: Option<f64>)
         log_x: false,
         log_y: true,
         series,
+    }
+}
+
+/// Largest particle count `check` and `sweep check` generate to count exactly; above it, counts are estimated.
+const COUNT_BY_GENERATION_LIMIT: f64 = 2.0e7;
+
+/// Particle counts of a case.
+pub(crate) struct Counts {
+    /// Fluid particles per phase.
+    pub per_phase: Vec<usize>,
+    /// Wall particles.
+    pub walls: usize,
+    /// Lattice sites no region covers.
+    pub uncovered: usize,
+    /// False when the counts are estimated from the lattice size (very large cases).
+    pub exact: bool,
+}
+
+impl Counts {
+    /// All particles, fluid and wall.
+    pub fn total(&self) -> usize {
+        self.per_phase.iter().sum::<usize>() + self.walls
+    }
+}
+
+/// Generates the particles of a validated case in its dimension.
+pub(crate) fn generate_counted(case: &Case) -> (Counts, usize) {
+    fn counted<V: lamella_cells::Vector>(case: &Case, g: &Generated<V>) -> Counts {
+        Counts {
+            per_phase: g.fluid_count_per_phase(case.phases.len()),
+            walls: g.wall_count(),
+            uncovered: g.uncovered_sites,
+            exact: true,
+        }
+    }
+    if case.dimension == 3 {
+        let g = generate::<DVec3>(case);
+        (counted(case, &g), g.len())
+    } else {
+        let g = generate::<DVec2>(case);
+        (counted(case, &g), g.len())
+    }
+}
+
+pub(crate) fn counts(case: &Case) -> Counts {
+    let sites: f64 = case.lattice_counts().iter().map(|&n| n as f64).product();
+    if sites <= COUNT_BY_GENERATION_LIMIT {
+        return generate_counted(case).0;
+    }
+    // Too many to generate for a check: all fluid in phase 0's count, walls from the box faces.
+    let dx = case.particles.spacing;
+    let walls: f64 = case
+        .walls
+        .iter()
+        .map(|w| {
+            let axis = w.side.axis().index();
+            f64::from(w.layers) * sites * dx / case.extent(axis)
+        })
+        .sum();
+    let mut per_phase = vec![0; case.phases.len()];
+    per_phase[0] = sites as usize;
+    Counts {
+        per_phase,
+        walls: walls as usize,
+        uncovered: 0,
+        exact: false,
     }
 }

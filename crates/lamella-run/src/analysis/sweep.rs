@@ -1,0 +1,255 @@
+//! The results of a sweep folder's members side by side: one row per member with its status,
+//! its parameter values, its two-layer ratios, the profile error, the measured and predicted
+//! growth rate; `sweep.csv`, the (m, n) map of the measured growth, or for a sweep over the
+//! spacing alone the convergence chart.
+
+use std::path::{Path, PathBuf};
+
+use lamella_case::{Analysis, Case};
+use lamella_post::convergence::{convergence_chart, fit_observed_order};
+use lamella_post::stability::{RatioPoint, ratio_map};
+
+use super::AnalysisError;
+use super::folder::Run;
+use super::growth::{FitSettings, measure};
+use super::mode::predicted_mode;
+use super::profile::profile;
+use crate::channel::CaseChannel;
+use crate::output::RunFolder;
+use crate::output::atomic::write_bytes;
+use crate::sweep::{Status, SweepFolder};
+
+/// A measured growth of the interface mode.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct MeasuredGrowth {
+    /// Growth rate (1/s).
+    pub rate: f64,
+    /// Half-width of its 95 % interval (1/s).
+    pub rate_ci95: f64,
+    /// Wave speed (m/s).
+    pub wave_speed: f64,
+    /// Half-width of its 95 % interval (m/s).
+    pub wave_speed_ci95: f64,
+}
+
+/// What one member gave.
+#[derive(Clone, Debug, PartialEq)]
+pub struct MemberResult {
+    /// Index of the member.
+    pub index: usize,
+    /// Its parameter values, in the order of the sweep file.
+    pub values: Vec<f64>,
+    /// Its status.
+    pub status: Status,
+    /// Viscosity ratio m and width ratio n, when its case is a two-layer channel.
+    pub ratios: Option<(f64, f64)>,
+    /// Relative L2 error of the last snapshot's velocity profile against the analytical one,
+    /// when the member finished and its case has one.
+    pub profile_error: Option<f64>,
+    /// The fitted growth of the interface mode, or why there is none, when the case records
+    /// the mode (`InterfaceAmplitude`) and the member finished.
+    pub growth: Option<Result<MeasuredGrowth, String>>,
+    /// The growth rate linear theory predicts (1/s) for its case, when it is a two-layer
+    /// channel.
+    pub theory_rate: Option<f64>,
+}
+
+/// Gathers the results of every member of `folder`.
+pub fn gather(folder: &SweepFolder) -> Result<Vec<MemberResult>, AnalysisError> {
+    (0..folder.len())
+        .map(|index| member_result(folder, index))
+        .collect()
+}
+
+fn member_result(folder: &SweepFolder, index: usize) -> Result<MemberResult, AnalysisError> {
+    let case_path = folder.member_case(index);
+    let case = lamella_case::load(&case_path).map_err(|err| {
+        AnalysisError::BadInput(format!("{err}; the sweep folder was changed by hand?"))
+    })?;
+    let status = folder.status(index);
+    let channel = CaseChannel::of(&case).ok();
+    let theory_rate = match &channel {
+        Some(_) => Some(predicted_mode(&case, &case_path)?.rate),
+        None => None,
+    };
+    let finished = status == Status::Finished;
+    let run_dir = folder.member_run(index);
+    let profile_error = if finished {
+        let run = Run::open(&run_dir)?;
+        profile(&run, None, 1, None, None, None)?
+            .comparison
+            .ok()
+            .map(|(c, _)| c.relative_l2)
+    } else {
+        None
+    };
+    let growth = (finished && case.output.analyses.contains(&Analysis::InterfaceAmplitude))
+        .then(|| measured_growth(&run_dir, &case));
+    Ok(MemberResult {
+        index,
+        values: folder.manifest.members[index].clone(),
+        status,
+        ratios: channel.map(|c| (c.pair.viscosity_ratio, c.pair.width_ratio)),
+        profile_error,
+        growth,
+        theory_rate,
+    })
+}
+
+/// The growth `lamella growth` fits with its default settings, or why there is none.
+fn measured_growth(run_dir: &Path, case: &Case) -> Result<MeasuredGrowth, String> {
+    let folder = RunFolder::open(run_dir).map_err(|err| err.to_string())?;
+    let measurement = measure(&folder, case, &FitSettings::default()).map_err(|e| e.to_string())?;
+    let fit = measurement.fit.map_err(|err| err.to_string())?;
+    Ok(MeasuredGrowth {
+        rate: fit.rate,
+        rate_ci95: fit.rate_ci95,
+        wave_speed: fit.wave_speed,
+        wave_speed_ci95: fit.wave_speed_ci95,
+    })
+}
+
+/// A CSV cell of text: quoted when it holds a comma, a quote or a line break (RFC 4180).
+fn text_cell(text: &str) -> String {
+    if text.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
+}
+
+/// A CSV cell of a number (shortest round-trip form), empty when there is none.
+fn number_cell(value: Option<f64>) -> String {
+    value.map_or_else(String::new, |v| format!("{v:e}"))
+}
+
+/// `sweep.csv`: a header (the parameters' field paths as their column names) and one row per
+/// member.
+pub fn table(parameters: &[String], rows: &[MemberResult]) -> String {
+    let mut header = vec!["member".to_string(), "status".to_string()];
+    header.extend(parameters.iter().map(|p| text_cell(p)));
+    header.extend(
+        [
+            "viscosity_ratio_m",
+            "width_ratio_n",
+            "profile_relative_l2",
+            "growth_rate_per_s",
+            "growth_rate_ci95_per_s",
+            "wave_speed_m_per_s",
+            "wave_speed_ci95_m_per_s",
+            "theory_growth_rate_per_s",
+            "note",
+        ]
+        .map(String::from),
+    );
+    let mut out = header.join(",");
+    out.push('\n');
+    for row in rows {
+        let growth = row.growth.as_ref().and_then(|g| g.as_ref().ok());
+        let note = match (&row.status, &row.growth) {
+            (Status::Failed(why), _) => why.clone(),
+            (_, Some(Err(why))) => format!("no growth rate: {why}"),
+            _ => String::new(),
+        };
+        let mut cells = vec![row.index.to_string(), row.status.word().to_string()];
+        cells.extend(row.values.iter().map(|&v| number_cell(Some(v))));
+        cells.extend([
+            number_cell(row.ratios.map(|r| r.0)),
+            number_cell(row.ratios.map(|r| r.1)),
+            number_cell(row.profile_error),
+            number_cell(growth.map(|g| g.rate)),
+            number_cell(growth.map(|g| g.rate_ci95)),
+            number_cell(growth.map(|g| g.wave_speed)),
+            number_cell(growth.map(|g| g.wave_speed_ci95)),
+            number_cell(row.theory_rate),
+            text_cell(&note),
+        ]);
+        out.push_str(&cells.join(","));
+        out.push('\n');
+    }
+    out
+}
+
+/// The files a report wrote.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Written {
+    /// `sweep.csv`.
+    pub table: PathBuf,
+    /// `stability-map.png`, when members with two layers measured a growth rate.
+    pub map: Option<PathBuf>,
+    /// `convergence.png` and its verdict, for a sweep over `particles.spacing` alone with
+    /// profile errors at two spacings or more.
+    pub convergence: Option<(PathBuf, String)>,
+}
+
+/// Writes `sweep.csv` and the chart into the sweep folder.
+pub fn write_report(folder: &SweepFolder, rows: &[MemberResult]) -> Result<Written, AnalysisError> {
+    let root = folder.root();
+    let mut written = Written {
+        table: root.join("sweep.csv"),
+        ..Written::default()
+    };
+    write_bytes(
+        &written.table,
+        table(&folder.manifest.parameters, rows).as_bytes(),
+    )?;
+    if folder.manifest.parameters == ["particles.spacing"] {
+        let (dx, l2): (Vec<f64>, Vec<f64>) = rows
+            .iter()
+            .filter_map(|r| r.profile_error.map(|e| (r.values[0], e)))
+            .unzip();
+        if let Ok(fit) = fit_observed_order(&dx, &l2) {
+            let chart = convergence_chart("sweep over the spacing", &dx, &l2, &fit);
+            let png = chart
+                .to_png(800, 600)
+                .map_err(|err| AnalysisError::Failed(err.to_string()))?;
+            let path = root.join("convergence.png");
+            write_bytes(&path, &png)?;
+            written.convergence = Some((path, fit.verdict()));
+        }
+        return Ok(written);
+    }
+    let points: Vec<RatioPoint> = rows
+        .iter()
+        .filter_map(|r| {
+            let (m, n) = r.ratios?;
+            let rate = r.growth.as_ref()?.as_ref().ok()?.rate;
+            Some(RatioPoint { m, n, value: rate })
+        })
+        .collect();
+    if !points.is_empty() {
+        let map = ratio_map(
+            &points,
+            format!(
+                "Sweep: measured growth of the interface wave ({} members)",
+                points.len()
+            ),
+            "measured growth rate (1/s)",
+            (
+                "growing (measured rate > 0)",
+                "decaying (measured rate ≤ 0)",
+            ),
+        );
+        let png = map
+            .to_png(900, 700)
+            .map_err(|err| AnalysisError::Failed(err.to_string()))?;
+        let path = root.join("stability-map.png");
+        write_bytes(&path, &png)?;
+        written.map = Some(path);
+    }
+    Ok(written)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn text_cells_are_quoted_only_when_needed() {
+        assert_eq!(text_cell("plain"), "plain");
+        assert_eq!(text_cell("a, b"), "\"a, b\"");
+        assert_eq!(text_cell("say \"x\""), "\"say \"\"x\"\"\"");
+        assert_eq!(number_cell(None), "");
+        assert_eq!(number_cell(Some(0.5)), "5e-1");
+    }
+}
