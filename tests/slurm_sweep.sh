@@ -3,8 +3,10 @@
 # (tests/slurm/single_node.sh): submits the 4-member sweep tests/slurm/tiny-sweep.ron (a coarse
 # start-up Poiseuille channel, 216 particles, 0.05 s, at four viscosities), waits for the job
 # array and its collect job to leave the queue, runs `lamella sweep report` and checks that
-#   - Slurm ran an array of exactly 4 tasks and the collect job, all COMPLETED;
-#   - DIR/sweep.csv has one row per member, 4 rows, each with status `finished`.
+#   - Slurm ran an array of exactly 4 tasks and the collect job after them, all COMPLETED, and
+#     each task's log (DIR/logs/member-N.out) says its member finished;
+#   - DIR/sweep.csv has 4 rows, each with status `finished`, the sweep file's four viscosities
+#     and a profile error (against the start-up series solution) between 0 and 10 %.
 # On failure it says what was wrong and prints the job logs and the daemons' logs. The daemons are
 # stopped and the cluster's folder removed in every case (EXIT trap). Every wait is bounded.
 #
@@ -90,15 +92,24 @@ if ! slurm_wait_queue_empty "$SWEEP_TIMEOUT"; then
 fi
 slurm_check_jobs "$MEMBERS" 1 || fail "Slurm did not run the sweep as a $MEMBERS-task array and a collect job"
 
+# Every task's log, written by Slurm (the scripts' --output), says its member finished.
+for ((i = 0; i < MEMBERS; i++)); do
+    log=$out/logs/member-$i.out
+    [[ -s $log ]] || fail "no log $log: Slurm did not run task $i"
+    grep -q 'finished at t = ' "$log" || fail "the log of task $i does not say its member finished"
+done
+
 "$lamella" sweep report "$out" || fail "'lamella sweep report' failed"
 [[ -s $out/sweep.csv ]] || fail "no $out/sweep.csv"
-python3 - "$out/sweep.csv" "$MEMBERS" <<'EOF' || fail "sweep.csv does not list $MEMBERS finished members"
-import csv, sys
+python3 - "$out/sweep.csv" "$MEMBERS" <<'PY' || fail "sweep.csv does not list $MEMBERS finished members (above)"
+import csv, math, sys
 path, expected = sys.argv[1], int(sys.argv[2])
 with open(path, newline="") as f:
     rows = list(csv.DictReader(f))
-if not rows or "status" not in rows[0]:
-    sys.exit(f"{path}: no 'status' column")
+viscosity = "phases[0].viscosity_law.viscosity"
+for column in ("status", viscosity, "profile_relative_l2"):
+    if not rows or column not in rows[0]:
+        sys.exit(f"{path}: no '{column}' column")
 statuses = [row["status"] for row in rows]
 print(f"slurm-sweep: sweep.csv: {len(rows)} members, statuses {statuses}")
 if len(rows) != expected:
@@ -106,7 +117,17 @@ if len(rows) != expected:
 bad = [i for i, s in enumerate(statuses) if s != "finished"]
 if bad:
     sys.exit(f"{path}: members {bad} are not 'finished'")
-EOF
+# The members are the sweep file's (the four viscosities, in order) and each has a result: the
+# profile error against the start-up series solution, about 2 % at this coarse spacing.
+got = [float(row[viscosity]) for row in rows]
+want = [0.8e-3, 1.0e-3, 1.25e-3, 1.6e-3]
+if any(not math.isclose(g, w, rel_tol=1e-9) for g, w in zip(got, want)):
+    sys.exit(f"{path}: viscosities {got}, expected {want}")
+errors = [float(row["profile_relative_l2"] or "nan") for row in rows]
+if not all(0.0 < e < 0.1 for e in errors):
+    sys.exit(f"{path}: profile errors {errors}, expected each between 0 and 10 %")
+print(f"slurm-sweep: viscosities {got}, profile L2 errors {[round(e, 4) for e in errors]}")
+PY
 
 printf 'slurm-sweep: %d members ran as a Slurm job array, all finished (%d s)\n' \
     "$MEMBERS" "$((SECONDS - started))"
