@@ -197,35 +197,6 @@ slurm_start() {
     slurm_log "node $SLURM_TEST_NODE idle in partition 'test' (ports $SLURM_TEST_CTLD_PORT, $SLURM_TEST_SLURMD_PORT; SLURM_CONF=$SLURM_CONF)"
 }
 
-# Waits until none of the given job ids is in the queue any more, at most $1 seconds.
-slurm_wait_gone() {
-    local limit=$1
-    shift
-    local ids
-    ids=$(
-        IFS=,
-        echo "$*"
-    )
-    local deadline=$((SECONDS + limit)) left
-    while :; do
-        if ! left=$(slurm_bounded squeue --noheader --jobs="$ids" --format='%i %T' 2>&1); then
-            # squeue refuses ids it no longer knows (all of them gone past MinJobAge).
-            if grep -q 'Invalid job id' <<<"$left"; then
-                return 0
-            fi
-            slurm_log "squeue failed: $left"
-            return 1
-        fi
-        [[ -z $left ]] && return 0
-        if ((SECONDS >= deadline)); then
-            slurm_log "jobs still queued or running after ${limit} s:"
-            printf '%s\n' "$left" >&2
-            return 1
-        fi
-        sleep 1
-    done
-}
-
 # Waits until the queue is empty (this cluster is ours alone), at most $1 seconds.
 slurm_wait_queue_empty() {
     local limit=$1 deadline=$((SECONDS + $1)) left
@@ -300,11 +271,11 @@ slurm_stop() {
     if [[ -n ${SLURM_CONF:-} && -n $SLURM_TEST_DIR && $SLURM_CONF == "$SLURM_TEST_DIR"/* ]] &&
         ((${#SLURM_TEST_PIDS[@]})); then
         local ids
-        ids=$(slurm_bounded squeue --noheader --format=%A 2>/dev/null | tr '\n' ' ' || true)
-        if [[ -n ${ids// /} ]]; then
-            slurm_log "cancelling jobs still in the queue: $ids"
-            slurm_bounded scancel $ids 2>/dev/null || true
-            slurm_wait_gone 20 $ids >/dev/null 2>&1 || true
+        mapfile -t ids < <(slurm_bounded squeue --noheader --format=%A 2>/dev/null || true)
+        if ((${#ids[@]})); then
+            slurm_log "cancelling jobs still in the queue: ${ids[*]}"
+            slurm_bounded scancel "${ids[@]}" 2>/dev/null || true
+            slurm_wait_queue_empty 20 >/dev/null 2>&1 || true
         fi
     fi
     # Stop in reverse order: slurmd, slurmctld, munged.
@@ -359,6 +330,7 @@ slurm_self_test() {
 
     local work=$SLURM_TEST_DIR/jobs array_id after_id task
     cd "$work"
+    # shellcheck disable=SC2016 # the variables are the job's, expanded when it runs
     array_id=$(slurm_bounded sbatch --parsable --array=0-3 --output=array.%a.log \
         --wrap 'echo $SLURM_ARRAY_TASK_ID > out.$SLURM_ARRAY_TASK_ID')
     after_id=$(slurm_bounded sbatch --parsable --dependency="afterany:$array_id" \
