@@ -1,0 +1,334 @@
+//! `lamella sweep`: a sweep stopped by SIGINT and run again skips its finished member (whose
+//! files stay untouched) and resumes the interrupted one from its checkpoint to the same bytes
+//! as an uninterrupted run; bad sweep files and folders are refused with exit code 2; the
+//! Slurm scripts call this binary on the sweep folder.
+
+use std::collections::BTreeMap;
+use std::fs;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Stdio};
+use std::time::{Duration, Instant, SystemTime};
+
+use lamella_suite::{assert_success, cases_dir, text};
+
+const LAMELLA: &str = env!("CARGO_BIN_EXE_lamella");
+
+fn lamella(args: &[&str]) -> std::process::Output {
+    lamella_suite::run(LAMELLA, args)
+}
+
+fn arg(path: &Path) -> &str {
+    path.to_str().expect("UTF-8 temporary paths")
+}
+
+/// A sweep file over `cases/interface-growth.ron` with `parameters` (RON list items).
+fn write_sweep(dir: &Path, name: &str, parameters: &str) -> PathBuf {
+    let base = cases_dir().join("interface-growth.ron");
+    let path = dir.join(name);
+    fs::write(
+        &path,
+        format!(
+            "(base: {:?}, combine: Zip, parameters: [{parameters}])",
+            base.display().to_string()
+        ),
+    )
+    .unwrap();
+    path
+}
+
+/// Two members: member 0 runs 5 ms of flow (well under a second), member 1 runs 60 ms (a few
+/// seconds), so a stop sent while member 1 runs finds member 0 finished.
+fn two_members(dir: &Path) -> PathBuf {
+    write_sweep(
+        dir,
+        "two.ron",
+        "(path: \"phases[0].viscosity_law.viscosity\", values: List([2.0e-2, 1.0e-2])),
+         (path: \"time.end\", values: List([0.005, 0.06]))",
+    )
+}
+
+/// Every file under `root` with its bytes and modification time.
+fn files(root: &Path) -> BTreeMap<PathBuf, (Vec<u8>, SystemTime)> {
+    let mut found = BTreeMap::new();
+    let mut stack = vec![root.to_path_buf()];
+    while let Some(dir) = stack.pop() {
+        for entry in fs::read_dir(&dir).unwrap() {
+            let path = entry.unwrap().path();
+            if path.is_dir() {
+                stack.push(path);
+            } else {
+                let modified = fs::metadata(&path).unwrap().modified().unwrap();
+                found.insert(path.clone(), (fs::read(&path).unwrap(), modified));
+            }
+        }
+    }
+    found
+}
+
+/// The results of a run folder that a resumed run must reproduce byte for byte.
+fn results(run: &Path) -> Vec<(String, Vec<u8>)> {
+    let mut out = vec![(
+        "series.csv".into(),
+        fs::read(run.join("series.csv")).unwrap(),
+    )];
+    let mut snapshots: Vec<PathBuf> = fs::read_dir(run.join("snapshots"))
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| !p.file_name().unwrap().to_string_lossy().starts_with('.'))
+        .collect();
+    snapshots.sort();
+    for path in snapshots {
+        let name = path.file_name().unwrap().to_string_lossy().into_owned();
+        out.push((name, fs::read(&path).unwrap()));
+    }
+    out
+}
+
+#[test]
+fn a_stopped_sweep_skips_finished_members_and_resumes_the_interrupted_one() {
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = two_members(dir.path());
+    let out = dir.path().join("sweep");
+    let child = Command::new(LAMELLA)
+        .args([
+            "sweep",
+            "run",
+            arg(&sweep),
+            "--out",
+            arg(&out),
+            "--jobs",
+            "1",
+        ])
+        .stderr(Stdio::piped())
+        .stdout(Stdio::piped())
+        .spawn()
+        .unwrap();
+    // Member 1 has written its second snapshot (t = 20 ms of 60): it is stepping.
+    let second = out.join("member-001/snapshots/state_000001.vtp");
+    let started = Instant::now();
+    while !second.exists() {
+        assert!(
+            started.elapsed() < Duration::from_secs(120),
+            "member 1 did not start"
+        );
+        std::thread::sleep(Duration::from_millis(5));
+    }
+    let sent = Command::new("kill")
+        .args(["-INT", &child.id().to_string()])
+        .status()
+        .unwrap();
+    assert!(sent.success());
+    let stopped = child.wait_with_output().unwrap();
+    let stderr = text(&stopped.stderr);
+    assert_eq!(stopped.status.code(), Some(130), "{stderr}");
+    assert!(stderr.contains("run the same command again"), "{stderr}");
+    let listing = text(&stopped.stdout);
+    assert!(
+        listing.contains("member-000  finished") && listing.contains("member-001  interrupted"),
+        "{listing}"
+    );
+    let log = fs::read_to_string(out.join("member-001/run.log")).unwrap();
+    assert!(
+        log.contains("interrupted") && !log.contains("finished"),
+        "{log}"
+    );
+
+    let before = files(&out.join("member-000"));
+    let again = lamella(&["sweep", "run", arg(&sweep), "--out", arg(&out)]);
+    assert_success(&again, "the second sweep run");
+    assert!(
+        text(&again.stdout).contains("member-001  finished"),
+        "{}",
+        text(&again.stdout)
+    );
+    assert_eq!(
+        files(&out.join("member-000")),
+        before,
+        "the finished member was run again"
+    );
+    let log = fs::read_to_string(out.join("member-001/run.log")).unwrap();
+    assert!(log.contains("resumed at t = "), "{log}");
+
+    // The same member run straight through (its case file under its own name, as the
+    // snapshots carry the case name) gives the same bytes.
+    let straight_case = dir.path().join("member-001.ron");
+    fs::copy(out.join("cases/member-001.ron"), &straight_case).unwrap();
+    let straight = dir.path().join("straight");
+    assert_success(
+        &lamella(&["-q", "run", arg(&straight_case), "--out", arg(&straight)]),
+        "the straight run",
+    );
+    let (a, b) = (results(&straight), results(&out.join("member-001")));
+    assert_eq!(a.len(), b.len());
+    for ((name, x), (_, y)) in a.iter().zip(&b) {
+        assert!(
+            x == y,
+            "{name} differs between the straight and the resumed member"
+        );
+    }
+
+    // A third run has nothing to do; the folder belongs to this sweep and no other.
+    assert_success(
+        &lamella(&["-q", "sweep", "run", arg(&sweep), "--out", arg(&out)]),
+        "the third sweep run",
+    );
+    let other = write_sweep(
+        dir.path(),
+        "other.ron",
+        "(path: \"phases[0].viscosity_law.viscosity\", values: List([3.0e-2]))",
+    );
+    let refused = lamella(&["sweep", "run", arg(&other), "--out", arg(&out)]);
+    assert_eq!(refused.status.code(), Some(2));
+    assert!(
+        text(&refused.stderr).contains("holds another sweep"),
+        "{}",
+        text(&refused.stderr)
+    );
+    let report = lamella(&["sweep", "report", arg(&out)]);
+    assert_success(&report, "the report");
+    let table = fs::read_to_string(out.join("sweep.csv")).unwrap();
+    let statuses: Vec<&str> = table
+        .lines()
+        .skip(1)
+        .map(|l| l.split(',').nth(1).unwrap())
+        .collect();
+    assert_eq!(statuses, ["finished", "finished"], "{table}");
+}
+
+#[test]
+fn bad_sweep_files_and_folders_are_refused_naming_the_place() {
+    let dir = tempfile::tempdir().unwrap();
+    let unknown = write_sweep(
+        dir.path(),
+        "unknown.ron",
+        "(path: \"phases[0].viscosty\", values: List([1.0]))",
+    );
+    let out = lamella(&["sweep", "check", arg(&unknown), "--no-calibration"]);
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = text(&out.stderr);
+    assert!(
+        stderr.contains("unknown.ron: parameters[0].path")
+            && stderr.contains("`phases[0]` has no field `viscosty`; its fields are: ")
+            && stderr.contains("viscosity_law"),
+        "{stderr}"
+    );
+    let malformed = dir.path().join("malformed.ron");
+    fs::write(&malformed, "(base: \"x.ron\", parameters: [(path: 1)]").unwrap();
+    let out = lamella(&[
+        "sweep",
+        "run",
+        arg(&malformed),
+        "--out",
+        arg(&dir.path().join("o")),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("malformed.ron:1:"),
+        "{}",
+        text(&out.stderr)
+    );
+    assert!(
+        !dir.path().join("o").exists(),
+        "a refused sweep wrote a folder"
+    );
+    let plain = dir.path().join("plain");
+    fs::write(&plain, "x").unwrap();
+    let sweep = two_members(dir.path());
+    let out = lamella(&[
+        "sweep",
+        "run",
+        arg(&sweep),
+        "--out",
+        arg(&plain.join("sub")),
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("is not a folder"),
+        "{}",
+        text(&out.stderr)
+    );
+    let out = lamella(&["sweep", "member", arg(dir.path()), "0"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("not a sweep folder"),
+        "{}",
+        text(&out.stderr)
+    );
+}
+
+#[test]
+fn the_slurm_scripts_run_this_binary_on_each_member_and_a_missing_sbatch_is_explained() {
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = two_members(dir.path());
+    let out = dir.path().join("cluster");
+    let written = lamella(&[
+        "sweep",
+        "slurm",
+        arg(&sweep),
+        "--out",
+        arg(&out),
+        "--partition",
+        "debug",
+        "--time",
+        "00:10:00",
+        "--cpus-per-task",
+        "2",
+    ]);
+    assert_success(&written, "sweep slurm");
+    let root = fs::canonicalize(&out).unwrap();
+    let exe = fs::canonicalize(LAMELLA).unwrap();
+    let script = fs::read_to_string(out.join("sweep.sbatch")).unwrap();
+    for line in [
+        "#SBATCH --array=0-1".to_string(),
+        "#SBATCH --cpus-per-task=2".to_string(),
+        "#SBATCH --partition=debug".to_string(),
+        "#SBATCH --time=00:10:00".to_string(),
+        format!("#SBATCH --output={}/logs/member-%a.out", root.display()),
+        format!(
+            "exec '{}' sweep member '{}' \"$SLURM_ARRAY_TASK_ID\" --threads \"$SLURM_CPUS_PER_TASK\"",
+            exe.display(),
+            root.display()
+        ),
+    ] {
+        assert!(
+            script.lines().any(|l| l == line),
+            "no `{line}` in\n{script}"
+        );
+    }
+    let collect = fs::read_to_string(out.join("collect.sbatch")).unwrap();
+    assert!(
+        collect.contains(&format!("sweep report '{}'", root.display())),
+        "{collect}"
+    );
+    // An array task as Slurm would start it runs its member.
+    assert_success(
+        &lamella(&["-q", "sweep", "member", arg(&out), "0", "--threads", "1"]),
+        "member 0",
+    );
+    assert!(out.join("member-000/run.log").exists());
+    let missing = lamella(&["sweep", "member", arg(&out), "2"]);
+    assert_eq!(missing.status.code(), Some(2));
+    assert!(text(&missing.stderr).contains("has 2 members"));
+
+    // Without sbatch on the PATH, --submit explains and fails.
+    let empty = dir.path().join("no-slurm");
+    fs::create_dir_all(&empty).unwrap();
+    let submitted = Command::new(LAMELLA)
+        .args([
+            "sweep",
+            "slurm",
+            arg(&sweep),
+            "--out",
+            arg(&out),
+            "--submit",
+        ])
+        .env("PATH", &empty)
+        .output()
+        .unwrap();
+    assert_eq!(submitted.status.code(), Some(1));
+    assert!(
+        text(&submitted.stderr).contains("cannot run `sbatch`"),
+        "{}",
+        text(&submitted.stderr)
+    );
+}
