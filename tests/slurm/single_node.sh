@@ -170,7 +170,7 @@ slurm_start() {
     setsid munged --force --key-file="$dir/munge/munge.key" --socket="$dir/munge/munge.socket" \
         --pid-file="$dir/run/munged.pid" --log-file="$dir/log/munged.log" \
         --seed-file="$dir/munge/munged.seed" --foreground \
-        >>"$dir/log/munged.out" 2>&1 &
+        </dev/null >>"$dir/log/munged.out" 2>&1 &
     SLURM_TEST_PIDS+=($!)
     if ! slurm_wait_for 15 "munged" bash -c \
         "munge -n -S '$dir/munge/munge.socket' | unmunge -S '$dir/munge/munge.socket'"; then
@@ -183,9 +183,9 @@ slurm_start() {
 
     # -D: stay in the foreground of a background job, so that we know the pid to stop;
     # -i/-c: start from empty state.
-    setsid slurmctld -D -i -c -f "$SLURM_CONF" >>"$dir/log/slurmctld.out" 2>&1 &
+    setsid slurmctld -D -i -c -f "$SLURM_CONF" </dev/null >>"$dir/log/slurmctld.out" 2>&1 &
     SLURM_TEST_PIDS+=($!)
-    setsid slurmd -D -f "$SLURM_CONF" >>"$dir/log/slurmd.out" 2>&1 &
+    setsid slurmd -D -f "$SLURM_CONF" </dev/null >>"$dir/log/slurmd.out" 2>&1 &
     SLURM_TEST_PIDS+=($!)
 
     if ! slurm_wait_for "$SLURM_TEST_START_TIMEOUT" "node $SLURM_TEST_NODE to be idle" \
