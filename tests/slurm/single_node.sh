@@ -19,7 +19,7 @@
 # Environment: SLURM_TEST_CTLD_PORT and SLURM_TEST_SLURMD_PORT choose the ports (default 6817 and
 # 6818, Slurm's own, or the first free pair from 16817 on); SLURM_TEST_KEEP=1 keeps the folder.
 
-# Seconds that each wait may take at most.
+# Seconds the daemons may take to bring the node up (other waits take their bound as argument).
 SLURM_TEST_START_TIMEOUT=${SLURM_TEST_START_TIMEOUT:-60}
 
 SLURM_TEST_DIR=""
