@@ -332,3 +332,56 @@ fn the_slurm_scripts_run_this_binary_on_each_member_and_a_missing_sbatch_is_expl
         text(&submitted.stderr)
     );
 }
+
+#[test]
+fn the_report_of_a_mixing_case_carries_the_measures_lamella_mix_gives() {
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = dir.path().join("mix.ron");
+    let base = cases_dir().join("two-phase-cavity.ron");
+    fs::write(
+        &sweep,
+        format!(
+            "(base: {:?}, parameters: [(path: \"time.end\", values: List([0.002, 0.004]))])",
+            base.display().to_string()
+        ),
+    )
+    .unwrap();
+    let out = dir.path().join("sweep");
+    assert_success(
+        &lamella(&[
+            "-q",
+            "sweep",
+            "run",
+            arg(&sweep),
+            "--out",
+            arg(&out),
+            "--jobs",
+            "2",
+        ]),
+        "the mixing sweep",
+    );
+    assert_success(
+        &lamella(&["-q", "sweep", "report", arg(&out)]),
+        "the report",
+    );
+    let table = fs::read_to_string(out.join("sweep.csv")).unwrap();
+    let header: Vec<&str> = table.lines().next().unwrap().split(',').collect();
+    let row: Vec<&str> = table.lines().nth(2).unwrap().split(',').collect();
+    let cell = |name: &str| row[header.iter().position(|h| *h == name).unwrap()];
+    assert_success(
+        &lamella(&["-q", "mix", arg(&out.join("member-001"))]),
+        "lamella mix",
+    );
+    let mixing = fs::read_to_string(out.join("member-001/analysis/mixing.csv")).unwrap();
+    let last: Vec<&str> = mixing.lines().last().unwrap().split(',').collect();
+    // time_s, intensity_of_segregation, lacey_index, mixing_entropy_index, mean_ftle_per_s
+    assert_eq!(
+        cell("intensity_of_segregation"),
+        last[1],
+        "{table}\n{mixing}"
+    );
+    assert_eq!(cell("lacey_index"), last[2]);
+    assert_eq!(cell("mixing_entropy_index"), last[3]);
+    assert_eq!(cell("mean_ftle_per_s"), last[4]);
+    assert!(cell("mean_ftle_per_s").parse::<f64>().unwrap() > 0.0);
+}

@@ -18,16 +18,21 @@ use lamella_sph::{
 /// Extra lattice rows the neighbour-search box reaches past the outermost wall row.
 const SEARCH_MARGIN_ROWS: f64 = 2.0;
 
-/// The solver configuration of a case, for vectors of the case's dimension.
-pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupError> {
-    let dim = V::DIM;
-    let dx = case.particles.spacing;
+/// The smoothing kernel of a case in `dim` dimensions.
+pub fn kernel(case: &Case, dim: usize) -> Kernel {
     let kind = match case.particles.kernel {
         CaseKernel::WendlandC2 => KernelKind::WendlandC2,
         CaseKernel::CubicSpline => KernelKind::CubicSpline,
         CaseKernel::QuinticSpline => KernelKind::QuinticSpline,
     };
-    let kernel = Kernel::new(kind, case.particles.smoothing_ratio * dx, dim);
+    Kernel::new(kind, case.smoothing_length(), dim)
+}
+
+/// The solver configuration of a case, for vectors of the case's dimension.
+pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupError> {
+    let dim = V::DIM;
+    let dx = case.particles.spacing;
+    let kernel = kernel(case, dim);
     let (form, background_pressure) = match case.equation_of_state {
         EquationOfState::Linear {
             background_pressure,

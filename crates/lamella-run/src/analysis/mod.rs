@@ -1,11 +1,12 @@
 //! The analyses of a run folder as a library, for the analysis commands: opening a run folder
 //! and reading its tables ([`folder`]), the growth of the interface mode a run recorded
 //! ([`growth`]), the velocity profile against the case's analytical one ([`profile`]), the
-//! mode linear theory predicts for a case ([`mode`]) and the members of a sweep side by side
-//! ([`sweep`]). Numbers and files out; no printing.
+//! mode linear theory predicts for a case ([`mode`]), the mixing measures of its snapshots
+//! ([`mixing`]) and the members of a sweep side by side ([`sweep`]). Numbers and files out; no printing.
 
 pub mod folder;
 pub mod growth;
+pub mod mixing;
 pub mod mode;
 pub mod profile;
 pub mod sweep;

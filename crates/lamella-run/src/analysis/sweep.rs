@@ -1,6 +1,6 @@
 //! The results of a sweep folder's members side by side: one row per member with its status,
 //! its parameter values, its two-layer ratios, the profile error, the measured and predicted
-//! growth rate; `sweep.csv`, the (m, n) map of the measured growth, or for a sweep over the
+//! growth rate, the mixing measures; `sweep.csv`, the (m, n) map of the measured growth, or for a sweep over the
 //! spacing alone the convergence chart.
 
 use std::path::{Path, PathBuf};
@@ -12,6 +12,7 @@ use lamella_post::stability::{RatioPoint, ratio_map};
 use super::AnalysisError;
 use super::folder::Run;
 use super::growth::{FitSettings, measure};
+use super::mixing::{Scalars, last_scalars};
 use super::mode::predicted_mode;
 use super::profile::profile;
 use crate::channel::CaseChannel;
@@ -52,6 +53,9 @@ pub struct MemberResult {
     /// The growth rate linear theory predicts (1/s) for its case, when it is a two-layer
     /// channel.
     pub theory_rate: Option<f64>,
+    /// The mixing measures of the last snapshot (as `lamella mix` takes them on its default
+    /// grid), when the case records `Mixing` and the member finished.
+    pub mixing: Option<Scalars>,
 }
 
 /// Gathers the results of every member of `folder`.
@@ -85,6 +89,15 @@ fn member_result(folder: &SweepFolder, index: usize) -> Result<MemberResult, Ana
     };
     let growth = (finished && case.output.analyses.contains(&Analysis::InterfaceAmplitude))
         .then(|| measured_growth(&run_dir, &case));
+    let mixing = if finished && case.output.analyses.contains(&Analysis::Mixing) {
+        let run = Run::open(&run_dir)?;
+        Some(match case.dimension {
+            3 => last_scalars::<glam::DVec3>(&run)?,
+            _ => last_scalars::<glam::DVec2>(&run)?,
+        })
+    } else {
+        None
+    };
     Ok(MemberResult {
         index,
         values: folder.manifest.members[index].clone(),
@@ -93,6 +106,7 @@ fn member_result(folder: &SweepFolder, index: usize) -> Result<MemberResult, Ana
         profile_error,
         growth,
         theory_rate,
+        mixing,
     })
 }
 
@@ -118,9 +132,11 @@ fn text_cell(text: &str) -> String {
     }
 }
 
-/// A CSV cell of a number (shortest round-trip form), empty when there is none.
+/// A CSV cell of a number (shortest round-trip form), empty when there is none (or NaN).
 fn number_cell(value: Option<f64>) -> String {
-    value.map_or_else(String::new, |v| format!("{v:e}"))
+    value
+        .filter(|v| !v.is_nan())
+        .map_or_else(String::new, |v| format!("{v:e}"))
 }
 
 /// `sweep.csv`: a header (the parameters' field paths as their column names) and one row per
@@ -138,6 +154,10 @@ pub fn table(parameters: &[String], rows: &[MemberResult]) -> String {
             "wave_speed_m_per_s",
             "wave_speed_ci95_m_per_s",
             "theory_growth_rate_per_s",
+            "intensity_of_segregation",
+            "lacey_index",
+            "mixing_entropy_index",
+            "mean_ftle_per_s",
             "note",
         ]
         .map(String::from),
@@ -162,6 +182,10 @@ pub fn table(parameters: &[String], rows: &[MemberResult]) -> String {
             number_cell(growth.map(|g| g.wave_speed)),
             number_cell(growth.map(|g| g.wave_speed_ci95)),
             number_cell(row.theory_rate),
+            number_cell(row.mixing.map(|m| m.intensity)),
+            number_cell(row.mixing.map(|m| m.lacey)),
+            number_cell(row.mixing.map(|m| m.entropy)),
+            number_cell(row.mixing.map(|m| m.ftle)),
             text_cell(&note),
         ]);
         out.push_str(&cells.join(","));

@@ -7,24 +7,17 @@
 use std::path::{Path, PathBuf};
 
 use glam::{DVec2, DVec3};
-use lamella_cells::{Domain, Vector};
-use lamella_post::ftle::{deformation_gradients, ftle};
+use lamella_cells::Vector;
 use lamella_post::grid::Grid;
-use lamella_post::mixing::{
-    BoxCounts, MixingError, entropy_index, global_composition, intensity_of_segregation,
-    lacey_index, normalised_mixing_entropy, phase_fractions,
-};
-use lamella_post::neighbours::Neighbours;
 use lamella_post::plot::{Chart, Series, Style};
 use lamella_post::table::csv_document;
 use lamella_post::vtk::{Field, image_document, points_document};
-use lamella_sph::{Kernel, KernelKind, Kind};
 
 use crate::Failure;
 use crate::commands::Globals;
 use crate::commands::shared::parse_list;
 use lamella_run::analysis::folder::Run;
-use lamella_run::output::Snapshot;
+use lamella_run::analysis::mixing::{Fields, MixingGrid, Scalars, analyse, phase_column};
 use lamella_run::output::atomic::write_bytes;
 
 mod maps;
@@ -63,16 +56,6 @@ pub struct Args {
     pub out: Option<PathBuf>,
 }
 
-/// The global mixing scalars of one snapshot.
-struct Scalars {
-    intensity: f64,
-    lacey: f64,
-    entropy: f64,
-    ftle: f64,
-    /// Mean particles per grid cell when too few for the box-count indices (then NaN).
-    unresolved: Option<f64>,
-}
-
 /// Runs `lamella mix`.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let run = Run::open(&args.dir)?;
@@ -84,43 +67,13 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
 
 fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failure> {
     let case = &run.case;
-    let phases = case.phases.len();
-    if phases < 2 {
-        return Err(Failure::BadInput(format!(
-            "{}: the case has one phase; mixing needs at least two",
-            run.folder.case().display()
-        )));
-    }
-    let dim = V::DIM;
-    let dx = case.particles.spacing;
-    let lower = V::from_fn(|a| case.domain.lower[a]);
-    let upper = V::from_fn(|a| case.domain.upper[a]);
-    // Default: cells of two spacings.
-    let default_cells: Vec<usize> = (0..dim)
-        .map(|a| ((case.extent(a) / (2.0 * dx)).round() as usize).max(1))
-        .collect();
-    let cells: Vec<usize> = match &args.grid {
-        Some(text) => parse_list(text, "--grid").map_err(Failure::BadInput)?,
-        None => default_cells.clone(),
+    let cells: Option<Vec<usize>> = match &args.grid {
+        Some(text) => Some(parse_list(text, "--grid").map_err(Failure::BadInput)?),
+        None => None,
     };
-    let grid = Grid::new(lower, upper, &cells).ok_or_else(|| {
-        Failure::BadInput(format!(
-            "--grid needs {dim} positive cell counts separated by commas"
-        ))
-    })?;
-    let mut periodic = [false; 3];
-    for axis in &case.domain.periodic {
-        periodic[axis.index()] = true;
-    }
-    let domain =
-        Domain::new(lower, upper, periodic).map_err(|e| Failure::BadInput(e.to_string()))?;
-    let kind = match case.particles.kernel {
-        lamella_case::schema::Kernel::WendlandC2 => KernelKind::WendlandC2,
-        lamella_case::schema::Kernel::CubicSpline => KernelKind::CubicSpline,
-        lamella_case::schema::Kernel::QuinticSpline => KernelKind::QuinticSpline,
-    };
-    let kernel = Kernel::new(kind, case.smoothing_length(), dim);
-    let radius = kernel.support_radius();
+    let setting = MixingGrid::<V>::of(run, cells)?;
+    let (grid, domain) = (&setting.grid, setting.domain);
+    let (dim, dx) = (V::DIM, case.particles.spacing);
     let (field_entry, time_note) = run.entry_near(args.time);
     let field_entry = field_entry.file.clone();
     let out_dir = run.output_folder(args.out.as_deref())?;
@@ -130,21 +83,13 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
     let mut start_boxes = None;
     for entry in &run.entries {
         let snap = run.read(entry)?;
-        let (scalars, fields) = analyse::<V>(
-            &snap,
-            &grid,
-            domain,
-            &kernel,
-            radius,
-            phases,
-            &mut start_boxes,
-        )
-        .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
+        let (scalars, fields) = analyse::<V>(&snap, &setting, &mut start_boxes)
+            .map_err(|e| Failure::BadInput(format!("{}: {e}", entry.file)))?;
         if entry.file == field_entry {
-            write_vtk(&out_dir, case, &grid, &fields)?;
+            write_vtk(&out_dir, case, grid, &fields)?;
             let layout = maps::Layout {
                 time: snap.meta.time,
-                grid: &grid,
+                grid,
                 domain,
                 spacing: dx,
             };
@@ -240,7 +185,8 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
                 .map(usize::to_string)
                 .collect::<Vec<_>>()
                 .join(","),
-            default_cells
+            setting
+                .default_cells
                 .iter()
                 .map(usize::to_string)
                 .collect::<Vec<_>>()
@@ -270,155 +216,6 @@ fn mix<V: Vector>(run: &Run, args: &Args, globals: Globals) -> Result<(), Failur
         )?;
     }
     Ok(())
-}
-
-fn mean_finite(values: &[f64]) -> f64 {
-    let finite: Vec<f64> = values.iter().copied().filter(|v| v.is_finite()).collect();
-    if finite.is_empty() {
-        f64::NAN
-    } else {
-        finite.iter().sum::<f64>() / finite.len() as f64
-    }
-}
-
-/// What `mix` computes at one snapshot on the fluid particles, besides the global scalars.
-struct Fields<V: Vector> {
-    /// Volume fractions at the grid nodes, phase fastest (`phases` per node).
-    fractions: Vec<f64>,
-    /// Particle positions (m).
-    position: Vec<V>,
-    /// Particle phase indices.
-    phase: Vec<usize>,
-    /// Particle identities.
-    id: Vec<u64>,
-    /// Normalised local mixing entropy per particle (1).
-    entropy: Vec<f64>,
-    /// Finite-time Lyapunov exponent per particle (1/s).
-    ftle: Vec<f64>,
-}
-
-/// The mixing measures of `snap`. `start_boxes` holds the box counts of the particles at their
-/// initial positions, which are the same in every snapshot of a run: the first call counts
-/// them, later calls reuse them.
-fn analyse<V: Vector>(
-    snap: &Snapshot,
-    grid: &Grid<V>,
-    domain: Domain<V>,
-    kernel: &Kernel,
-    radius: f64,
-    phases: usize,
-    start_boxes: &mut Option<BoxCounts>,
-) -> Result<(Scalars, Fields<V>), String> {
-    let fluid: Vec<usize> = (0..snap.len())
-        .filter(|&i| snap.kind[i] == Kind::Fluid)
-        .collect();
-    let pos: Vec<V> = fluid
-        .iter()
-        .map(|&i| V::from_fn(|a| snap.position[i][a]))
-        .collect();
-    let init: Vec<V> = fluid
-        .iter()
-        .map(|&i| V::from_fn(|a| snap.initial_position[i][a]))
-        .collect();
-    let phase: Vec<usize> = fluid.iter().map(|&i| snap.phase[i] as usize).collect();
-    let volume: Vec<f64> = fluid
-        .iter()
-        .map(|&i| snap.mass[i] / snap.density[i])
-        .collect();
-    if let Some(&p) = phase.iter().find(|&&p| p >= phases) {
-        return Err(format!("phase index {p} but the case has {phases} phases"));
-    }
-    let w = |r: f64| kernel.value(r);
-    let nodes = grid.nodes();
-    let at_nodes =
-        Neighbours::of_centres(&nodes, &pos, domain, radius).map_err(|e| e.to_string())?;
-    let (frac, sums) = phase_fractions(&at_nodes, &volume, &phase, phases, w, None);
-    // The same particles at their initial positions: the unmixed arrangement every measure is
-    // taken against, so that the start measures exactly 1 (segregation) or 0 (mixing) on any
-    // grid (see lamella_post::mixing::lacey_index).
-    let at_start =
-        Neighbours::of_centres(&nodes, &init, domain, radius).map_err(|e| e.to_string())?;
-    let (start_frac, start_sums) = phase_fractions(&at_start, &volume, &phase, phases, w, None);
-    let occupied = |sums: &[f64]| -> Vec<f64> {
-        sums.iter()
-            .map(|&s| if s > 0.0 { 1.0 } else { 0.0 })
-            .collect()
-    };
-    let (occupied_now, occupied_start) = (occupied(&sums), occupied(&start_sums));
-    // Box counts on the same grid for Lacey's index and the entropy index.
-    let boxes = box_counts(&pos, &phase, grid, domain, phases);
-    let start_boxes =
-        &*start_boxes.get_or_insert_with(|| box_counts(&init, &phase, grid, domain, phases));
-    let mut intensity = 0.0;
-    for k in 0..phases {
-        let now = intensity_of_segregation(&phase_column(&frac, phases, k), &occupied_now)
-            .map_err(|e| e.to_string())?;
-        let start =
-            intensity_of_segregation(&phase_column(&start_frac, phases, k), &occupied_start)
-                .map_err(|e| e.to_string())?;
-        // A start with no contrast on this grid leaves the ratio undefined.
-        intensity += if start > 0.0 { now / start } else { f64::NAN } / phases as f64;
-    }
-    // Too few particles per cell leaves the box-count indices undefined (NaN, with a note);
-    // any other failure is an error.
-    let box_index = |r: Result<f64, MixingError>| match r {
-        Ok(v) => Ok(v),
-        Err(MixingError::TooFewPerBox(_)) => Ok(f64::NAN),
-        Err(e) => Err(e.to_string()),
-    };
-    let mut lacey = 0.0;
-    for k in 0..phases {
-        lacey += box_index(lacey_index(&boxes, start_boxes, k))? / phases as f64;
-    }
-    let entropy_idx = box_index(entropy_index(&boxes, start_boxes))?;
-    let unresolved = (lacey.is_nan() || entropy_idx.is_nan()).then(|| boxes.per_box());
-    let among = Neighbours::among(&pos, domain, radius).map_err(|e| e.to_string())?;
-    let (local, _) = phase_fractions(&among, &volume, &phase, phases, w, Some(kernel.value(0.0)));
-    let global = global_composition(&volume, &phase, phases);
-    let entropy = normalised_mixing_entropy(&local, &global);
-    let reference = Neighbours::among(&init, domain, radius).map_err(|e| e.to_string())?;
-    let gradients = deformation_gradients(
-        &reference,
-        &pos,
-        &volume,
-        |a, b| domain.minimum_image(a - b),
-        |r| kernel.gradient_factor(r),
-    );
-    let exponents = ftle(&gradients, V::DIM, snap.meta.time);
-    let scalars = Scalars {
-        intensity,
-        lacey,
-        entropy: entropy_idx,
-        ftle: mean_finite(&exponents),
-        unresolved,
-    };
-    let fields = Fields {
-        fractions: frac,
-        position: pos,
-        phase,
-        id: fluid.iter().map(|&i| snap.id[i]).collect(),
-        entropy,
-        ftle: exponents,
-    };
-    Ok((scalars, fields))
-}
-
-/// The particles at `points`, of phases `phase`, counted in the cells of `grid` (a particle
-/// outside the grid in none).
-fn box_counts<V: Vector>(
-    points: &[V],
-    phase: &[usize],
-    grid: &Grid<V>,
-    domain: Domain<V>,
-    phases: usize,
-) -> BoxCounts {
-    let mut boxes = BoxCounts::new(grid.len(), phases);
-    for (p, &k) in points.iter().zip(phase) {
-        if let Some(c) = grid.cell_of(domain.wrap(*p)) {
-            boxes.add(c, k);
-        }
-    }
-    boxes
 }
 
 /// Writes the gridded volume fractions (`mix_fields.vti`) and the per-particle fields
@@ -481,9 +278,4 @@ fn write_vtk<V: Vector>(
         &out_dir.join("mix_particles.vtp"),
         vtp.as_bytes(),
     )?)
-}
-
-/// Column `k` of node-major values with `phases` per node.
-fn phase_column(fractions: &[f64], phases: usize, k: usize) -> Vec<f64> {
-    fractions.iter().skip(k).step_by(phases).copied().collect()
 }

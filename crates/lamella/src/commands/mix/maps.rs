@@ -10,8 +10,8 @@ use lamella_cells::{Domain, Vector};
 use lamella_post::grid::Grid;
 use lamella_post::plot::{MapFrame, PlotError, field_map, scatter_map};
 
-use super::Fields;
 use crate::Failure;
+use lamella_run::analysis::mixing::Fields;
 use lamella_run::output::atomic::write_bytes;
 
 /// Pixels along the longer side of each map's plot area.

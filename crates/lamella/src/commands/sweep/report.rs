@@ -16,8 +16,10 @@ use crate::commands::Globals;
     after_help = "Writes DIR/sweep.csv: one row per member with its index, status, parameter \
     values, m and n (two-layer channels), the profile's relative L2 error against the \
     analytical profile, the growth rate and wave speed `lamella growth` fits (default settings) \
-    with their 95 % intervals or the reason it refused, and the growth rate linear theory \
-    predicts (as `lamella stability CASE`). Draws DIR/stability-map.png over (m, n): members \
+    with their 95 % intervals or the reason it refused, the growth rate linear theory \
+    predicts (as `lamella stability CASE`), and for cases that record Mixing the intensity of \
+    segregation, Lacey index, mixing entropy index and mean FTLE of the last snapshot (as \
+    `lamella mix` on its default grid). Draws DIR/stability-map.png over (m, n): members \
     whose wave grew as circles, decayed as squares, coloured by the measured rate; for a sweep \
     over particles.spacing alone, DIR/convergence.png instead. Members that are not finished \
     are listed with their status. Exit codes: 0 written, 1 a chart or file could not be \
@@ -64,6 +66,14 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         }
         if let Some(rate) = row.theory_rate {
             line.push_str(&format!("; theory {} 1/s", significant(rate, 4)));
+        }
+        if let Some(mixing) = row.mixing {
+            line.push_str(&format!(
+                "; intensity of segregation {}, Lacey index {}, mixing entropy index {}",
+                significant(mixing.intensity, 4),
+                significant(mixing.lacey, 4),
+                significant(mixing.entropy, 4)
+            ));
         }
         if let lamella_run::sweep::Status::Failed(why) = &row.status {
             line.push_str(&format!("; {why}"));
