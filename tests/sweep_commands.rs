@@ -385,3 +385,119 @@ fn the_report_of_a_mixing_case_carries_the_measures_lamella_mix_gives() {
     assert_eq!(cell("mean_ftle_per_s"), last[4]);
     assert!(cell("mean_ftle_per_s").parse::<f64>().unwrap() > 0.0);
 }
+
+#[test]
+fn a_failed_member_is_recorded_and_the_others_go_on() {
+    let dir = tempfile::tempdir().unwrap();
+    // A density tolerance of 1e-9 stops member 1 at its first step.
+    let sweep = write_sweep(
+        dir.path(),
+        "failing.ron",
+        "(path: \"density_tolerance\", values: List([0.05, 1.0e-9])),
+         (path: \"time.end\", values: List([0.002, 0.002]))",
+    );
+    let out = dir.path().join("sweep");
+    let ran = lamella(&[
+        "sweep",
+        "run",
+        arg(&sweep),
+        "--out",
+        arg(&out),
+        "--jobs",
+        "2",
+    ]);
+    assert_eq!(ran.status.code(), Some(1), "{}", text(&ran.stderr));
+    let stderr = text(&ran.stderr);
+    assert!(
+        stderr.contains("1 of 2 members failed: member-001 (") && stderr.contains("density"),
+        "{stderr}"
+    );
+    assert_success(
+        &lamella(&["-q", "sweep", "report", arg(&out)]),
+        "the report",
+    );
+    let table = fs::read_to_string(out.join("sweep.csv")).unwrap();
+    let rows: Vec<&str> = table.lines().skip(1).collect();
+    assert!(rows[0].starts_with("0,finished,"), "{table}");
+    assert!(
+        rows[1].starts_with("1,failed,") && rows[1].contains("density deviates"),
+        "{table}"
+    );
+    // Run again: the failed member is left alone unless asked.
+    let log = out.join("member-001/run.log");
+    let written = || fs::metadata(&log).unwrap().modified().unwrap();
+    let before = written();
+    let again = lamella(&["sweep", "run", arg(&sweep), "--out", arg(&out)]);
+    assert_eq!(again.status.code(), Some(1));
+    assert_eq!(written(), before, "the failed member was run again");
+    let retried = lamella(&[
+        "sweep",
+        "run",
+        arg(&sweep),
+        "--out",
+        arg(&out),
+        "--retry-failed",
+    ]);
+    assert_eq!(retried.status.code(), Some(1));
+    assert_ne!(
+        written(),
+        before,
+        "--retry-failed did not run the member again"
+    );
+}
+
+#[test]
+fn a_killed_member_is_not_finished_and_the_next_run_completes_it() {
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = two_members(dir.path());
+    let out = dir.path().join("sweep");
+    let child = Command::new(LAMELLA)
+        .args([
+            "sweep",
+            "run",
+            arg(&sweep),
+            "--out",
+            arg(&out),
+            "--jobs",
+            "1",
+        ])
+        .stderr(Stdio::piped())
+        .stdout(Stdio::null())
+        .spawn()
+        .unwrap();
+    // Member 1 is stepping; its lock file names its process.
+    let second = out.join("member-001/snapshots/state_000001.vtp");
+    let started = Instant::now();
+    while !second.exists() {
+        assert!(
+            started.elapsed() < Duration::from_secs(120),
+            "member 1 did not start"
+        );
+        std::thread::sleep(Duration::from_millis(5));
+    }
+    let holder = fs::read_to_string(out.join("member-001/run.lock")).unwrap();
+    let pid = holder
+        .strip_prefix("process ")
+        .and_then(|rest| rest.split_whitespace().next())
+        .unwrap_or_else(|| panic!("no process in {holder:?}"));
+    assert!(
+        Command::new("kill")
+            .args(["-KILL", pid])
+            .status()
+            .unwrap()
+            .success()
+    );
+    let ended = child.wait_with_output().unwrap();
+    let stderr = text(&ended.stderr);
+    assert_eq!(ended.status.code(), Some(1), "{stderr}");
+    assert!(
+        stderr.contains("1 of 2 members did not finish: member-001"),
+        "{stderr}"
+    );
+    assert_success(
+        &lamella(&["-q", "sweep", "run", arg(&sweep), "--out", arg(&out)]),
+        "the second sweep run",
+    );
+    let log = fs::read_to_string(out.join("member-001/run.log")).unwrap();
+    assert!(log.contains("finished at t = "), "{log}");
+}

@@ -23,8 +23,8 @@ use crate::signals::interrupt_flag;
     --retry-failed. Ctrl-C (or SIGTERM) stops every member after it saves a checkpoint. The \
     worker threads (global --threads, default all cores) are shared among the --jobs members \
     that run at once. Exit codes: 0 every member finished, 1 a member failed (the others \
-    ran; the reasons are listed), 2 bad input (sweep file, a member's case, an --out folder of \
-    another sweep), 130 interrupted."
+    ran; the reasons are listed) or did not finish (killed from outside), 2 bad input (sweep \
+    file, a member's case, an --out folder of another sweep), 130 interrupted."
 )]
 pub struct Args {
     /// The sweep file (RON).
@@ -155,6 +155,22 @@ fn report(folder: &SweepFolder, globals: Globals, stopped: bool) -> Result<(), F
             statuses.len(),
             failed.join("; "),
             folder.root().display()
+        )));
+    }
+    // Neither finished nor failed: stopped from outside (a member killed) or run elsewhere.
+    let unfinished: Vec<String> = statuses
+        .iter()
+        .enumerate()
+        .filter(|(_, s)| **s != Status::Finished)
+        .map(|(i, s)| format!("{} ({})", member_name(i), s.word()))
+        .collect();
+    if !unfinished.is_empty() {
+        return Err(Failure::RunFailed(format!(
+            "{} of {} members did not finish: {}; they were stopped from outside this sweep or \
+             are run by another process; run the same command again to continue them",
+            unfinished.len(),
+            statuses.len(),
+            unfinished.join(", ")
         )));
     }
     if !globals.quiet {
