@@ -501,3 +501,51 @@ fn a_killed_member_is_not_finished_and_the_next_run_completes_it() {
     let log = fs::read_to_string(out.join("member-001/run.log")).unwrap();
     assert!(log.contains("finished at t = "), "{log}");
 }
+
+#[test]
+fn a_spacing_sweep_draws_the_convergence_of_the_profile_error() {
+    let dir = tempfile::tempdir().unwrap();
+    let sweep = dir.path().join("spacing.ron");
+    let base = cases_dir().join("poiseuille.ron");
+    fs::write(
+        &sweep,
+        format!(
+            "(base: {:?}, parameters: [(path: \"particles.spacing\", values: List([1.2e-4, \
+             8.0e-5, 6.0e-5]))])",
+            base.display().to_string()
+        ),
+    )
+    .unwrap();
+    let out = dir.path().join("sweep");
+    assert_success(
+        &lamella(&[
+            "-q",
+            "sweep",
+            "run",
+            arg(&sweep),
+            "--out",
+            arg(&out),
+            "--jobs",
+            "2",
+        ]),
+        "the spacing sweep",
+    );
+    let report = lamella(&["sweep", "report", arg(&out)]);
+    assert_success(&report, "the report");
+    let stdout = text(&report.stdout);
+    // Start-up Poiseuille flow (Morris, Fox & Zhu 1997): the profile error falls with the
+    // spacing at about second order.
+    let order: f64 = stdout
+        .split("observed order ")
+        .nth(1)
+        .and_then(|rest| rest.split_whitespace().next())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no observed order in {stdout}"));
+    assert!(order > 1.5, "{stdout}");
+    assert!(
+        fs::read(out.join("convergence.png"))
+            .unwrap()
+            .starts_with(b"\x89PNG")
+    );
+    assert!(!out.join("stability-map.png").exists());
+}

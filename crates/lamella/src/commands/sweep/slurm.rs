@@ -131,7 +131,12 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let collect_script = format!(
         "{}\n# Written by `lamella sweep slurm`: the report of the sweep in {}, after its \
          members.\nexec {} sweep report {}\n",
-        header("lamella-sweep-report", "collect.out", 1, Some("00:30:00")),
+        header(
+            "lamella-sweep-report",
+            "collect.out",
+            1,
+            args.time.as_deref()
+        ),
         root.display(),
         quoted(&exe),
         quoted(&root)
