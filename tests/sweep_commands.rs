@@ -254,6 +254,22 @@ fn bad_sweep_files_and_folders_are_refused_naming_the_place() {
         "{}",
         text(&out.stderr)
     );
+    // A valid member whose flow outruns the base case's expected speed draws the warning of
+    // `lamella check`, named by the member.
+    let faster = write_sweep(
+        dir.path(),
+        "faster.ron",
+        "(path: \"phases[0].viscosity_law.viscosity\", values: List([2.0e-2, 2.0e-3]))",
+    );
+    let out = lamella(&["sweep", "check", arg(&faster), "--no-calibration"]);
+    assert_success(&out, "sweep check");
+    let stdout = text(&out.stdout);
+    assert!(
+        stdout.contains("2 members")
+            && stdout.contains("warning: member-001: scales.expected_max_speed")
+            && !stdout.contains("warning: member-000"),
+        "{stdout}"
+    );
 }
 
 #[test]

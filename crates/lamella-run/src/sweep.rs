@@ -5,6 +5,8 @@
 //! DIR/cases/member-NNN.ron      the case of member NNN (the base case with its values set)
 //! DIR/member-NNN/               the run folder of member NNN (as `lamella run --out` writes it)
 //! DIR/failures/member-NNN.txt   why member NNN failed before or outside its run loop
+//! DIR/sweep.csv, DIR/stability-map.png, DIR/convergence.png   the report (`analysis::sweep`)
+//! DIR/sweep.sbatch, DIR/collect.sbatch, DIR/logs/            the Slurm scripts and their logs
 //! ```
 //!
 //! A member's status ([`Status`]) is read from its run folder: its lock (running), the last

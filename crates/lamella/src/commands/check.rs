@@ -9,7 +9,7 @@ use lamella_sph::Limit;
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::commands::shared::counts;
+use crate::commands::shared::{counts, drive_warning};
 use lamella_run::feasibility::{self, load_case};
 use lamella_run::reference::channel_reference;
 
@@ -219,45 +219,6 @@ pub(crate) fn reynolds(case: &Case) -> String {
         sig(nu),
         case.phases.get(slowest).map_or("", |p| p.name.as_str())
     )
-}
-
-/// The factor by which the expected peak speed may differ from a channel's steady peak before
-/// `check` warns.
-const SPEED_MISMATCH: f64 = 2.0;
-
-/// A warning when a channel's drive (body force or wall speed) and viscosities give a steady
-/// peak speed far from `scales.expected_max_speed`, from which the sound speed and with it the
-/// time step are derived: a drive 1000 times too strong outruns them and the run goes bad.
-pub(crate) fn drive_warning(case: &Case) -> Option<String> {
-    let reference = channel_reference(case)?;
-    let peak = reference.steady_peak_speed();
-    let expected = case.scales.expected_max_speed;
-    let ratio = peak / expected;
-    if !(peak > 0.0 && expected > 0.0) || (1.0 / SPEED_MISMATCH..=SPEED_MISMATCH).contains(&ratio) {
-        return None;
-    }
-    let drive = if case.body_force_magnitude() > 0.0 {
-        "body_force (per unit mass, m/s²)"
-    } else {
-        "wall speed"
-    };
-    let consequence = if ratio > 1.0 {
-        "the sound speed and the time step follow the expected speed, so a flow this much \
-         faster compresses the liquid and the run is likely to go bad"
-    } else {
-        "the sound speed follows the expected speed, so the run takes more steps than it needs"
-    };
-    Some(format!(
-        "scales.expected_max_speed: {} m/s, but this channel's {drive} and viscosities give a \
-         steady peak speed of {} m/s, {}× {} ({}); {consequence}. Set expected_max_speed to \
-         about {} m/s, or check the {drive} and the viscosities",
-        sig(expected),
-        sig(peak),
-        sig(ratio.max(1.0 / ratio)),
-        if ratio > 1.0 { "faster" } else { "slower" },
-        reference.name(),
-        sig(peak)
-    ))
 }
 
 /// A warning when a viscosity of 1 Pa·s or more makes the viscous limit set the time step of a

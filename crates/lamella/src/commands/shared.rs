@@ -1,6 +1,6 @@
 //! What several subcommands share on the command line: number lists, the options of the growth
 //! fit (`growth`, `stability --run`), how a measured growth is reported and drawn, and the
-//! particle counts of a case (`check`, `sweep check`).
+//! particle counts of a case and the warning about its expected speed (`check`, `sweep check`).
 
 use glam::{DVec2, DVec3};
 use lamella_case::{Case, Generated, generate};
@@ -8,6 +8,7 @@ use lamella_post::growth::{self, ModeFit, Window};
 use lamella_post::number::{significant, with_uncertainty};
 use lamella_post::plot::{Chart, Series, Style};
 use lamella_run::analysis::growth::{DEFAULT_MIN_R2, FitSettings, Measurement};
+use lamella_run::reference::channel_reference;
 
 use crate::Failure;
 
@@ -236,4 +237,47 @@ pub(crate) fn counts(case: &Case) -> Counts {
         uncovered: 0,
         exact: false,
     }
+}
+
+/// The factor by which the expected peak speed may differ from a channel's steady peak before
+/// `check` and `sweep check` warn.
+const SPEED_MISMATCH: f64 = 2.0;
+
+/// A warning when a channel's drive (body force or wall speed) and viscosities give a steady
+/// peak speed far from `scales.expected_max_speed`, from which the sound speed and with it the
+/// time step are derived: a drive 1000 times too strong outruns them and the run goes bad.
+pub(crate) fn drive_warning(case: &Case) -> Option<String> {
+    let reference = channel_reference(case)?;
+    let peak = reference.steady_peak_speed();
+    let expected = case.scales.expected_max_speed;
+    let ratio = peak / expected;
+    if !(peak > 0.0 && expected > 0.0) || (1.0 / SPEED_MISMATCH..=SPEED_MISMATCH).contains(&ratio) {
+        return None;
+    }
+    let drive = if case.body_force_magnitude() > 0.0 {
+        "body_force (per unit mass, m/s²)"
+    } else {
+        "wall speed"
+    };
+    let consequence = if ratio > 1.0 {
+        "the sound speed and the time step follow the expected speed, so a flow this much \
+         faster compresses the liquid and the run is likely to go bad"
+    } else {
+        "the sound speed follows the expected speed, so the run takes more steps than it needs"
+    };
+    Some(format!(
+        "scales.expected_max_speed: {} m/s, but this channel's {drive} and viscosities give a \
+         steady peak speed of {} m/s, {}× {} ({}); {consequence}. Set expected_max_speed to \
+         about {} m/s, or check the {drive} and the viscosities",
+        significant4(expected),
+        significant4(peak),
+        significant4(ratio.max(1.0 / ratio)),
+        if ratio > 1.0 { "faster" } else { "slower" },
+        reference.name(),
+        significant4(peak)
+    ))
+}
+
+fn significant4(x: f64) -> String {
+    significant(x, 4)
 }

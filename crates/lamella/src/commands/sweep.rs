@@ -77,13 +77,12 @@ fn load(path: &Path) -> Result<Sweep, Failure> {
 }
 
 /// Loads the sweep file at `path` and writes (or reopens) its sweep folder `out`.
-fn prepare(path: &Path, out: &Path) -> Result<(Sweep, SweepFolder), Failure> {
+fn prepare(path: &Path, out: &Path) -> Result<SweepFolder, Failure> {
     let sweep = load(path)?;
     check_output_folder(out).map_err(|problem| {
         Failure::BadInput(format!("sweep folder {}: {problem}", out.display()))
     })?;
-    let folder = SweepFolder::prepare(out, &sweep, path)?;
-    Ok((sweep, folder))
+    Ok(SweepFolder::prepare(out, &sweep, path)?)
 }
 
 /// The values of a member as "path = value, …".

@@ -12,7 +12,7 @@ use lamella_run::feasibility;
 use crate::Failure;
 use crate::commands::Globals;
 use crate::commands::calibration::{calibrate, duration};
-use crate::commands::shared::counts;
+use crate::commands::shared::{counts, drive_warning};
 
 /// Options of `lamella sweep check`.
 #[derive(Debug, clap::Args)]
@@ -109,6 +109,19 @@ fn summary(
             );
         }
         let _ = writeln!(s, "{line} {:>10} {:>10}", w.particles, w.steps);
+    }
+    for member in &sweep.members {
+        let case = &member.case;
+        let warnings = drive_warning(case)
+            .into_iter()
+            .chain(case.warnings().into_iter().map(|w| w.to_string()));
+        for warning in warnings {
+            let _ = writeln!(
+                s,
+                "  warning: {}: {warning}",
+                lamella_run::sweep::member_name(member.index)
+            );
+        }
     }
     let _ = writeln!(s, "  particle-steps  {total:.3e} in all");
     match seconds_per_particle_step {

@@ -47,7 +47,7 @@ const POLL: Duration = Duration::from_millis(100);
 
 /// Runs the sweep's members and reports their statuses.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    let (_, folder) = super::prepare(&args.sweep, &args.out)?;
+    let folder = super::prepare(&args.sweep, &args.out)?;
     let stop = interrupt_flag()?;
     let total = folder.len();
     let mut todo = Vec::new();

@@ -85,7 +85,7 @@ fn quoted(path: &Path) -> String {
 
 /// Writes the sweep folder and the scripts; submits them with `--submit`.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
-    let (_, folder) = super::prepare(&args.sweep, &args.out)?;
+    let folder = super::prepare(&args.sweep, &args.out)?;
     let root = std::fs::canonicalize(folder.root())
         .map_err(|e| Failure::BadInput(format!("{}: {e}", folder.root().display())))?;
     let exe = std::env::current_exe()
