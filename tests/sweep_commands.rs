@@ -36,6 +36,36 @@ fn write_sweep(dir: &Path, name: &str, parameters: &str) -> PathBuf {
     path
 }
 
+/// Writes a sweep over the bundled case `base` with `parameters` (RON list items), runs it with
+/// two jobs and returns its folder.
+fn run_sweep_over(dir: &Path, base: &str, parameters: &str) -> PathBuf {
+    let sweep = dir.join("sweep.ron");
+    let base = cases_dir().join(base);
+    fs::write(
+        &sweep,
+        format!(
+            "(base: {:?}, parameters: [{parameters}])",
+            base.display().to_string()
+        ),
+    )
+    .unwrap();
+    let out = dir.join("sweep");
+    assert_success(
+        &lamella(&[
+            "-q",
+            "sweep",
+            "run",
+            arg(&sweep),
+            "--out",
+            arg(&out),
+            "--jobs",
+            "2",
+        ]),
+        &format!("the sweep over {parameters}"),
+    );
+    out
+}
+
 /// Two members: member 0 runs 5 ms of flow (well under a second), member 1 runs 60 ms (a few
 /// seconds), so a stop sent while member 1 runs finds member 0 finished.
 fn two_members(dir: &Path) -> PathBuf {
@@ -359,29 +389,10 @@ fn the_slurm_scripts_run_this_binary_on_each_member_and_a_missing_sbatch_is_expl
 #[test]
 fn the_report_of_a_mixing_case_carries_the_measures_lamella_mix_gives() {
     let dir = tempfile::tempdir().unwrap();
-    let sweep = dir.path().join("mix.ron");
-    let base = cases_dir().join("two-phase-cavity.ron");
-    fs::write(
-        &sweep,
-        format!(
-            "(base: {:?}, parameters: [(path: \"time.end\", values: List([0.002, 0.004]))])",
-            base.display().to_string()
-        ),
-    )
-    .unwrap();
-    let out = dir.path().join("sweep");
-    assert_success(
-        &lamella(&[
-            "-q",
-            "sweep",
-            "run",
-            arg(&sweep),
-            "--out",
-            arg(&out),
-            "--jobs",
-            "2",
-        ]),
-        "the mixing sweep",
+    let out = run_sweep_over(
+        dir.path(),
+        "two-phase-cavity.ron",
+        "(path: \"time.end\", values: List([0.002, 0.004]))",
     );
     assert_success(
         &lamella(&["-q", "sweep", "report", arg(&out)]),
@@ -504,30 +515,10 @@ fn a_killed_member_is_not_finished_and_the_next_run_completes_it() {
 #[test]
 fn a_spacing_sweep_draws_the_convergence_of_the_profile_error() {
     let dir = tempfile::tempdir().unwrap();
-    let sweep = dir.path().join("spacing.ron");
-    let base = cases_dir().join("poiseuille.ron");
-    fs::write(
-        &sweep,
-        format!(
-            "(base: {:?}, parameters: [(path: \"particles.spacing\", values: List([1.2e-4, \
-             8.0e-5, 6.0e-5]))])",
-            base.display().to_string()
-        ),
-    )
-    .unwrap();
-    let out = dir.path().join("sweep");
-    assert_success(
-        &lamella(&[
-            "-q",
-            "sweep",
-            "run",
-            arg(&sweep),
-            "--out",
-            arg(&out),
-            "--jobs",
-            "2",
-        ]),
-        "the spacing sweep",
+    let out = run_sweep_over(
+        dir.path(),
+        "poiseuille.ron",
+        "(path: \"particles.spacing\", values: List([1.2e-4, 8.0e-5, 6.0e-5]))",
     );
     let report = lamella(&["sweep", "report", arg(&out)]);
     assert_success(&report, "the report");
