@@ -8,6 +8,17 @@ pub enum Column<'a> {
     Real(&'a [f64]),
     /// Counts (particles, steps, cells): written as integers ("30", never "3e1").
     Count(&'a [u64]),
+    /// Words and sentences: quoted when they hold a comma, a quote or a line break (RFC 4180).
+    Text(&'a [String]),
+}
+
+/// A CSV cell of text, quoted only when it must be (RFC 4180).
+fn text_cell(text: &str) -> String {
+    if text.contains([',', '"', '\n', '\r']) {
+        format!("\"{}\"", text.replace('"', "\"\""))
+    } else {
+        text.to_string()
+    }
 }
 
 impl Column<'_> {
@@ -15,6 +26,7 @@ impl Column<'_> {
         match self {
             Column::Real(c) => c.len(),
             Column::Count(c) => c.len(),
+            Column::Text(c) => c.len(),
         }
     }
 
@@ -23,6 +35,7 @@ impl Column<'_> {
             Column::Real(c) if c[row].is_nan() => String::new(),
             Column::Real(c) => format!("{:e}", c[row]),
             Column::Count(c) => c[row].to_string(),
+            Column::Text(c) => text_cell(&c[row]),
         }
     }
 }
@@ -34,7 +47,8 @@ pub fn csv_document(headers: &[&str], columns: &[&[f64]]) -> Result<String, Stri
     csv_table(headers, &columns)
 }
 
-/// A CSV document of equal-length columns, each written as its kind says ([`Column`]).
+/// A CSV document of equal-length columns, each written as its kind says ([`Column`]); a
+/// header is quoted like a text cell when it must be.
 pub fn csv_table(headers: &[&str], columns: &[Column<'_>]) -> Result<String, String> {
     if headers.len() != columns.len() {
         return Err(format!(
@@ -50,6 +64,7 @@ pub fn csv_table(headers: &[&str], columns: &[Column<'_>]) -> Result<String, Str
             c.len()
         ));
     }
+    let headers: Vec<String> = headers.iter().map(|h| text_cell(h)).collect();
     let mut out = headers.join(",");
     out.push('\n');
     for r in 0..rows {
@@ -63,6 +78,17 @@ pub fn csv_table(headers: &[&str], columns: &[Column<'_>]) -> Result<String, Str
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn text_cells_are_quoted_only_when_needed() {
+        assert_eq!(text_cell("plain"), "plain");
+        assert_eq!(text_cell("a, b"), "\"a, b\"");
+        assert_eq!(text_cell("say \"x\""), "\"say \"\"x\"\"\"");
+        let notes = ["".to_string(), "a, b".to_string()];
+        let x = [0.5, f64::NAN];
+        let text = csv_table(&["x", "note"], &[Column::Real(&x), Column::Text(&notes)]).unwrap();
+        assert_eq!(text, "x,note\n5e-1,\n,\"a, b\"\n");
+    }
 
     #[test]
     fn writes_header_and_rows() {

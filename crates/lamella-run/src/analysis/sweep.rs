@@ -8,6 +8,7 @@ use std::path::{Path, PathBuf};
 use lamella_case::{Analysis, Case};
 use lamella_post::convergence::{convergence_chart, fit_observed_order};
 use lamella_post::stability::{RatioPoint, ratio_map};
+use lamella_post::table::{Column, csv_table};
 
 use super::AnalysisError;
 use super::folder::Run;
@@ -123,75 +124,61 @@ fn measured_growth(run_dir: &Path, case: &Case) -> Result<MeasuredGrowth, String
     })
 }
 
-/// A CSV cell of text: quoted when it holds a comma, a quote or a line break (RFC 4180).
-fn text_cell(text: &str) -> String {
-    if text.contains([',', '"', '\n', '\r']) {
-        format!("\"{}\"", text.replace('"', "\"\""))
-    } else {
-        text.to_string()
-    }
-}
-
-/// A CSV cell of a number (shortest round-trip form), empty when there is none (or NaN).
-fn number_cell(value: Option<f64>) -> String {
-    value
-        .filter(|v| !v.is_nan())
-        .map_or_else(String::new, |v| format!("{v:e}"))
-}
-
 /// `sweep.csv`: a header (the parameters' field paths as their column names) and one row per
-/// member.
+/// member; a missing number is an empty cell.
 pub fn table(parameters: &[String], rows: &[MemberResult]) -> String {
-    let mut header = vec!["member".to_string(), "status".to_string()];
-    header.extend(parameters.iter().map(|p| text_cell(p)));
-    header.extend(
-        [
-            "viscosity_ratio_m",
-            "width_ratio_n",
-            "profile_relative_l2",
-            "growth_rate_per_s",
-            "growth_rate_ci95_per_s",
-            "wave_speed_m_per_s",
-            "wave_speed_ci95_m_per_s",
-            "theory_growth_rate_per_s",
-            "intensity_of_segregation",
-            "lacey_index",
-            "mixing_entropy_index",
-            "mean_ftle_per_s",
-            "note",
-        ]
-        .map(String::from),
-    );
-    let mut out = header.join(",");
-    out.push('\n');
-    for row in rows {
-        let growth = row.growth.as_ref().and_then(|g| g.as_ref().ok());
-        let note = match (&row.status, &row.growth) {
+    let real = |f: &dyn Fn(&MemberResult) -> Option<f64>| -> Vec<f64> {
+        rows.iter().map(|r| f(r).unwrap_or(f64::NAN)).collect()
+    };
+    let growth = |r: &MemberResult| r.growth.as_ref().and_then(|g| g.as_ref().ok()).copied();
+    let members: Vec<u64> = rows.iter().map(|r| r.index as u64).collect();
+    let statuses: Vec<String> = rows.iter().map(|r| r.status.word().to_string()).collect();
+    let values: Vec<Vec<f64>> = (0..parameters.len())
+        .map(|k| rows.iter().map(|r| r.values[k]).collect())
+        .collect();
+    let results: Vec<Vec<f64>> = vec![
+        real(&|r| r.ratios.map(|m| m.0)),
+        real(&|r| r.ratios.map(|m| m.1)),
+        real(&|r| r.profile_error),
+        real(&|r| growth(r).map(|g| g.rate)),
+        real(&|r| growth(r).map(|g| g.rate_ci95)),
+        real(&|r| growth(r).map(|g| g.wave_speed)),
+        real(&|r| growth(r).map(|g| g.wave_speed_ci95)),
+        real(&|r| r.theory_rate),
+        real(&|r| r.mixing.map(|m| m.intensity)),
+        real(&|r| r.mixing.map(|m| m.lacey)),
+        real(&|r| r.mixing.map(|m| m.entropy)),
+        real(&|r| r.mixing.map(|m| m.ftle)),
+    ];
+    let notes: Vec<String> = rows
+        .iter()
+        .map(|row| match (&row.status, &row.growth) {
             (Status::Failed(why), _) => why.clone(),
             (_, Some(Err(why))) => format!("no growth rate: {why}"),
             _ => String::new(),
-        };
-        let mut cells = vec![row.index.to_string(), row.status.word().to_string()];
-        cells.extend(row.values.iter().map(|&v| number_cell(Some(v))));
-        cells.extend([
-            number_cell(row.ratios.map(|r| r.0)),
-            number_cell(row.ratios.map(|r| r.1)),
-            number_cell(row.profile_error),
-            number_cell(growth.map(|g| g.rate)),
-            number_cell(growth.map(|g| g.rate_ci95)),
-            number_cell(growth.map(|g| g.wave_speed)),
-            number_cell(growth.map(|g| g.wave_speed_ci95)),
-            number_cell(row.theory_rate),
-            number_cell(row.mixing.map(|m| m.intensity)),
-            number_cell(row.mixing.map(|m| m.lacey)),
-            number_cell(row.mixing.map(|m| m.entropy)),
-            number_cell(row.mixing.map(|m| m.ftle)),
-            text_cell(&note),
-        ]);
-        out.push_str(&cells.join(","));
-        out.push('\n');
-    }
-    out
+        })
+        .collect();
+    let mut headers = vec!["member", "status"];
+    headers.extend(parameters.iter().map(String::as_str));
+    headers.extend([
+        "viscosity_ratio_m",
+        "width_ratio_n",
+        "profile_relative_l2",
+        "growth_rate_per_s",
+        "growth_rate_ci95_per_s",
+        "wave_speed_m_per_s",
+        "wave_speed_ci95_m_per_s",
+        "theory_growth_rate_per_s",
+        "intensity_of_segregation",
+        "lacey_index",
+        "mixing_entropy_index",
+        "mean_ftle_per_s",
+        "note",
+    ]);
+    let mut columns = vec![Column::Count(&members), Column::Text(&statuses)];
+    columns.extend(values.iter().chain(&results).map(|c| Column::Real(c)));
+    columns.push(Column::Text(&notes));
+    csv_table(&headers, &columns).expect("one header per column, one row per member")
 }
 
 /// The files a report wrote.
@@ -262,18 +249,4 @@ pub fn write_report(folder: &SweepFolder, rows: &[MemberResult]) -> Result<Writt
         written.map = Some(path);
     }
     Ok(written)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn text_cells_are_quoted_only_when_needed() {
-        assert_eq!(text_cell("plain"), "plain");
-        assert_eq!(text_cell("a, b"), "\"a, b\"");
-        assert_eq!(text_cell("say \"x\""), "\"say \"\"x\"\"\"");
-        assert_eq!(number_cell(None), "");
-        assert_eq!(number_cell(Some(0.5)), "5e-1");
-    }
 }
