@@ -151,5 +151,8 @@ pub fn channel_reference_or_why(case: &Case) -> Result<Reference, String> {
             wall_speed,
             from_rest,
         },
+        ChannelFlow::Generalised { .. } => {
+            return Err("PENDING generalised reference".into());
+        }
     })
 }

@@ -11,7 +11,7 @@ use crate::eigenmode::EigenmodeSeed;
 use crate::reference::channel_reference;
 use lamella_sph::{
     DEFAULT_DENSITY_DIFFUSION, Kernel, KernelKind, Kind, NoSlip, PairViscosity, Particles,
-    Regularisation, SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
+    Regularisation, SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors,
     implicit_viscosity::{ImplicitSettings, ViscosityTreatment},
 };
 
@@ -83,7 +83,7 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         viscosity_laws: case
             .phases
             .iter()
-            .map(|p| viscosity_law(&p.viscosity_law))
+            .map(|p| p.viscosity_law.solver_law())
             .collect(),
         pair_viscosity: match case.pair_viscosity {
             CasePair::Harmonic => PairViscosity::Harmonic,
@@ -133,10 +133,11 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
     })
 }
 
-/// Whether the solver adds the transposed viscous stress for `case`: where it has more than
-/// one viscosity.
+/// Whether the solver adds the transposed viscous stress for `case`: where the viscosity
+/// varies, between phases of different viscosity or within a phase whose viscosity depends on
+/// the shear rate.
 fn full_viscous_stress(case: &Case) -> bool {
-    case.viscosity_contrast() > 1.0
+    case.viscosity_contrast() > 1.0 || case.has_generalised_phase()
 }
 
 /// Heap bytes per particle of a running solver of `case` in its dimension
@@ -150,15 +151,6 @@ pub fn heap_bytes_per_particle(case: &Case) -> usize {
         Simulation::<glam::DVec3>::heap_bytes_per_particle(full, implicit, quadratic)
     } else {
         Simulation::<glam::DVec2>::heap_bytes_per_particle(full, implicit, quadratic)
-    }
-}
-
-/// The solver's form of a phase's viscosity law.
-fn viscosity_law(law: &lamella_case::ViscosityLaw) -> ViscosityLaw {
-    match *law {
-        lamella_case::ViscosityLaw::Newtonian { viscosity } => {
-            ViscosityLaw::Newtonian { viscosity }
-        }
     }
 }
 
@@ -207,7 +199,8 @@ pub fn initial_particles<V: Vector>(case: &Case) -> Result<Particles<V>, SetupEr
         });
         p.density.push(phase.density);
         p.mass.push(phase.density * volume);
-        p.viscosity.push(phase.viscosity_law.reference_viscosity());
+        p.viscosity
+            .push(case.phase_viscosity(generated.phase[i] as usize));
         p.kind.push(if wall { Kind::Wall } else { Kind::Fluid });
     }
     add_eigenmode_velocity(case, &mut p).map_err(SetupError::InitialState)?;
