@@ -148,10 +148,16 @@ fn summary(path: &Path, case: &Case) -> String {
             case.pair_viscosity
         );
     }
+    let at_characteristic_rate = if case.has_generalised_phase() {
+        " (at U/L)"
+    } else {
+        ""
+    };
     for pair in case.layer_pairs() {
         let _ = writeln!(
             s,
-            "  layers        {} under {} at y = {} m: viscosity ratio m = {}, width ratio n = {}",
+            "  layers        {} under {} at y = {} m: viscosity ratio m = \
+             {}{at_characteristic_rate}, width ratio n = {}",
             case.phases[pair.lower].name,
             case.phases[pair.upper].name,
             sig(pair.interface),
