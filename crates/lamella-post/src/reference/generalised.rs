@@ -1,5 +1,6 @@
 //! Steady, fully developed flow of stacked generalised Newtonian layers in a plane channel: a
-//! numerical reference solver ([`GeneralisedChannel`]).
+//! numerical reference solver ([`GeneralisedChannel`]) and closed-form slit profiles of a
+//! power-law fluid and a Bingham plastic to check it and SPH runs against.
 //!
 //! # The channel
 //!
@@ -55,6 +56,10 @@
 //! A flow curve μ(γ̇)γ̇ that is not monotone gives some stresses more than one shear rate, and
 //! the channel more than one steady profile; the solver then returns one of them (the one its
 //! root searches converge to) without saying which.
+//!
+//! The closed forms are the slit flows of Chhabra & Richardson, Non-Newtonian Flow and Applied
+//! Rheology, 2nd ed., 2008, chapter 3 (section recalled from memory), derived again in each
+//! function's doc comment so that a reader can check them.
 
 use thiserror::Error;
 
@@ -868,6 +873,78 @@ impl GeneralisedChannel {
     }
 }
 
+/// Velocity (m/s) of a power-law fluid, τ = K |γ̇|^(n−1) γ̇, in a plane slit of gap H with no
+/// slip at y = 0 and y = H, driven by the force density G = −dp/dx (N/m³) along +x
+/// (Chhabra & Richardson, Non-Newtonian Flow and Applied Rheology, 2nd ed., 2008, ch. 3, flow
+/// between parallel plates; section recalled from memory):
+///
+/// u(y) = n/(n+1) (G/K)^(1/n) [ (H/2)^(1+1/n) − |y − H/2|^(1+1/n) ].
+///
+/// Derivation: dτ/dy = −G and symmetry (τ = 0 on the centre line) give τ = G (H/2 − y). Below
+/// the centre line γ̇ > 0, so K γ̇ⁿ = G (H/2 − y), γ̇ = (G/K)^(1/n) (H/2 − y)^(1/n); integrating
+/// from u(0) = 0, u = (G/K)^(1/n) n/(n+1) [ (H/2)^(1+1/n) − (H/2 − y)^(1+1/n) ], and the upper
+/// half is its mirror image. n = 1, K = μ gives G y (H − y)/(2μ). A negative G reverses the
+/// flow (u is odd in G); zero outside 0 ≤ y ≤ H. Arguments: K = `consistency` (Pa·sⁿ),
+/// n = `index`, G = `force_density`, H = `gap`.
+pub fn power_law_slit_velocity(
+    consistency: f64,
+    index: f64,
+    force_density: f64,
+    gap: f64,
+    y: f64,
+) -> f64 {
+    if !(0.0..=gap).contains(&y) {
+        return 0.0;
+    }
+    let half = 0.5 * gap;
+    let exponent = 1.0 + 1.0 / index;
+    let scale = (force_density.abs() / consistency).powf(1.0 / index);
+    force_density.signum() * index / (index + 1.0)
+        * scale
+        * (half.powf(exponent) - (y - half).abs().powf(exponent))
+}
+
+/// Half-width y0 (m) of the unyielded plug of a Bingham plastic in a plane slit driven by the
+/// force density G (Chhabra & Richardson 2008, ch. 3, section recalled from memory):
+/// y0 = min(τ0/|G|, H/2). The stress |τ| = |G| |y − H/2| (see [`bingham_slit_velocity`]) stays
+/// below the yield stress τ0 within y0 of the centre line; y0 = H/2 (the whole gap, no flow)
+/// once τ0 ≥ |G| H/2, and for G = 0.
+pub fn bingham_plug_half_width(yield_stress: f64, force_density: f64, gap: f64) -> f64 {
+    (yield_stress / force_density.abs()).min(0.5 * gap)
+}
+
+/// Velocity (m/s) of a Bingham plastic, τ = ±τ0 + μp γ̇ where |τ| > τ0 and γ̇ = 0 elsewhere,
+/// in a plane slit of gap H with no slip at both walls, driven by the force density G along +x
+/// (Chhabra & Richardson 2008, ch. 3, flow between parallel plates; section recalled from
+/// memory). With s = |y − H/2| and the plug half-width y0 = [`bingham_plug_half_width`]:
+///
+/// u = G/(2μp) [ (H/2 − s)(H/2 + s) − 2 y0 (H/2 − s) ]   for s ≥ y0 (yielded),
+/// u = G/(2μp) (H/2 − y0)²                               for s < y0 (the plug).
+///
+/// Derivation: τ = G (H/2 − y) as for any law (momentum balance and symmetry), so |τ| = G s
+/// exceeds τ0 where s > y0 = τ0/G. There, below the centre line, μp γ̇ = G s − τ0 = G (s − y0),
+/// and with du = −γ̇ ds and u = 0 at the wall (s = H/2),
+/// u(s) = ∫_s^{H/2} G (s' − y0)/μp ds' = G/(2μp) [ (H/2)² − s² − 2 y0 (H/2 − s) ], the form
+/// above; at s = y0 it equals G/(2μp)(H/2 − y0)², which the rigid plug keeps. τ0 = 0 gives the
+/// Newtonian G y (H − y)/(2μp). A negative G reverses the flow; zero outside 0 ≤ y ≤ H.
+/// Arguments: τ0 = `yield_stress` (Pa), μp = `plastic_viscosity` (Pa·s), G = `force_density`,
+/// H = `gap`.
+pub fn bingham_slit_velocity(
+    yield_stress: f64,
+    plastic_viscosity: f64,
+    force_density: f64,
+    gap: f64,
+    y: f64,
+) -> f64 {
+    if !(0.0..=gap).contains(&y) {
+        return 0.0;
+    }
+    let half = 0.5 * gap;
+    let plug = bingham_plug_half_width(yield_stress, force_density, gap);
+    let s = (y - half).abs().max(plug);
+    force_density / (2.0 * plastic_viscosity) * ((half - s) * (half + s) - 2.0 * plug * (half - s))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -931,6 +1008,14 @@ mod tests {
                     .sum::<f64>()
             })
             .sum()
+    }
+
+    /// Power-law slit flow rate Q = 2n/(2n+1) (G/K)^(1/n) (H/2)^(2+1/n) (Chhabra & Richardson
+    /// 2008, ch. 3: twice ∫₀^{H/2} u dy of [`power_law_slit_velocity`]).
+    fn power_law_slit_flow_rate(consistency: f64, index: f64, force_density: f64, gap: f64) -> f64 {
+        2.0 * index / (2.0 * index + 1.0)
+            * (force_density / consistency).powf(1.0 / index)
+            * (0.5 * gap).powf(2.0 + 1.0 / index)
     }
 
     #[test]
@@ -1054,6 +1139,11 @@ mod tests {
         let error = relative_max_error(&channel, exact);
         assert!(error < 1e-13, "two layers: {error:e}");
     }
+
+    /// The Bingham slit of the tests: H = 1 cm, G = 1000 N/m³, τ0 = 2 Pa,
+    /// μp = 0.1 Pa·s, so y0 = 2 mm (0.4 of the half gap), the wall shear rate is
+    /// G (H/2 − y0)/μp = 30 1/s and the plug moves at 0.045 m/s.
+    const SLIT: (f64, f64, f64, f64) = (1.0e-2, 1.0e3, 2.0, 0.1);
 
     #[test]
     fn wall_stresses_balance_the_driving_forces() {
@@ -1240,6 +1330,99 @@ mod tests {
             let rounding = 1e-12 * (total + lower.abs() + upper.abs());
             prop_assert!((lower - upper - driving).abs() <= rounding);
             prop_assert_eq!(channel.interface_velocities().len(), stack.len() - 1);
+        }
+    }
+
+    #[test]
+    fn power_law_slit_is_zero_at_the_walls_symmetric_and_peaks_on_the_centre_line() {
+        let (k, g, h) = (0.8, 200.0, 1.0e-2);
+        for n in [0.3, 0.5, 1.0, 1.5, 2.5] {
+            let u = |y: f64| power_law_slit_velocity(k, n, g, h, y);
+            let centre = n / (n + 1.0) * (g / k).powf(1.0 / n) * (0.5 * h).powf(1.0 + 1.0 / n);
+            assert!((u(0.5 * h) - centre).abs() < 1e-14 * centre);
+            assert_eq!(u(0.0), 0.0);
+            assert!(u(h).abs() < 1e-14 * centre);
+            for y in samples(h) {
+                assert!((u(y) - u(h - y)).abs() < 1e-12 * centre, "n = {n}, y = {y}");
+                assert!(u(y) <= centre * (1.0 + 1e-15));
+                let reversed = power_law_slit_velocity(k, n, -g, h, y);
+                assert_eq!(reversed, -u(y));
+            }
+            assert_eq!(u(-1e-9), 0.0);
+            assert_eq!(u(h + 1e-9), 0.0);
+        }
+    }
+
+    #[test]
+    fn power_law_slit_with_unit_index_is_the_newtonian_parabola() {
+        let (mu, g, h) = (0.3, 50.0, 1.0e-3);
+        for y in samples(h) {
+            let exact = g * y * (h - y) / (2.0 * mu);
+            let u = power_law_slit_velocity(mu, 1.0, g, h, y);
+            assert!((u - exact).abs() < 1e-14 * g * h * h / mu, "y = {y}");
+        }
+    }
+
+    #[test]
+    fn power_law_slit_satisfies_the_law_and_its_flow_rate() {
+        // K |γ̇|ⁿ = |τ| = G |H/2 − y| from central differences of the closed form, and
+        // ∫ u dy by composite Gauss–Legendre against Q = 2n/(2n+1) (G/K)^(1/n) (H/2)^(2+1/n)
+        // (each half integrated on its own, so the kink at the centre line is a cut).
+        let (k, g, h) = (0.8, 200.0, 1.0e-2);
+        for n in [0.5, 1.5] {
+            let u = |y: f64| power_law_slit_velocity(k, n, g, h, y);
+            let d = 1e-7 * h;
+            for y in [0.1 * h, 0.3 * h, 0.8 * h] {
+                let rate = (u(y + d) - u(y - d)) / (2.0 * d);
+                let tau = g * (0.5 * h - y);
+                assert!((k * rate.abs().powf(n) - tau.abs()).abs() < 1e-6 * tau.abs());
+                assert_eq!(rate.signum(), tau.signum());
+            }
+            let q = quadrature(u, 0.0, 0.5 * h, 400) + quadrature(u, 0.5 * h, h, 400);
+            let exact = power_law_slit_flow_rate(k, n, g, h);
+            assert!((q - exact).abs() < 1e-10 * exact, "n = {n}: {q} vs {exact}");
+        }
+    }
+
+    #[test]
+    fn bingham_slit_without_yield_stress_is_the_newtonian_parabola() {
+        let (mu, g, h) = (0.3, 50.0, 1.0e-3);
+        assert_eq!(bingham_plug_half_width(0.0, g, h), 0.0);
+        for y in samples(h) {
+            let exact = g * y * (h - y) / (2.0 * mu);
+            let u = bingham_slit_velocity(0.0, mu, g, h, y);
+            assert!((u - exact).abs() < 1e-14 * g * h * h / mu, "y = {y}");
+        }
+    }
+
+    #[test]
+    fn bingham_slit_has_a_rigid_plug_and_satisfies_the_law_where_yielded() {
+        let (h, g, tau0, mu_p) = SLIT;
+        let y0 = bingham_plug_half_width(tau0, g, h);
+        assert_eq!(y0, tau0 / g);
+        let u = |y: f64| bingham_slit_velocity(tau0, mu_p, g, h, y);
+        let plug = g / (2.0 * mu_p) * (0.5 * h - y0).powi(2);
+        for k in 0..=10 {
+            let y = 0.5 * h - y0 + 2.0 * y0 * k as f64 / 10.0;
+            assert!((u(y) - plug).abs() < 1e-15 * plug);
+        }
+        assert_eq!(u(0.0), 0.0);
+        assert!(u(h).abs() < 1e-15 * plug);
+        // Where yielded, τ0 + μp |γ̇| = |τ| = G |H/2 − y| from central differences, and the
+        // profile is symmetric and odd in G.
+        let d = 1e-7 * h;
+        for y in [0.05 * h, 0.2 * h, 0.75 * h, 0.95 * h] {
+            let rate = (u(y + d) - u(y - d)) / (2.0 * d);
+            let tau = g * (0.5 * h - y);
+            assert!((tau0 + mu_p * rate.abs() - tau.abs()).abs() < 1e-7 * tau.abs());
+            assert!((u(y) - u(h - y)).abs() < 1e-14 * plug);
+            assert_eq!(bingham_slit_velocity(tau0, mu_p, -g, h, y), -u(y));
+        }
+        // No flow once τ0 ≥ G H/2: the plug fills the gap.
+        assert_eq!(bingham_plug_half_width(g * h, g, h), 0.5 * h);
+        assert_eq!(bingham_plug_half_width(tau0, 0.0, h), 0.5 * h);
+        for y in samples(h) {
+            assert_eq!(bingham_slit_velocity(0.5 * g * h, mu_p, g, h, y), 0.0);
         }
     }
 }
