@@ -967,6 +967,11 @@ mod tests {
         move |rate: f64| plastic - yield_stress * (-m * rate).exp_m1() / rate
     }
 
+    /// The ideal Bingham law μ = μp + τ0/γ̇ (its stress never falls below τ0 for γ̇ > 0).
+    fn bingham(plastic: f64, yield_stress: f64) -> impl Fn(f64) -> f64 + Sync {
+        move |rate: f64| plastic + yield_stress / rate
+    }
+
     fn layer(width: f64, force_density: f64, law: &(dyn Fn(f64) -> f64 + Sync)) -> FlowLayer<'_> {
         FlowLayer {
             width,
@@ -1140,10 +1145,150 @@ mod tests {
         assert!(error < 1e-13, "two layers: {error:e}");
     }
 
+    #[test]
+    fn power_law_matches_the_slit_profile() {
+        // n = 0.5: γ̇ ∝ τ|τ| is quadratic in y on each side of the centre line, a cut, so the
+        // quadrature and the Hermite cubics are exact up to rounding. n = 1.5: γ̇ ∝ |τ|^(2/3);
+        // at the table points the integral is good to 3e−13 of the peak, between them the
+        // cubics near the centre line limit the error to 1e−7 (it falls about 40-fold for each
+        // 4-fold finer table), the flow rate to 4e−9.
+        let (k, g, h) = (0.8, 200.0, 1.0e-2);
+        let points = 201;
+        for (n, between, at_points, flow) in [(0.5, 1e-13, 1e-13, 1e-13), (1.5, 3e-7, 1e-12, 1e-8)]
+        {
+            let law = power_law(k, n);
+            let channel =
+                GeneralisedChannel::solve(&[layer(h, g, &law)], 0.0, points).expect("solves");
+            let exact = |y: f64| power_law_slit_velocity(k, n, g, h, y);
+            let error = relative_max_error(&channel, exact);
+            assert!(error < between, "n = {n}: relative error {error:e}");
+            let peak = exact(0.5 * h);
+            for j in 0..points {
+                let y = h * (j as f64 / (points - 1) as f64);
+                let error = (channel.velocity(y) - exact(y)).abs() / peak;
+                assert!(
+                    error < at_points,
+                    "n = {n}, y = {y}: relative error {error:e}"
+                );
+            }
+            let q = power_law_slit_flow_rate(k, n, g, h);
+            let q_error = (channel.flow_rate() - q).abs() / q;
+            assert!(q_error < flow, "n = {n}: flow rate error {q_error:e}");
+            // Wall shear rate (G H/(2K))^(1/n), a table point.
+            let wall = (g * h / (2.0 * k)).powf(1.0 / n);
+            assert!((channel.shear_rate(0.0) - wall).abs() < 1e-12 * wall);
+            assert!((channel.shear_rate(h) + wall).abs() < 1e-12 * wall);
+        }
+    }
+
+    #[test]
+    fn one_fluid_split_into_layers_gives_the_one_layer_profile() {
+        // Interfaces inside one fluid change nothing: the same power law in three unequal layers.
+        let (k, n, g, h) = (0.8, 1.5, 200.0, 1.0e-2);
+        let law = power_law(k, n);
+        let stack = [
+            layer(0.2 * h, g, &law),
+            layer(0.5 * h, g, &law),
+            layer(0.3 * h, g, &law),
+        ];
+        let channel = GeneralisedChannel::solve(&stack, 0.0, 81).expect("solves");
+        // Measured 3.5e−7 between table points (the cubics near the centre line, as in
+        // `power_law_matches_the_slit_profile`) and 5e−14 at the interfaces, table points.
+        let error = relative_max_error(&channel, |y| power_law_slit_velocity(k, n, g, h, y));
+        assert!(error < 1e-6, "relative error {error:e}");
+        let interfaces = channel.interface_velocities();
+        assert_eq!(interfaces.len(), 2);
+        for (u, y) in interfaces.iter().zip([0.2 * h, 0.7 * h]) {
+            let exact = power_law_slit_velocity(k, n, g, h, y);
+            assert!((u - exact).abs() < 1e-12 * exact, "{u} vs {exact}");
+        }
+    }
+
     /// The Bingham slit of the tests: H = 1 cm, G = 1000 N/m³, τ0 = 2 Pa,
     /// μp = 0.1 Pa·s, so y0 = 2 mm (0.4 of the half gap), the wall shear rate is
     /// G (H/2 − y0)/μp = 30 1/s and the plug moves at 0.045 m/s.
     const SLIT: (f64, f64, f64, f64) = (1.0e-2, 1.0e3, 2.0, 0.1);
+
+    /// Largest |u − u_Bingham| of the regularised law with parameter `m` on the [`SLIT`].
+    fn regularised_bingham_error(m: f64) -> f64 {
+        let (h, g, tau0, mu_p) = SLIT;
+        let law = papanastasiou(mu_p, tau0, m);
+        let channel = GeneralisedChannel::solve(&[layer(h, g, &law)], 0.0, 2000).expect("solves");
+        samples(h)
+            .iter()
+            .map(|&y| (channel.velocity(y) - bingham_slit_velocity(tau0, mu_p, g, h, y)).abs())
+            .fold(0.0, f64::max)
+    }
+
+    #[test]
+    fn regularised_bingham_approaches_the_ideal_slit_profile() {
+        let (h, g, tau0, mu_p) = SLIT;
+        let y0 = bingham_plug_half_width(tau0, g, h);
+        let wall_rate = g * (0.5 * h - y0) / mu_p;
+        let m = 1e4 / wall_rate;
+        // The regularised law shears faster than the ideal one at every stress, so the two
+        // profiles part most on the centre line, by Δu = (1/G) ∫₀^τw (γ̇_reg − γ̇_ideal) dτ
+        // (dy = −dτ/G). With dτ = τ'(γ̇) dγ̇, ∫ γ̇ dτ is μp γ̇²/2 + (τ0/m)(1 − (1 + mγ̇) e^(−mγ̇))
+        // for the regularised law and μp γ̇²/2 for the ideal one, up to the wall, where both
+        // carry τw at shear rates that differ by (τ0/μp) e^(−m γ̇w), e^(−10⁴) here. So
+        // Δu = τ0/(m G) = y0/m (1.3e−4 of the plug speed here) up to e^(−10⁴). The quadrature's
+        // own error at the yield surfaces, which are not cuts, is O(Δ²) G/μp with Δ = 5 µm,
+        // 2.5e−7 m/s at most, 4 % of y0/m. Measured: Δu/(y0/m) − 1 = −2.4e−5; 1e−3 is allowed.
+        let error = regularised_bingham_error(m);
+        let expected = y0 / m;
+        assert!(
+            (error / expected - 1.0).abs() < 1e-3,
+            "error {error:e} vs y0/m = {expected:e}"
+        );
+        // And it is O(1/m): doubling m halves it.
+        let ratio = error / regularised_bingham_error(2.0 * m);
+        assert!((ratio - 2.0).abs() < 1e-3, "ratio {ratio}");
+    }
+
+    #[test]
+    fn regularised_bingham_has_the_plug_half_width() {
+        // Where yielded the regularised shear rate is the ideal G (s − y0)/μp up to
+        // (τ0/μp) e^(−m γ̇) (e^(−5000) and less at the two heights used), so the straight line
+        // through the shear rates at the wall and half way to the plug meets zero at the plug
+        // edge y0. Measured: 1.3e−15 of y0 off.
+        let (h, g, tau0, mu_p) = SLIT;
+        let y0 = bingham_plug_half_width(tau0, g, h);
+        let m = 1e4 / 30.0;
+        let law = papanastasiou(mu_p, tau0, m);
+        let channel = GeneralisedChannel::solve(&[layer(h, g, &law)], 0.0, 2000).expect("solves");
+        let (y1, y2) = (0.0, 0.5 * (0.5 * h - y0));
+        let (r1, r2) = (channel.shear_rate(y1), channel.shear_rate(y2));
+        let edge = y1 - r1 * (y2 - y1) / (r2 - r1);
+        let measured = 0.5 * h - edge;
+        assert!((measured - y0).abs() < 1e-12 * y0, "{measured} vs {y0}");
+        // The plug is nearly rigid: its speed varies by about y0/m across it (from the plug edge
+        // to the centre line γ̇ ≈ −ln(1 − |τ|/τ0)/m integrates to y0/m).
+        let plug: Vec<f64> = (0..=20)
+            .map(|k| channel.velocity(0.5 * h - y0 + 2.0 * y0 * k as f64 / 20.0))
+            .collect();
+        let spread = plug.iter().fold(f64::NEG_INFINITY, |a, &b| a.max(b))
+            - plug.iter().fold(f64::INFINITY, |a, &b| a.min(b));
+        assert!(
+            spread < 3.0 * y0 / m,
+            "plug spread {spread:e} vs y0/m = {:e}",
+            y0 / m
+        );
+    }
+
+    #[test]
+    fn ideal_bingham_law_gives_a_rigid_plug() {
+        // μ = μp + τ0/γ̇ never reaches a stress below τ0, so the solver sets γ̇ = 0 in the plug.
+        // The yield surfaces are not cuts (2000 points put them inside intervals), and γ̇ has a
+        // slope jump G/μp at each: the interval holding one is integrated to O((G/μp) Δ²), at
+        // most 2.5e−7 m/s (6e−6 of the plug speed) with Δ = 5 µm. Measured: 8.6e−9 of the plug
+        // speed, falling 16-fold for a 4-fold finer table; 1e−7 is allowed.
+        let (h, g, tau0, mu_p) = SLIT;
+        let law = bingham(mu_p, tau0);
+        let channel = GeneralisedChannel::solve(&[layer(h, g, &law)], 0.0, 2000).expect("solves");
+        let error = relative_max_error(&channel, |y| bingham_slit_velocity(tau0, mu_p, g, h, y));
+        assert!(error < 1e-7, "relative error {error:e}");
+        assert_eq!(channel.shear_rate(0.5 * h), 0.0);
+    }
 
     #[test]
     fn wall_stresses_balance_the_driving_forces() {
