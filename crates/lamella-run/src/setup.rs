@@ -133,11 +133,13 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
     })
 }
 
-/// Whether the solver adds the transposed viscous stress for `case`: where the viscosity
-/// varies, between phases of different viscosity or within a phase whose viscosity depends on
-/// the shear rate.
+/// Whether the solver adds the transposed viscous stress for `case`: where it has more than
+/// one viscosity (by [`Case::viscosity_contrast`]: between phases, a generalised law read at
+/// U/L). Within one generalised phase it is left out, although the viscosity varies there too:
+/// explicit, it went unstable where a regularised yield stress jumps the viscosity by a
+/// thousand times over a few particles (DEVELOPERS.md, "Generalised Newtonian phases").
 fn full_viscous_stress(case: &Case) -> bool {
-    case.viscosity_contrast() > 1.0 || case.has_generalised_phase()
+    case.viscosity_contrast() > 1.0
 }
 
 /// Heap bytes per particle of a running solver of `case` in its dimension
