@@ -150,8 +150,8 @@ fn a_bingham_plastic_flows_around_a_plug_of_the_analytical_width() {
     let sim = run(&case);
     let (y, u) = fluid_profile(&sim);
     let (gap, g) = (case.extent(1), force_density(&case));
-    // Bird, Stewart & Lightfoot §8.3 / Chhabra & Richardson ch. 3: the plug reaches from the
-    // centre line to where the stress G s falls to τ0.
+    // Bird, Stewart & Lightfoot §8.3 / Chhabra & Richardson ch. 3 (sections recalled from
+    // memory): the plug reaches from the centre line to where the stress G s falls to τ0.
     let expected = yield_stress / g;
     let measured = plug_half_width(&y, &u, gap);
     let plug_error = (measured - expected).abs() / expected;
