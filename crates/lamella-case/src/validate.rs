@@ -99,14 +99,16 @@ impl Checker {
 /// viscosity, consistency, time and exponent positive, a yield stress or infinite-shear
 /// viscosity not negative, and the clamps positive and ordered.
 fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
+    use lamella_sph::FlowCurve;
     let field = |name: &str| format!("{path}.{name}");
     let non_negative = |c: &mut Checker, name: &str, x: f64, what: &str| {
         if !(x.is_finite() && x >= 0.0) {
             c.bad(field(name), num(x), &format!("zero or a positive {what}"));
         }
     };
-    let (min, max) = match *law {
-        ViscosityLaw::Newtonian { viscosity } => {
+    // The schema's field names are the solver's, so the paths come from the solver's law.
+    let (curve, min, max) = match law.solver_law() {
+        lamella_sph::ViscosityLaw::Newtonian { viscosity } => {
             c.positive(
                 &field("viscosity"),
                 viscosity,
@@ -114,27 +116,28 @@ fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
             );
             return;
         }
-        ViscosityLaw::PowerLaw {
-            consistency,
-            index,
+        lamella_sph::ViscosityLaw::Generalised {
+            curve,
             min_viscosity,
             max_viscosity,
-        } => {
+        } => (curve, min_viscosity, max_viscosity),
+    };
+    let regularisation =
+        "regularisation time in s (large against 1/shear rate of the flowing liquid)";
+    match curve {
+        FlowCurve::PowerLaw { consistency, index } => {
             c.positive(&field("consistency"), consistency, "consistency K in Pa·sⁿ");
             c.positive(
                 &field("index"),
                 index,
                 "flow behaviour index n (1 is Newtonian)",
             );
-            (min_viscosity, max_viscosity)
         }
-        ViscosityLaw::Cross {
+        FlowCurve::Cross {
             zero_shear_viscosity,
             infinite_shear_viscosity,
             time_constant,
             exponent,
-            min_viscosity,
-            max_viscosity,
         } => {
             c.positive(
                 &field("zero_shear_viscosity"),
@@ -153,16 +156,13 @@ fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
                 "time constant λ in s",
             );
             c.positive(&field("exponent"), exponent, "exponent m");
-            (min_viscosity, max_viscosity)
         }
-        ViscosityLaw::CarreauYasuda {
+        FlowCurve::CarreauYasuda {
             zero_shear_viscosity,
             infinite_shear_viscosity,
             time_constant,
             transition,
             index,
-            min_viscosity,
-            max_viscosity,
         } => {
             c.positive(
                 &field("zero_shear_viscosity"),
@@ -186,32 +186,22 @@ fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
                 "transition exponent a (2 is Carreau)",
             );
             c.positive(&field("index"), index, "power-law index n");
-            (min_viscosity, max_viscosity)
         }
-        ViscosityLaw::HerschelBulkley {
+        FlowCurve::HerschelBulkley {
             yield_stress,
             consistency,
             index,
-            regularisation,
-            min_viscosity,
-            max_viscosity,
+            regularisation: s,
         } => {
             non_negative(c, "yield_stress", yield_stress, "yield stress in Pa");
             c.positive(&field("consistency"), consistency, "consistency K in Pa·sⁿ");
             c.positive(&field("index"), index, "flow behaviour index n");
-            c.positive(
-                &field("regularisation"),
-                regularisation,
-                "regularisation time in s (large against 1/shear rate of the flowing liquid)",
-            );
-            (min_viscosity, max_viscosity)
+            c.positive(&field("regularisation"), s, regularisation);
         }
-        ViscosityLaw::Bingham {
+        FlowCurve::Bingham {
             yield_stress,
             plastic_viscosity,
-            regularisation,
-            min_viscosity,
-            max_viscosity,
+            regularisation: s,
         } => {
             non_negative(c, "yield_stress", yield_stress, "yield stress in Pa");
             c.positive(
@@ -219,14 +209,9 @@ fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
                 plastic_viscosity,
                 "plastic viscosity in Pa·s",
             );
-            c.positive(
-                &field("regularisation"),
-                regularisation,
-                "regularisation time in s (large against 1/shear rate of the flowing liquid)",
-            );
-            (min_viscosity, max_viscosity)
+            c.positive(&field("regularisation"), s, regularisation);
         }
-    };
+    }
     let min_ok = c.positive(&field("min_viscosity"), min, "smallest viscosity in Pa·s");
     let max_ok = c.positive(&field("max_viscosity"), max, "largest viscosity in Pa·s");
     if min_ok && max_ok && min >= max {

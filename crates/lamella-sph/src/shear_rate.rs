@@ -44,22 +44,14 @@ pub fn velocity_gradient<V: Vector>(
     takes_part: impl Fn(usize) -> bool,
     min_determinant: f64,
 ) -> Option<DMat3> {
-    let Flow {
-        position,
-        velocity,
-        kind,
-    } = flow;
-    if kind[a] != Kind::Fluid {
-        return None;
-    }
     corrected_gradient(
         neighbours,
         a,
-        position,
-        |b| velocity[b],
+        flow,
+        |b| flow.velocity[b],
         volume,
         kernel,
-        |b| kind[b] == Kind::Fluid && takes_part(b),
+        |b| flow.kind[b] == Kind::Fluid && takes_part(b),
         min_determinant,
     )
 }
@@ -72,7 +64,6 @@ pub fn velocity_gradient<V: Vector>(
 /// accuracy on a curved profile where the fluid-only one loses it (a one-sided corrected
 /// gradient is exact for linear fields only). `None` for a wall particle or a support that
 /// does not span every axis.
-#[allow(clippy::too_many_arguments)]
 pub fn velocity_gradient_through_walls<V: Vector>(
     neighbours: &impl Neighbourhood<V>,
     a: usize,
@@ -82,20 +73,13 @@ pub fn velocity_gradient_through_walls<V: Vector>(
     volume: impl Fn(usize) -> f64,
     kernel: &Kernel,
 ) -> Option<DMat3> {
-    let Flow {
-        position,
-        velocity,
-        kind,
-    } = flow;
-    if kind[a] != Kind::Fluid {
-        return None;
-    }
+    let kind = flow.kind;
     corrected_gradient(
         neighbours,
         a,
-        position,
+        flow,
         |b| match kind[b] {
-            Kind::Fluid => velocity[b],
+            Kind::Fluid => flow.velocity[b],
             Kind::Wall => wall_velocity(b),
         },
         volume,
@@ -105,21 +89,25 @@ pub fn velocity_gradient_through_walls<V: Vector>(
     )
 }
 
-/// The corrected SPH gradient of [`velocity_gradient`] over the neighbours b with
-/// `include(b)`, each with velocity `velocity_of(b)`.
+/// The corrected SPH gradient of [`velocity_gradient`] of fluid particle `a` (`None` for a
+/// wall particle) over the neighbours b with `include(b)`, each with velocity `velocity_of(b)`.
 #[allow(clippy::too_many_arguments)]
 #[inline]
 fn corrected_gradient<V: Vector>(
     neighbours: &impl Neighbourhood<V>,
     a: usize,
-    position: &[V],
+    flow: Flow<'_, V>,
     velocity_of: impl Fn(usize) -> V,
     volume: impl Fn(usize) -> f64,
     kernel: &Kernel,
     include: impl Fn(usize) -> bool,
     min_determinant: f64,
 ) -> Option<DMat3> {
-    let v_a = velocity_of(a);
+    if flow.kind[a] != Kind::Fluid {
+        return None;
+    }
+    let position = flow.position;
+    let v_a = flow.velocity[a];
     // Column-major 3 × 3 sums; in 2D the z row and column stay zero.
     let mut differences = [[0.0; 3]; 3];
     let mut moments = [[0.0; 3]; 3];
