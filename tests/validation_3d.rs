@@ -31,7 +31,7 @@ fn startup_poiseuille_in_3d_follows_the_morris_series() {
     let mut sim = lamella_run::setup::simulation::<DVec3>(&case).expect("set-up");
     run_plain(&mut sim, case.time.end).expect("the 3D run finishes");
 
-    let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
+    let nu = case.phase_viscosity(0) / case.phases[0].density;
     let plates = PlateGap {
         gap: case.extent(1),
         nu,

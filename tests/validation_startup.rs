@@ -65,7 +65,7 @@ fn check_startup(
     let case = load(name);
     let started = Instant::now();
     let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
-    let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
+    let nu = case.phase_viscosity(0) / case.phases[0].density;
     let plates = PlateGap {
         gap: case.extent(1),
         nu,

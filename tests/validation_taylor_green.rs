@@ -16,7 +16,7 @@ fn kinetic_energy_decays_at_the_viscous_rate() {
         .expect("bundled case loads");
     let started = Instant::now();
     let mut sim = lamella_run::setup::simulation::<DVec2>(&case).expect("set-up");
-    let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
+    let nu = case.phase_viscosity(0) / case.phases[0].density;
     let exact = TaylorGreen {
         side: case.extent(0),
         speed: 5.0e-3,

@@ -83,7 +83,7 @@ fn implicit_layered_channel_at_ratio_100_viscous_above() {
 fn implicit_start_up_poiseuille_follows_the_series_solution() {
     let mut case = lamella_case::load(&lamella_suite::cases_dir().join("poiseuille.ron"))
         .expect("bundled case loads");
-    let viscosity = 100.0 * case.phases[0].viscosity_law.reference_viscosity();
+    let viscosity = 100.0 * case.phase_viscosity(0);
     case.phases[0].viscosity_law = lamella_case::ViscosityLaw::Newtonian { viscosity };
     if let Some(force) = case.body_force.as_mut() {
         force[0] *= 100.0;
@@ -92,7 +92,7 @@ fn implicit_start_up_poiseuille_follows_the_series_solution() {
     case.scales.sound_speed = None;
     let text = lamella_case::to_ron(&case);
     let case = lamella_case::parse_str(&text, "implicit start-up").expect("valid case");
-    let nu = case.phases[0].viscosity_law.reference_viscosity() / case.phases[0].density;
+    let nu = case.phase_viscosity(0) / case.phases[0].density;
     let gap = case.extent(1);
     let plates = PlateGap { gap, nu };
     let force = case.body_force.as_ref().expect("body force")[0];

@@ -50,7 +50,7 @@ pub struct LayerPair {
 
 /// A channel the analytical references know: walled at the bottom and top, periodic along x,
 /// flowing along x (a 3D channel periodic in z with nothing driving along z counts as plane).
-#[derive(Clone, Copy, Debug, PartialEq)]
+#[derive(Clone, Debug, PartialEq)]
 pub enum ChannelFlow {
     /// Two stacked layers filling the gap, driven by a body force along x between fixed plates;
     /// each layer feels its own force density ρ_i g_x (the channel is horizontal: no force
@@ -88,6 +88,26 @@ pub enum ChannelFlow {
         /// Speed of the top plate (m/s).
         wall_speed: f64,
     },
+    /// One fluid or two stacked layers of which some phase has a viscosity law that depends
+    /// on the shear rate, driven by a body force along x and/or a top plate sliding along x.
+    /// It has no closed form in general; the reference is the steady 1D solution.
+    Generalised {
+        /// The layers, bottom to top, filling the gap.
+        layers: Vec<ChannelLayer>,
+        /// Speed of the top plate along x (m/s); zero for a fixed plate.
+        wall_speed: f64,
+    },
+}
+
+/// One layer of a [`ChannelFlow::Generalised`] channel.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct ChannelLayer {
+    /// Width (m).
+    pub width: f64,
+    /// Driving force density ρ g_x (N/m³).
+    pub force_density: f64,
+    /// The phase's viscosity law.
+    pub law: lamella_sph::ViscosityLaw,
 }
 
 impl Case {
@@ -130,17 +150,42 @@ impl Case {
             .unwrap_or_else(|| self.extent(1))
     }
 
-    /// Kinematic viscosity ν = μ/ρ0 of each phase (m²/s), by the law's reference viscosity.
+    /// The shear rate U/L (1/s) at which the scale estimates (sound speed, Reynolds number,
+    /// viscosity contrast) read a viscosity law that depends on it: the expected peak speed
+    /// over the reference length.
+    pub fn characteristic_shear_rate(&self) -> f64 {
+        self.scales.expected_max_speed / self.reference_length()
+    }
+
+    /// Dynamic viscosity of phase `index` for scale estimates (Pa·s): its law at the
+    /// [`Case::characteristic_shear_rate`] (the constant of a Newtonian phase).
+    pub fn phase_viscosity(&self, index: usize) -> f64 {
+        self.phases[index]
+            .viscosity_law
+            .viscosity_at(self.characteristic_shear_rate())
+    }
+
+    /// Kinematic viscosity ν = μ/ρ0 of each phase (m²/s), μ by [`Case::phase_viscosity`].
     pub fn kinematic_viscosities(&self) -> Vec<f64> {
-        self.phases
-            .iter()
-            .map(|p| p.viscosity_law.reference_viscosity() / p.density)
+        (0..self.phases.len())
+            .map(|i| self.phase_viscosity(i) / self.phases[i].density)
             .collect()
     }
 
-    /// Largest kinematic viscosity over the phases (m²/s); it sets the viscous time-step limit.
+    /// Largest kinematic viscosity a phase can reach (m²/s; a generalised law's
+    /// `max_viscosity`): it bounds the explicit viscous time step.
     pub fn max_kinematic_viscosity(&self) -> f64 {
-        self.kinematic_viscosities().into_iter().fold(0.0, f64::max)
+        self.phases
+            .iter()
+            .map(|p| p.viscosity_law.max_viscosity() / p.density)
+            .fold(0.0, f64::max)
+    }
+
+    /// True when some phase's viscosity depends on the shear rate.
+    pub fn has_generalised_phase(&self) -> bool {
+        self.phases
+            .iter()
+            .any(|p| p.viscosity_law.newtonian_viscosity().is_none())
     }
 
     /// Magnitude of the body force per unit mass (m/s²), zero when none is given.
@@ -163,7 +208,8 @@ impl Case {
     /// The lower bounds on c0 for δ = 1 %, each as a speed (m/s). The three of Morris, Fox &
     /// Zhu 1997 §2.4: the flow speed, c0² ≥ U²/δ; viscosity, c0² ≥ ν_max U/(L δ); the body
     /// force, c0² ≥ |F| L/δ (U the expected peak speed, L the reference length, F the body force
-    /// per unit mass). With a moving wall that meets another wall (a lid corner, see
+    /// per unit mass; ν_max the largest of [`Case::kinematic_viscosities`], so a generalised law
+    /// enters at the characteristic shear rate U/L). With a moving wall that meets another wall (a lid corner, see
     /// [`Case::lid_corner_speed`]) a fourth: the viscous bound with the spacing as its length,
     /// c0² ≥ ν_max U_w/(dx δ), because at the corner the velocity jumps from the wall's U_w to
     /// zero over one spacing and the pressure there scales as μ U_w/dx, not μ U/L. The automatic
@@ -171,7 +217,7 @@ impl Case {
     pub fn sound_speed_criteria(&self) -> Vec<SoundSpeedCriterion> {
         let u = self.scales.expected_max_speed;
         let length = self.reference_length();
-        let nu = self.max_kinematic_viscosity();
+        let nu = self.kinematic_viscosities().into_iter().fold(0.0, f64::max);
         let delta = DENSITY_VARIATION;
         let mut bounds = vec![
             ("flow speed", u * u / delta),
@@ -223,12 +269,11 @@ impl Case {
         self.scales.expected_max_speed * self.reference_length() / nu
     }
 
-    /// Ratio of the largest to the smallest phase viscosity (1 for a single phase).
+    /// Ratio of the largest to the smallest phase viscosity (1 for a single phase), by
+    /// [`Case::phase_viscosity`].
     pub fn viscosity_contrast(&self) -> f64 {
-        let mu: Vec<f64> = self
-            .phases
-            .iter()
-            .map(|p| p.viscosity_law.reference_viscosity())
+        let mu: Vec<f64> = (0..self.phases.len())
+            .map(|i| self.phase_viscosity(i))
             .collect();
         let max = mu.iter().copied().fold(0.0, f64::max);
         let min = mu.iter().copied().fold(f64::INFINITY, f64::min);
@@ -264,7 +309,7 @@ impl Case {
             .windows(2)
             .filter(|w| w[0].phase != w[1].phase && (w[0].top - w[1].bottom).abs() <= tol)
             .map(|w| {
-                let mu = |i: usize| self.phases[i].viscosity_law.reference_viscosity();
+                let mu = |i: usize| self.phase_viscosity(i);
                 LayerPair {
                     lower: w[0].phase,
                     upper: w[1].phase,
@@ -377,8 +422,9 @@ impl Case {
             );
         }
         let (lo, hi) = (self.domain.lower[1], self.domain.upper[1]);
-        let mu = |p: usize| self.phases[p].viscosity_law.reference_viscosity();
+        let mu = |p: usize| self.phase_viscosity(p);
         let bands = self.layer_bands();
+        let generalised = self.has_generalised_phase();
         if self.phases.len() > 1 {
             if self.layer_pairs().len() != 1 || bands.len() != 2 {
                 return Err(format!(
@@ -388,7 +434,7 @@ impl Case {
                     bands.len()
                 ));
             }
-            if top_speed != 0.0 {
+            if top_speed != 0.0 && !generalised {
                 return Err(
                     "the top wall slides; the layered reference is for two layers \
                             between fixed walls driven by a body force"
@@ -400,6 +446,14 @@ impl Case {
             if (a.bottom - lo).abs() > tol || (b.top - hi).abs() > tol {
                 return Err("the two layers do not fill the height between the walls".into());
             }
+            if generalised {
+                let layer = |band: &LayerBand| ChannelLayer {
+                    width: band.top - band.bottom,
+                    force_density: self.phases[band.phase].density * force,
+                    law: self.phases[band.phase].viscosity_law.solver_law(),
+                };
+                return self.driven_generalised(vec![layer(a), layer(b)], force, top_speed);
+            }
             return Ok(ChannelFlow::TwoLayers {
                 lower_width: a.top - a.bottom,
                 upper_width: b.top - b.bottom,
@@ -410,6 +464,14 @@ impl Case {
             });
         }
         let (gap, kinematic_viscosity) = (hi - lo, mu(0) / self.phases[0].density);
+        if generalised {
+            let layer = ChannelLayer {
+                width: gap,
+                force_density: self.phases[0].density * force,
+                law: self.phases[0].viscosity_law.solver_law(),
+            };
+            return self.driven_generalised(vec![layer], force, top_speed);
+        }
         match (force != 0.0, top_speed != 0.0) {
             (true, false) => Ok(ChannelFlow::Poiseuille {
                 gap,
@@ -430,6 +492,24 @@ impl Case {
                     .into(),
             ),
         }
+    }
+
+    /// A [`ChannelFlow::Generalised`] of `layers`, or why not when nothing drives it.
+    fn driven_generalised(
+        &self,
+        layers: Vec<ChannelLayer>,
+        force: f64,
+        top_speed: f64,
+    ) -> Result<ChannelFlow, String> {
+        if force == 0.0 && top_speed == 0.0 {
+            return Err(
+                "nothing drives the flow (no body force along x, no sliding top wall)".into(),
+            );
+        }
+        Ok(ChannelFlow::Generalised {
+            layers,
+            wall_speed: top_speed,
+        })
     }
 
     /// Heights of Layer bounds strictly inside the domain: the boundaries the interface

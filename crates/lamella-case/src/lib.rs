@@ -13,7 +13,7 @@ pub mod sweep;
 pub mod templates;
 mod validate;
 
-pub use derived::{ChannelFlow, LayerBand, LayerPair, SoundSpeedCriterion};
+pub use derived::{ChannelFlow, ChannelLayer, LayerBand, LayerPair, SoundSpeedCriterion};
 pub use error::{CaseError, Problem, Warning};
 pub use generate::{Generated, Seed, generate};
 pub use load::{load, parse_listing, parse_str, parse_unvalidated, to_ron};

@@ -153,8 +153,11 @@ pub struct Phase {
     pub viscosity_law: ViscosityLaw,
 }
 
-/// Viscosity laws. Newtonian now; generalised Newtonian laws (power law, Cross,
-/// Carreau–Yasuda, Herschel–Bulkley) are added as further variants.
+/// Viscosity laws of a phase. Every law but `Newtonian` makes the viscosity depend on the
+/// local shear rate γ̇ (1/s) and clamps it to `[min_viscosity, max_viscosity]` (Pa·s): a
+/// power law has no finite viscosity at rest and a regularised yield stress a very large one,
+/// so the clamps bound the time step and the implicit solve. The formulas are those of
+/// [`lamella_sph::FlowCurve`].
 #[derive(Serialize, Deserialize, Clone, Debug, PartialEq)]
 #[serde(deny_unknown_fields)]
 pub enum ViscosityLaw {
@@ -163,14 +166,203 @@ pub enum ViscosityLaw {
         /// Dynamic viscosity (Pa·s).
         viscosity: f64,
     },
+    /// μ = K γ̇^(n−1): shear-thinning for n < 1, shear-thickening for n > 1.
+    PowerLaw {
+        /// Consistency K (Pa·sⁿ).
+        consistency: f64,
+        /// Flow behaviour index n (> 0).
+        index: f64,
+        /// Smallest viscosity (Pa·s).
+        min_viscosity: f64,
+        /// Largest viscosity (Pa·s).
+        max_viscosity: f64,
+    },
+    /// μ = μ∞ + (μ0 − μ∞) / (1 + (λ γ̇)^m).
+    Cross {
+        /// Zero-shear viscosity μ0 (Pa·s).
+        zero_shear_viscosity: f64,
+        /// Infinite-shear viscosity μ∞ (Pa·s).
+        infinite_shear_viscosity: f64,
+        /// Time constant λ (s).
+        time_constant: f64,
+        /// Exponent m (> 0).
+        exponent: f64,
+        /// Smallest viscosity (Pa·s).
+        min_viscosity: f64,
+        /// Largest viscosity (Pa·s).
+        max_viscosity: f64,
+    },
+    /// μ = μ∞ + (μ0 − μ∞) (1 + (λ γ̇)^a)^((n−1)/a); a = 2 is the Carreau law.
+    CarreauYasuda {
+        /// Zero-shear viscosity μ0 (Pa·s).
+        zero_shear_viscosity: f64,
+        /// Infinite-shear viscosity μ∞ (Pa·s).
+        infinite_shear_viscosity: f64,
+        /// Time constant λ (s).
+        time_constant: f64,
+        /// Transition exponent a (> 0).
+        transition: f64,
+        /// Power-law index n (> 0).
+        index: f64,
+        /// Smallest viscosity (Pa·s).
+        min_viscosity: f64,
+        /// Largest viscosity (Pa·s).
+        max_viscosity: f64,
+    },
+    /// Herschel–Bulkley with Papanastasiou's regularisation:
+    /// μ = K γ̇^(n−1) + τ0 (1 − e^(−s γ̇))/γ̇.
+    HerschelBulkley {
+        /// Yield stress τ0 (Pa).
+        yield_stress: f64,
+        /// Consistency K (Pa·sⁿ).
+        consistency: f64,
+        /// Flow behaviour index n (> 0).
+        index: f64,
+        /// Regularisation time s (s): larger is closer to a true yield stress; s γ̇ ≫ 1 where
+        /// the liquid should flow.
+        regularisation: f64,
+        /// Smallest viscosity (Pa·s).
+        min_viscosity: f64,
+        /// Largest viscosity (Pa·s).
+        max_viscosity: f64,
+    },
+    /// Bingham plastic with Papanastasiou's regularisation: μ = μp + τ0 (1 − e^(−s γ̇))/γ̇.
+    Bingham {
+        /// Yield stress τ0 (Pa).
+        yield_stress: f64,
+        /// Plastic viscosity μp (Pa·s).
+        plastic_viscosity: f64,
+        /// Regularisation time s (s).
+        regularisation: f64,
+        /// Smallest viscosity (Pa·s).
+        min_viscosity: f64,
+        /// Largest viscosity (Pa·s).
+        max_viscosity: f64,
+    },
 }
 
 impl ViscosityLaw {
-    /// The viscosity used for scale estimates (sound speed, time step, Reynolds number):
-    /// for a Newtonian liquid its viscosity (Pa·s).
-    pub fn reference_viscosity(&self) -> f64 {
+    /// The solver's form of the law.
+    pub fn solver_law(&self) -> lamella_sph::ViscosityLaw {
+        use lamella_sph::FlowCurve as Curve;
+        let generalised =
+            |curve, min_viscosity, max_viscosity| lamella_sph::ViscosityLaw::Generalised {
+                curve,
+                min_viscosity,
+                max_viscosity,
+            };
+        match *self {
+            ViscosityLaw::Newtonian { viscosity } => {
+                lamella_sph::ViscosityLaw::Newtonian { viscosity }
+            }
+            ViscosityLaw::PowerLaw {
+                consistency,
+                index,
+                min_viscosity,
+                max_viscosity,
+            } => generalised(
+                Curve::PowerLaw { consistency, index },
+                min_viscosity,
+                max_viscosity,
+            ),
+            ViscosityLaw::Cross {
+                zero_shear_viscosity,
+                infinite_shear_viscosity,
+                time_constant,
+                exponent,
+                min_viscosity,
+                max_viscosity,
+            } => generalised(
+                Curve::Cross {
+                    zero_shear_viscosity,
+                    infinite_shear_viscosity,
+                    time_constant,
+                    exponent,
+                },
+                min_viscosity,
+                max_viscosity,
+            ),
+            ViscosityLaw::CarreauYasuda {
+                zero_shear_viscosity,
+                infinite_shear_viscosity,
+                time_constant,
+                transition,
+                index,
+                min_viscosity,
+                max_viscosity,
+            } => generalised(
+                Curve::CarreauYasuda {
+                    zero_shear_viscosity,
+                    infinite_shear_viscosity,
+                    time_constant,
+                    transition,
+                    index,
+                },
+                min_viscosity,
+                max_viscosity,
+            ),
+            ViscosityLaw::HerschelBulkley {
+                yield_stress,
+                consistency,
+                index,
+                regularisation,
+                min_viscosity,
+                max_viscosity,
+            } => generalised(
+                Curve::HerschelBulkley {
+                    yield_stress,
+                    consistency,
+                    index,
+                    regularisation,
+                },
+                min_viscosity,
+                max_viscosity,
+            ),
+            ViscosityLaw::Bingham {
+                yield_stress,
+                plastic_viscosity,
+                regularisation,
+                min_viscosity,
+                max_viscosity,
+            } => generalised(
+                Curve::Bingham {
+                    yield_stress,
+                    plastic_viscosity,
+                    regularisation,
+                },
+                min_viscosity,
+                max_viscosity,
+            ),
+        }
+    }
+
+    /// The law's name as the case file writes it.
+    pub fn name(&self) -> &'static str {
         match self {
-            ViscosityLaw::Newtonian { viscosity } => *viscosity,
+            ViscosityLaw::Newtonian { .. } => "Newtonian",
+            ViscosityLaw::PowerLaw { .. } => "PowerLaw",
+            ViscosityLaw::Cross { .. } => "Cross",
+            ViscosityLaw::CarreauYasuda { .. } => "CarreauYasuda",
+            ViscosityLaw::HerschelBulkley { .. } => "HerschelBulkley",
+            ViscosityLaw::Bingham { .. } => "Bingham",
+        }
+    }
+
+    /// Dynamic viscosity (Pa·s) at shear-rate magnitude `shear_rate` (1/s).
+    pub fn viscosity_at(&self, shear_rate: f64) -> f64 {
+        self.solver_law().viscosity(shear_rate)
+    }
+
+    /// The largest viscosity the law gives (Pa·s): what bounds the explicit viscous step.
+    pub fn max_viscosity(&self) -> f64 {
+        self.solver_law().max_viscosity()
+    }
+
+    /// The viscosity of a Newtonian law, `None` for a law that depends on the shear rate.
+    pub fn newtonian_viscosity(&self) -> Option<f64> {
+        match *self {
+            ViscosityLaw::Newtonian { viscosity } => Some(viscosity),
+            _ => None,
         }
     }
 }

@@ -44,6 +44,16 @@ pub const TEMPLATES: &[Template] = &[
         text: include_str!("../../../cases/two-phase-cavity.ron"),
     },
     Template {
+        name: "shear-thinning-channel",
+        summary: "a power-law (shear-thinning) liquid driven along a channel",
+        text: include_str!("../../../cases/shear-thinning-channel.ron"),
+    },
+    Template {
+        name: "yield-stress-channel",
+        summary: "a Bingham plastic (yield stress) in a channel: a plug on the centre line",
+        text: include_str!("../../../cases/yield-stress-channel.ron"),
+    },
+    Template {
         name: "taylor-green",
         summary: "decaying Taylor–Green vortex in a periodic square",
         text: include_str!("../../../cases/taylor-green.ron"),

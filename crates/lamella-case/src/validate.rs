@@ -7,7 +7,7 @@ use crate::derived::{ChannelFlow, magnitude};
 use crate::error::{Problem, Warning, approx, num, vec_str};
 use crate::schema::{
     Axis, Case, EquationOfState, InitialVelocity, PairViscosity, Probe, Region, SeedMode, Side,
-    ViscosityTreatment,
+    ViscosityLaw, ViscosityTreatment,
 };
 
 /// Accepted smoothing ratios h/dx (inclusive). Common practice is 1.2 … 1.5.
@@ -92,6 +92,137 @@ impl Checker {
             return false;
         }
         dim.is_some()
+    }
+}
+
+/// The parameters of one phase's viscosity law, at `path` (`phases[i].viscosity_law`): every
+/// viscosity, consistency, time and exponent positive, a yield stress or infinite-shear
+/// viscosity not negative, and the clamps positive and ordered.
+fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
+    use lamella_sph::FlowCurve;
+    let field = |name: &str| format!("{path}.{name}");
+    let non_negative = |c: &mut Checker, name: &str, x: f64, what: &str| {
+        if !(x.is_finite() && x >= 0.0) {
+            c.bad(field(name), num(x), &format!("zero or a positive {what}"));
+        }
+    };
+    // The schema's field names are the solver's, so the paths come from the solver's law.
+    let (curve, min, max) = match law.solver_law() {
+        lamella_sph::ViscosityLaw::Newtonian { viscosity } => {
+            c.positive(
+                &field("viscosity"),
+                viscosity,
+                "dynamic viscosity in Pa·s (water is about 1.0e-3)",
+            );
+            return;
+        }
+        lamella_sph::ViscosityLaw::Generalised {
+            curve,
+            min_viscosity,
+            max_viscosity,
+        } => (curve, min_viscosity, max_viscosity),
+    };
+    let regularisation =
+        "regularisation time in s (large against 1/shear rate of the flowing liquid)";
+    match curve {
+        FlowCurve::PowerLaw { consistency, index } => {
+            c.positive(&field("consistency"), consistency, "consistency K in Pa·sⁿ");
+            c.positive(
+                &field("index"),
+                index,
+                "flow behaviour index n (1 is Newtonian)",
+            );
+        }
+        FlowCurve::Cross {
+            zero_shear_viscosity,
+            infinite_shear_viscosity,
+            time_constant,
+            exponent,
+        } => {
+            c.positive(
+                &field("zero_shear_viscosity"),
+                zero_shear_viscosity,
+                "viscosity in Pa·s",
+            );
+            non_negative(
+                c,
+                "infinite_shear_viscosity",
+                infinite_shear_viscosity,
+                "viscosity in Pa·s",
+            );
+            c.positive(
+                &field("time_constant"),
+                time_constant,
+                "time constant λ in s",
+            );
+            c.positive(&field("exponent"), exponent, "exponent m");
+        }
+        FlowCurve::CarreauYasuda {
+            zero_shear_viscosity,
+            infinite_shear_viscosity,
+            time_constant,
+            transition,
+            index,
+        } => {
+            c.positive(
+                &field("zero_shear_viscosity"),
+                zero_shear_viscosity,
+                "viscosity in Pa·s",
+            );
+            non_negative(
+                c,
+                "infinite_shear_viscosity",
+                infinite_shear_viscosity,
+                "viscosity in Pa·s",
+            );
+            c.positive(
+                &field("time_constant"),
+                time_constant,
+                "time constant λ in s",
+            );
+            c.positive(
+                &field("transition"),
+                transition,
+                "transition exponent a (2 is Carreau)",
+            );
+            c.positive(&field("index"), index, "power-law index n");
+        }
+        FlowCurve::HerschelBulkley {
+            yield_stress,
+            consistency,
+            index,
+            regularisation: s,
+        } => {
+            non_negative(c, "yield_stress", yield_stress, "yield stress in Pa");
+            c.positive(&field("consistency"), consistency, "consistency K in Pa·sⁿ");
+            c.positive(&field("index"), index, "flow behaviour index n");
+            c.positive(&field("regularisation"), s, regularisation);
+        }
+        FlowCurve::Bingham {
+            yield_stress,
+            plastic_viscosity,
+            regularisation: s,
+        } => {
+            non_negative(c, "yield_stress", yield_stress, "yield stress in Pa");
+            c.positive(
+                &field("plastic_viscosity"),
+                plastic_viscosity,
+                "plastic viscosity in Pa·s",
+            );
+            c.positive(&field("regularisation"), s, regularisation);
+        }
+    }
+    let min_ok = c.positive(&field("min_viscosity"), min, "smallest viscosity in Pa·s");
+    let max_ok = c.positive(&field("max_viscosity"), max, "largest viscosity in Pa·s");
+    if min_ok && max_ok && min >= max {
+        c.bad(
+            field("max_viscosity"),
+            num(max),
+            &format!(
+                "a value above min_viscosity = {} Pa·s (the clamps must be ordered)",
+                num(min)
+            ),
+        );
     }
 }
 
@@ -254,7 +385,9 @@ impl Case {
                     ),
                 });
             }
-            let mu = phase.viscosity_law.reference_viscosity();
+            let Some(mu) = phase.viscosity_law.newtonian_viscosity() else {
+                continue;
+            };
             if !(mu.is_finite() && mu > 0.0) || (mu_lo..=mu_hi).contains(&mu) {
                 continue;
             }
@@ -491,15 +624,11 @@ impl Case {
                 phase.density,
                 "reference density in kg/m³",
             );
-            match &phase.viscosity_law {
-                crate::schema::ViscosityLaw::Newtonian { viscosity } => {
-                    c.positive(
-                        &format!("phases[{i}].viscosity_law.viscosity"),
-                        *viscosity,
-                        "dynamic viscosity in Pa·s (water is about 1.0e-3)",
-                    );
-                }
-            }
+            check_viscosity_law(
+                c,
+                &format!("phases[{i}].viscosity_law"),
+                &phase.viscosity_law,
+            );
         }
     }
 

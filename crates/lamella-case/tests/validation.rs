@@ -65,6 +65,39 @@ fn zero_or_negative_viscosity() {
     );
 }
 
+/// Each generalised law's parameters are checked, every problem named at once: index n > 0,
+/// yield stress ≥ 0, regularisation > 0, time constants > 0, and the clamps ordered.
+#[test]
+fn bad_viscosity_law_parameters() {
+    let name = "viscosity-law-parameters";
+    assert_problem(
+        name,
+        "phases[0].viscosity_law.index",
+        "bad value 0; expected a positive flow behaviour index",
+    );
+    assert_problem(
+        name,
+        "phases[1].viscosity_law.yield_stress",
+        "bad value -1; expected zero or a positive yield stress",
+    );
+    assert_problem(
+        name,
+        "phases[1].viscosity_law.regularisation",
+        "bad value 0; expected a positive regularisation time",
+    );
+    assert_problem(
+        name,
+        "phases[1].viscosity_law.max_viscosity",
+        "above min_viscosity = 1 Pa·s",
+    );
+    assert_problem(
+        name,
+        "phases[2].viscosity_law.time_constant",
+        "bad value -2; expected a positive time constant",
+    );
+    assert_eq!(problems_of(name).len(), 5);
+}
+
 #[test]
 fn zero_or_negative_density() {
     assert_problem(

@@ -41,6 +41,12 @@ pub enum ChannelError {
     /// No body force along x drives the flow.
     #[error("the flow needs a body force along x (the drive of the channel flow)")]
     NoDrive,
+    /// A phase's viscosity depends on the shear rate.
+    #[error(
+        "phase '{0}' has a viscosity law that depends on the shear rate; the stability analysis \
+         is for Newtonian layers"
+    )]
+    NotNewtonian(String),
     /// The ratios of the layers are out of the stability solver's range.
     #[error(transparent)]
     Ratios(#[from] StabilityError),
@@ -64,6 +70,13 @@ impl CaseChannel {
     /// (fixed walls, periodic along x, the layers filling the height), of one density
     /// ([`Case::layers_share_density`]), driven by a body force along x.
     pub fn of(case: &Case) -> Result<Self, ChannelError> {
+        if let Some(phase) = case
+            .phases
+            .iter()
+            .find(|p| p.viscosity_law.newtonian_viscosity().is_none())
+        {
+            return Err(ChannelError::NotNewtonian(phase.name.clone()));
+        }
         let pairs = case.layer_pairs();
         let (pair, force_density) = match (pairs.as_slice(), case.channel_flow_or_why()) {
             ([pair], Ok(ChannelFlow::TwoLayers { force_density, .. })) => (pair, force_density),
@@ -88,7 +101,7 @@ impl CaseChannel {
             case.extent(1) / 2.0,
             force_density.abs(),
             lower.density,
-            lower.viscosity_law.reference_viscosity(),
+            case.phase_viscosity(pair.lower),
         );
         Ok(Self {
             pair: pair.clone(),

@@ -91,7 +91,11 @@ pub fn problems(case: &Case) -> Vec<Problem> {
 fn too_many_steps(case: &Case, dt: f64, limit: Limit, steps: f64) -> Problem {
     let (path, value, cause) = match limit {
         Limit::Viscous => {
-            let nu = case.kinematic_viscosities();
+            let nu: Vec<f64> = case
+                .phases
+                .iter()
+                .map(|p| p.viscosity_law.max_viscosity() / p.density)
+                .collect();
             let i = (0..nu.len())
                 .max_by(|&a, &b| nu[a].total_cmp(&nu[b]))
                 .unwrap_or(0);
@@ -99,9 +103,9 @@ fn too_many_steps(case: &Case, dt: f64, limit: Limit, steps: f64) -> Problem {
             (
                 format!("phases[{i}]"),
                 format!(
-                    "density {:e} kg/m³, viscosity {:e} Pa·s",
+                    "density {:e} kg/m³, largest viscosity {:e} Pa·s",
                     phase.density,
-                    phase.viscosity_law.reference_viscosity()
+                    phase.viscosity_law.max_viscosity()
                 ),
                 format!("its kinematic viscosity ν = μ/ρ = {:e} m²/s", nu[i]),
             )

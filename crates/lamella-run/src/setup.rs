@@ -11,7 +11,7 @@ use crate::eigenmode::EigenmodeSeed;
 use crate::reference::channel_reference;
 use lamella_sph::{
     DEFAULT_DENSITY_DIFFUSION, Kernel, KernelKind, Kind, NoSlip, PairViscosity, Particles,
-    Regularisation, SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors, ViscosityLaw,
+    Regularisation, SetupError, Simulation, SolverConfig, StateLaw, TimeStepFactors,
     implicit_viscosity::{ImplicitSettings, ViscosityTreatment},
 };
 
@@ -83,7 +83,7 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
         viscosity_laws: case
             .phases
             .iter()
-            .map(|p| viscosity_law(&p.viscosity_law))
+            .map(|p| p.viscosity_law.solver_law())
             .collect(),
         pair_viscosity: match case.pair_viscosity {
             CasePair::Harmonic => PairViscosity::Harmonic,
@@ -134,7 +134,10 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
 }
 
 /// Whether the solver adds the transposed viscous stress for `case`: where it has more than
-/// one viscosity.
+/// one viscosity (by [`Case::viscosity_contrast`]: between phases, a generalised law read at
+/// U/L). Within one generalised phase it is left out, although the viscosity varies there too:
+/// explicit, it went unstable where a regularised yield stress jumps the viscosity by a
+/// thousand times over a few particles (DEVELOPERS.md, "Generalised Newtonian phases").
 fn full_viscous_stress(case: &Case) -> bool {
     case.viscosity_contrast() > 1.0
 }
@@ -150,15 +153,6 @@ pub fn heap_bytes_per_particle(case: &Case) -> usize {
         Simulation::<glam::DVec3>::heap_bytes_per_particle(full, implicit, quadratic)
     } else {
         Simulation::<glam::DVec2>::heap_bytes_per_particle(full, implicit, quadratic)
-    }
-}
-
-/// The solver's form of a phase's viscosity law.
-fn viscosity_law(law: &lamella_case::ViscosityLaw) -> ViscosityLaw {
-    match *law {
-        lamella_case::ViscosityLaw::Newtonian { viscosity } => {
-            ViscosityLaw::Newtonian { viscosity }
-        }
     }
 }
 
@@ -207,7 +201,8 @@ pub fn initial_particles<V: Vector>(case: &Case) -> Result<Particles<V>, SetupEr
         });
         p.density.push(phase.density);
         p.mass.push(phase.density * volume);
-        p.viscosity.push(phase.viscosity_law.reference_viscosity());
+        p.viscosity
+            .push(case.phase_viscosity(generated.phase[i] as usize));
         p.kind.push(if wall { Kind::Wall } else { Kind::Fluid });
     }
     add_eigenmode_velocity(case, &mut p).map_err(SetupError::InitialState)?;

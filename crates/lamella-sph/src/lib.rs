@@ -27,5 +27,5 @@ pub use shear_rate::shear_rates;
 pub use shifting::Regularisation;
 pub use simulation::{DEFAULT_DENSITY_DIFFUSION, SetupError, Simulation, SolverConfig, StepReport};
 pub use time_step::{Limit, TimeStepFactors, stable_time_step};
-pub use viscosity::ViscosityLaw;
+pub use viscosity::{FlowCurve, ViscosityLaw};
 pub use walls::NoSlip;

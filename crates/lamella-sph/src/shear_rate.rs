@@ -44,23 +44,79 @@ pub fn velocity_gradient<V: Vector>(
     takes_part: impl Fn(usize) -> bool,
     min_determinant: f64,
 ) -> Option<DMat3> {
-    let Flow {
-        position,
-        velocity,
-        kind,
-    } = flow;
-    if kind[a] != Kind::Fluid {
+    corrected_gradient(
+        neighbours,
+        a,
+        flow,
+        |b| flow.velocity[b],
+        volume,
+        kernel,
+        |b| flow.kind[b] == Kind::Fluid && takes_part(b),
+        min_determinant,
+    )
+}
+
+/// The velocity gradient of fluid particle `a` (as [`velocity_gradient`]) over its fluid
+/// neighbours of the same phase and the wall particles, which enter with
+/// `wall_velocity(b)`: the velocity the no slip gives them for the viscous term, which
+/// continues the fluid's profile through the wall ([`crate::walls::NoSlip`]). Next to a wall
+/// the support is then whole rather than one-sided, and the estimate keeps second-order
+/// accuracy on a curved profile where the fluid-only one loses it (a one-sided corrected
+/// gradient is exact for linear fields only). `None` for a wall particle or a support that
+/// does not span every axis.
+pub fn velocity_gradient_through_walls<V: Vector>(
+    neighbours: &impl Neighbourhood<V>,
+    a: usize,
+    flow: Flow<'_, V>,
+    phase: &[u16],
+    wall_velocity: impl Fn(usize) -> V,
+    volume: impl Fn(usize) -> f64,
+    kernel: &Kernel,
+) -> Option<DMat3> {
+    let kind = flow.kind;
+    corrected_gradient(
+        neighbours,
+        a,
+        flow,
+        |b| match kind[b] {
+            Kind::Fluid => flow.velocity[b],
+            Kind::Wall => wall_velocity(b),
+        },
+        volume,
+        kernel,
+        |b| kind[b] == Kind::Wall || phase[b] == phase[a],
+        MIN_STRESS_DETERMINANT,
+    )
+}
+
+/// The corrected SPH gradient of [`velocity_gradient`] of fluid particle `a` (`None` for a
+/// wall particle) over the neighbours b with `include(b)`, each with velocity `velocity_of(b)`.
+#[allow(clippy::too_many_arguments)]
+#[inline]
+fn corrected_gradient<V: Vector>(
+    neighbours: &impl Neighbourhood<V>,
+    a: usize,
+    flow: Flow<'_, V>,
+    velocity_of: impl Fn(usize) -> V,
+    volume: impl Fn(usize) -> f64,
+    kernel: &Kernel,
+    include: impl Fn(usize) -> bool,
+    min_determinant: f64,
+) -> Option<DMat3> {
+    if flow.kind[a] != Kind::Fluid {
         return None;
     }
+    let position = flow.position;
+    let v_a = flow.velocity[a];
     // Column-major 3 × 3 sums; in 2D the z row and column stay zero.
     let mut differences = [[0.0; 3]; 3];
     let mut moments = [[0.0; 3]; 3];
     neighbours.for_each_neighbour(position, a, |b, r, distance| {
-        if kind[b] != Kind::Fluid || !takes_part(b) {
+        if !include(b) {
             return;
         }
         let gradient = r * (kernel.gradient_factor(distance) * volume(b));
-        let du = velocity[b] - velocity[a];
+        let du = velocity_of(b) - v_a;
         // Column j: G_ij += du_i g_j and M_ij += (x_b − x_a)_i g_j = −r_i g_j.
         let columns = differences.iter_mut().zip(&mut moments).take(V::DIM);
         for (j, (d, m)) in columns.enumerate() {
@@ -125,6 +181,14 @@ pub fn velocity_gradients<V: Vector>(
     });
 }
 
+/// Shear-rate magnitude γ̇ = √(2 D:D) (1/s) of the velocity gradient G (D = ½(G + Gᵀ); see
+/// [`shear_rates`]).
+pub fn shear_rate_of(gradient: DMat3) -> f64 {
+    let rate_of_strain = (gradient + gradient.transpose()) * 0.5;
+    let double_dot: f64 = rate_of_strain.to_cols_array().iter().map(|d| d * d).sum();
+    (2.0 * double_dot).sqrt()
+}
+
 /// Shear-rate magnitude γ̇ (1/s) of every particle (parallel map, each a fixed-order sum):
 /// with G the [`velocity_gradient`] and D = ½(G + Gᵀ), γ̇ = √(2 D:D) (Bird, Stewart &
 /// Lightfoot, Transport Phenomena, 2nd ed., §8.3: the magnitude √(½ γ̇:γ̇) of the
@@ -162,14 +226,8 @@ pub fn shear_rates_into<V: Vector>(
     out: &mut [f64],
 ) {
     out.par_iter_mut().enumerate().for_each(|(a, rate)| {
-        *rate = velocity_gradient(neighbours, a, flow, &volume, kernel, |_| true, 0.0).map_or(
-            f64::NAN,
-            |gradient| {
-                let rate_of_strain = (gradient + gradient.transpose()) * 0.5;
-                let double_dot: f64 = rate_of_strain.to_cols_array().iter().map(|d| d * d).sum();
-                (2.0 * double_dot).sqrt()
-            },
-        );
+        *rate = velocity_gradient(neighbours, a, flow, &volume, kernel, |_| true, 0.0)
+            .map_or(f64::NAN, shear_rate_of);
     });
 }
 
@@ -310,5 +368,67 @@ mod tests {
             &l.kernel,
         );
         assert!(lone[0].is_nan());
+    }
+
+    #[test]
+    fn walls_showing_the_continued_profile_make_the_gradient_next_to_them_second_order() {
+        // A parabolic profile u = c y (H − y) over a wall at y = 0 (its lowest three lattice
+        // rows are wall particles). Fluid-only, the corrected gradient of the first fluid row is
+        // one-sided and misses c dx-order terms; with the walls showing the profile continued
+        // through the wall (what the quadratic no slip gives them) the support is whole.
+        let (n, dx) = (14, 0.01);
+        let mut l = lattice(n, dx, DVec2::new(n as f64 * dx, 0.0));
+        let wall_top = 3.0 * dx;
+        for (kind, x) in l.kind.iter_mut().zip(&l.position) {
+            if x.y < wall_top {
+                *kind = Kind::Wall;
+            }
+        }
+        let (c, height) = (2.0, 0.2);
+        let profile = |y: f64| c * (y - wall_top) * (height - (y - wall_top));
+        let velocity: Vec<DVec2> = l
+            .position
+            .iter()
+            .map(|x| DVec2::new(profile(x.y), 0.0))
+            .collect();
+        let phase = vec![0u16; velocity.len()];
+        let flow = Flow {
+            position: &l.position,
+            velocity: &velocity,
+            kind: &l.kind,
+        };
+        let first_row = (0..l.position.len())
+            .find(|&a| l.kind[a] == Kind::Fluid)
+            .expect("a fluid row");
+        let exact = c * (height - 2.0 * (l.position[first_row].y - wall_top));
+        let one_sided = velocity_gradient(
+            &l.neighbours,
+            first_row,
+            flow,
+            |b| l.volume[b],
+            &l.kernel,
+            |_| true,
+            0.0,
+        )
+        .expect("fluid-only gradient");
+        let through = velocity_gradient_through_walls(
+            &l.neighbours,
+            first_row,
+            flow,
+            &phase,
+            |b| velocity[b],
+            |b| l.volume[b],
+            &l.kernel,
+        )
+        .expect("gradient through the walls");
+        let error = |g: DMat3| (g.col(1).x - exact).abs() / exact;
+        // Measured: one-sided 6.0 %, through the walls 1.5e-16 (a quadratic on a
+        // symmetric lattice support).
+        assert!(error(one_sided) > 0.02, "one-sided {}", error(one_sided));
+        assert!(
+            error(through) < 1e-9,
+            "through the walls {}",
+            error(through)
+        );
     }
 }

@@ -44,7 +44,7 @@ use crate::forces::{
 use crate::implicit_viscosity::{SolverScratch, ViscosityTreatment, ViscousOperator, solve};
 use crate::kernel::Kernel;
 use crate::particles::{FieldMut, Kind, Particles, ReorderScratch};
-use crate::shear_rate::{Flow, shear_rates_into, velocity_gradients};
+use crate::shear_rate::{Flow, shear_rate_of, velocity_gradient_through_walls, velocity_gradients};
 use crate::shifting::{Regularisation, shift};
 use crate::time_step::{Limit, TimeStepFactors, stable_time_step};
 use crate::viscosity::{ViscosityLaw, update_viscosities};
@@ -164,11 +164,10 @@ struct Scratch<V: Vector> {
     inverse_reference_density: Vec<f64>,
     seen: Vec<InteractionState<V>>,
     rates: Vec<Rates<V>>,
-    /// Velocity gradient of each particle, when the full viscous stress is on.
+    /// Velocity gradient of each particle over its own phase, when the full viscous stress is
+    /// on.
     gradients: Vec<DMat3>,
     density_rates: Vec<f64>,
-    /// Shear rate of each particle, when a viscosity law depends on it (empty otherwise).
-    shear_rate: Vec<f64>,
     /// Shifting velocity δv of each particle (empty when particles are not shifted).
     shift_velocity: Vec<V>,
     next_position: Vec<V>,
@@ -344,7 +343,8 @@ impl<V: Vector> Simulation<V> {
         // The velocity gradients of the full viscous stress: the quadratic no slip takes them
         // too. Only fluid neighbours count, so the fluid's own volumes m/ρ serve.
         let p = &self.particles;
-        if self.config.full_viscous_stress {
+        let with_gradients = self.config.full_viscous_stress;
+        if with_gradients {
             self.scratch.gradients.resize(n, DMat3::ZERO);
             velocity_gradients(
                 &self.cells,
@@ -365,9 +365,7 @@ impl<V: Vector> Simulation<V> {
                     &self.config.kernel,
                     p,
                     &self.cells,
-                    self.config
-                        .full_viscous_stress
-                        .then_some(self.scratch.gradients.as_slice()),
+                    with_gradients.then_some(self.scratch.gradients.as_slice()),
                 );
                 Some((&self.scratch.near_wall, lower, upper))
             }
@@ -396,33 +394,45 @@ impl<V: Vector> Simulation<V> {
             });
     }
 
-    /// The viscosity-law plug-in point: when a phase's law depends on the shear rate, writes
-    /// every particle's shear rate into scratch ([`shear_rates_into`], volumes from the wall
-    /// states); then sets each fluid particle's viscosity from its phase's law. A Newtonian
-    /// law writes back the same constant, so those runs are unchanged bit for bit.
+    /// The viscosity-law plug-in point: sets each fluid particle's viscosity from its phase's
+    /// law. A law that reads the shear rate gets it from the particle's velocity gradient over
+    /// its own phase and the walls, which show the velocity continuing the fluid's profile
+    /// ([`velocity_gradient_through_walls`], from the interaction states just evaluated). A
+    /// Newtonian law writes back the same constant, so those runs are unchanged bit for bit.
     fn update_viscosities(&mut self) {
-        let laws = &self.config.viscosity_laws;
-        let p = &mut self.particles;
-        let shear_rate = &mut self.scratch.shear_rate;
-        if laws.iter().any(ViscosityLaw::depends_on_shear_rate) {
-            shear_rate.resize(p.len(), 0.0);
-            let states: &[InteractionState<V>] = &self.scratch.seen;
-            let flow = Flow {
-                position: &p.position,
-                velocity: &p.velocity,
-                kind: &p.kind,
-            };
-            shear_rates_into(
+        let Particles {
+            position,
+            velocity,
+            kind,
+            phase,
+            viscosity,
+            ..
+        } = &mut self.particles;
+        let seen: &[InteractionState<V>] = &self.scratch.seen;
+        let flow = Flow {
+            position,
+            velocity,
+            kind,
+        };
+        let shear_rate = |a: usize| {
+            velocity_gradient_through_walls(
                 &self.cells,
+                a,
                 flow,
-                |b| states[b].volume,
+                phase,
+                |b| seen[b].viscous_velocity,
+                |b| seen[b].volume,
                 &self.config.kernel,
-                shear_rate,
-            );
-        } else {
-            shear_rate.clear();
-        }
-        update_viscosities(laws, &p.phase, &p.kind, shear_rate, &mut p.viscosity);
+            )
+            .map_or(f64::NAN, shear_rate_of)
+        };
+        update_viscosities(
+            &self.config.viscosity_laws,
+            phase,
+            kind,
+            shear_rate,
+            viscosity,
+        );
     }
 
     /// Advances by one stable step, cut short so as not to pass the simulated time `until` (s);

@@ -122,6 +122,24 @@ fn summary(path: &Path, case: &Case) -> String {
         sig(case.time.end)
     );
     let _ = writeln!(s, "  Reynolds      {}", reynolds(case));
+    for (i, phase) in case.phases.iter().enumerate() {
+        if phase.viscosity_law.newtonian_viscosity().is_some() {
+            continue;
+        }
+        let (min, max) = phase.viscosity_law.solver_law().range();
+        let _ = writeln!(
+            s,
+            "  viscosity law {} of '{}': μ = {} Pa·s at the characteristic shear rate U/L = {} \
+             1/s (used for the sound speed and the Reynolds number), clamped to {} … {} Pa·s; \
+             the explicit step takes the largest",
+            phase.viscosity_law.name(),
+            phase.name,
+            sig(case.phase_viscosity(i)),
+            sig(case.characteristic_shear_rate()),
+            sig(min),
+            sig(max)
+        );
+    }
     if case.phases.len() > 1 {
         let _ = writeln!(
             s,
@@ -130,10 +148,16 @@ fn summary(path: &Path, case: &Case) -> String {
             case.pair_viscosity
         );
     }
+    let at_characteristic_rate = if case.has_generalised_phase() {
+        " (at U/L)"
+    } else {
+        ""
+    };
     for pair in case.layer_pairs() {
         let _ = writeln!(
             s,
-            "  layers        {} under {} at y = {} m: viscosity ratio m = {}, width ratio n = {}",
+            "  layers        {} under {} at y = {} m: viscosity ratio m = \
+             {}{at_characteristic_rate}, width ratio n = {}",
             case.phases[pair.lower].name,
             case.phases[pair.upper].name,
             sig(pair.interface),
@@ -182,7 +206,7 @@ pub(crate) fn reynolds(case: &Case) -> String {
     if let Some(reference) = channel_reference(case) {
         let lower = case.layer_pairs().first().map_or(0, |pair| pair.lower);
         let phase = &case.phases[lower];
-        let mu = phase.viscosity_law.reference_viscosity();
+        let mu = case.phase_viscosity(lower);
         let scales = ChannelScales::of_peak(
             case.extent(1) / 2.0,
             reference.steady_peak_speed(),
@@ -231,7 +255,7 @@ fn viscosity_slip_warning(case: &Case, steps: f64, limit: Limit) -> Option<Strin
     let (index, mu) = case
         .phases
         .iter()
-        .map(|p| p.viscosity_law.reference_viscosity())
+        .map(|p| p.viscosity_law.newtonian_viscosity().unwrap_or(0.0))
         .enumerate()
         .fold(
             (0, 0.0),
