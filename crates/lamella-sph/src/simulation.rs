@@ -343,8 +343,7 @@ impl<V: Vector> Simulation<V> {
         // The velocity gradients of the full viscous stress: the quadratic no slip takes them
         // too. Only fluid neighbours count, so the fluid's own volumes m/ρ serve.
         let p = &self.particles;
-        let with_gradients = self.config.full_viscous_stress;
-        if with_gradients {
+        if self.config.full_viscous_stress {
             self.scratch.gradients.resize(n, DMat3::ZERO);
             velocity_gradients(
                 &self.cells,
@@ -365,7 +364,9 @@ impl<V: Vector> Simulation<V> {
                     &self.config.kernel,
                     p,
                     &self.cells,
-                    with_gradients.then_some(self.scratch.gradients.as_slice()),
+                    self.config
+                        .full_viscous_stress
+                        .then_some(self.scratch.gradients.as_slice()),
                 );
                 Some((&self.scratch.near_wall, lower, upper))
             }
