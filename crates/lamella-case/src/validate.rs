@@ -122,6 +122,12 @@ fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
             max_viscosity,
         } => (curve, min_viscosity, max_viscosity),
     };
+    // The plateaus μ0, μ∞ and the time constant λ shared by the Cross and Carreau–Yasuda laws.
+    let viscosity_plateaus = |c: &mut Checker, zero: f64, infinite: f64, time: f64| {
+        c.positive(&field("zero_shear_viscosity"), zero, "viscosity in Pa·s");
+        non_negative(c, "infinite_shear_viscosity", infinite, "viscosity in Pa·s");
+        c.positive(&field("time_constant"), time, "time constant λ in s");
+    };
     let regularisation =
         "regularisation time in s (large against 1/shear rate of the flowing liquid)";
     match curve {
@@ -139,21 +145,11 @@ fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
             time_constant,
             exponent,
         } => {
-            c.positive(
-                &field("zero_shear_viscosity"),
-                zero_shear_viscosity,
-                "viscosity in Pa·s",
-            );
-            non_negative(
+            viscosity_plateaus(
                 c,
-                "infinite_shear_viscosity",
+                zero_shear_viscosity,
                 infinite_shear_viscosity,
-                "viscosity in Pa·s",
-            );
-            c.positive(
-                &field("time_constant"),
                 time_constant,
-                "time constant λ in s",
             );
             c.positive(&field("exponent"), exponent, "exponent m");
         }
@@ -164,21 +160,11 @@ fn check_viscosity_law(c: &mut Checker, path: &str, law: &ViscosityLaw) {
             transition,
             index,
         } => {
-            c.positive(
-                &field("zero_shear_viscosity"),
-                zero_shear_viscosity,
-                "viscosity in Pa·s",
-            );
-            non_negative(
+            viscosity_plateaus(
                 c,
-                "infinite_shear_viscosity",
+                zero_shear_viscosity,
                 infinite_shear_viscosity,
-                "viscosity in Pa·s",
-            );
-            c.positive(
-                &field("time_constant"),
                 time_constant,
-                "time constant λ in s",
             );
             c.positive(
                 &field("transition"),
