@@ -172,12 +172,19 @@ impl Case {
             .collect()
     }
 
-    /// Largest kinematic viscosity a phase can reach (m²/s; a generalised law's
-    /// `max_viscosity`): it bounds the explicit viscous time step.
-    pub fn max_kinematic_viscosity(&self) -> f64 {
+    /// The largest kinematic viscosity each phase can reach (m²/s; a generalised law's
+    /// `max_viscosity` over ρ0): what bounds the explicit viscous time step.
+    pub fn largest_kinematic_viscosities(&self) -> Vec<f64> {
         self.phases
             .iter()
             .map(|p| p.viscosity_law.max_viscosity() / p.density)
+            .collect()
+    }
+
+    /// Largest of [`Case::largest_kinematic_viscosities`] (m²/s).
+    pub fn max_kinematic_viscosity(&self) -> f64 {
+        self.largest_kinematic_viscosities()
+            .into_iter()
             .fold(0.0, f64::max)
     }
 

@@ -91,11 +91,7 @@ pub fn problems(case: &Case) -> Vec<Problem> {
 fn too_many_steps(case: &Case, dt: f64, limit: Limit, steps: f64) -> Problem {
     let (path, value, cause) = match limit {
         Limit::Viscous => {
-            let nu: Vec<f64> = case
-                .phases
-                .iter()
-                .map(|p| p.viscosity_law.max_viscosity() / p.density)
-                .collect();
+            let nu = case.largest_kinematic_viscosities();
             let i = (0..nu.len())
                 .max_by(|&a, &b| nu[a].total_cmp(&nu[b]))
                 .unwrap_or(0);
