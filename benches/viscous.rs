@@ -5,13 +5,15 @@
 //! Run: `cargo bench --bench viscous` (m = 1000, n = 5, 36 rows, both treatments; at n = 0.2
 //! the explicit run takes 3.4 million steps);
 //! `cargo bench --bench viscous -- ROWS RATIO WIDTH_RATIO [TOLERANCE]` for one other case
-//! (the viscous layer below); `--implicit-only` skips the explicit run.
+//! (the viscous layer below, or above with `--viscous-above`); `--implicit-only` skips the
+//! explicit run.
 
 use lamella_case::ViscosityTreatment;
 use lamella_suite::viscous_layers::Layers;
 
 fn main() {
     let implicit_only = std::env::args().any(|a| a == "--implicit-only");
+    let viscous_below = !std::env::args().any(|a| a == "--viscous-above");
     let args: Vec<f64> = std::env::args()
         .skip(1)
         .filter_map(|a| a.parse().ok())
@@ -22,7 +24,7 @@ fn main() {
             rows: args[0] as usize,
             ratio: args[1],
             width_ratio: args[2],
-            viscous_below: true,
+            viscous_below,
         }]
     } else {
         vec![Layers {
@@ -46,11 +48,12 @@ fn main() {
         for treatment in treatments {
             let m = layers.run(treatment);
             println!(
-                "rows {} m {} n {} {treatment:?}: {} steps, {} solver iterations ({:.1} a step), \
+                "rows {} m {} n {} viscous {} {treatment:?}: {} steps, {} solver iterations ({:.1} a step), \
                  {:.2} s; L2 {:.3} %, runny flow rate {:+.3} %, interface row {:+.3} %",
                 layers.rows,
                 layers.ratio,
                 layers.width_ratio,
+                if layers.viscous_below { "below" } else { "above" },
                 m.steps,
                 m.iterations,
                 m.iterations as f64 / m.steps as f64,

@@ -219,9 +219,13 @@ fn layered_flow_with_a_viscous_upper_layer() {
     );
 }
 
+/// Three resolutions above the floor of about 0.1 % that the profile error reaches from 30 rows
+/// on (0.123 % at 60 rows; its causes are in DEVELOPERS.md, "Quadratic no slip"): the layered
+/// profile's error falls at about first order or better (common practice for a kink in the
+/// profile; measured 1.90).
 #[test]
 fn layered_flow_converges_at_about_first_order() {
-    let rows = [15usize, 30, 60];
+    let rows = [15usize, 20, 30];
     let mut spacings = Vec::new();
     let mut errors = Vec::new();
     for &n in &rows {

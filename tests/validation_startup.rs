@@ -3,8 +3,10 @@
 //! §4.1–4.2): plane Poiseuille flow driven by a body force, and Couette flow driven by a sliding
 //! upper wall, both from rest, 30 particles across the gap (the bundled cases). The task's
 //! bound is a relative L2 error of the velocity profile ≤ 3 % at the steady state; the tests
-//! hold each case to regression bounds about twice what it measures (2026-12-04), during the
-//! transient and at the steady state, and name the task's bound in their messages.
+//! hold each case to regression bounds about twice what it measures (2026-12-04, with the
+//! second-order fit of the quadratic no slip), during the transient and at the steady state,
+//! and name the task's bound in their messages. The steady Poiseuille profile's 0.10 % is the
+//! floor described in DEVELOPERS.md ("Quadratic no slip"), not the walls.
 
 use std::time::Instant;
 
@@ -112,8 +114,8 @@ fn check_startup(
 #[test]
 fn startup_poiseuille_follows_the_morris_series() {
     let bounds = Bounds {
-        transient: (0.00162, 0.0033),
-        steady: (0.00043, 0.0009),
+        transient: (0.00102, 0.0021),
+        steady: (0.00102, 0.0021),
     };
     check_startup(
         "poiseuille.ron",
@@ -129,8 +131,8 @@ fn startup_poiseuille_follows_the_morris_series() {
 #[test]
 fn startup_couette_follows_the_morris_series() {
     let bounds = Bounds {
-        transient: (0.00076, 0.0016),
-        steady: (0.00011, 0.00025),
+        transient: (0.00161, 0.0033),
+        steady: (0.00012, 0.00025),
     };
     check_startup("couette.ron", "Couette", bounds, |case, plates, y, t| {
         let lid = case

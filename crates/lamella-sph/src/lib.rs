@@ -14,6 +14,7 @@ pub mod shear_rate;
 pub mod shifting;
 pub mod simulation;
 pub mod time_step;
+pub mod velocity_fit;
 pub mod viscosity;
 pub mod walls;
 

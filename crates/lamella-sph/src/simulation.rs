@@ -177,7 +177,7 @@ struct Scratch<V: Vector> {
     viscous_solve: SolverScratch<V>,
     /// The velocity after every force but the implicit viscous one, v*.
     kicked_velocity: Vec<V>,
-    /// The fluid's velocity gradient and curvature next to the walls ([`NoSlip::Quadratic`]).
+    /// The fluid's second-order velocity fit next to the walls ([`NoSlip::Quadratic`]).
     near_wall: NearWallFlow<V>,
 }
 
@@ -199,7 +199,7 @@ impl<V: Vector> Simulation<V> {
     /// next state (two vectors and a density), the cell list, with `full_viscous_stress` a
     /// 3 × 3 velocity gradient and with `implicit_viscosity` the work space of the viscous
     /// solve (the kicked velocity, five conjugate-gradient vectors and the diagonal), with
-    /// `quadratic_no_slip` the fluid's gradient and curvature next to walls ([`NearWallFlow`]).
+    /// `quadratic_no_slip` the fluid's second-order velocity fit next to walls ([`NearWallFlow`]).
     /// Transient buffers of a step (shifting) are not counted.
     pub fn heap_bytes_per_particle(
         full_viscous_stress: bool,
@@ -340,8 +340,8 @@ impl<V: Vector> Simulation<V> {
     fn evaluate_interaction_states(&mut self) {
         let n = self.particles.len();
         self.scratch.seen.resize(n, InteractionState::default());
-        // The velocity gradients of the full viscous stress: the quadratic no slip takes them
-        // too. Only fluid neighbours count, so the fluid's own volumes m/ρ serve.
+        // The velocity gradients of the full viscous stress. Only fluid neighbours count, so
+        // the fluid's own volumes m/ρ serve.
         let p = &self.particles;
         if self.config.full_viscous_stress {
             self.scratch.gradients.resize(n, DMat3::ZERO);
@@ -364,9 +364,6 @@ impl<V: Vector> Simulation<V> {
                     &self.config.kernel,
                     p,
                     &self.cells,
-                    self.config
-                        .full_viscous_stress
-                        .then_some(self.scratch.gradients.as_slice()),
                 );
                 Some((&self.scratch.near_wall, lower, upper))
             }
@@ -924,10 +921,10 @@ mod tests {
             Simulation::<glam::DVec3>::heap_bytes_per_particle(false, false, false),
             272 + 10 * 8
         );
-        // Quadratic no slip: an optional 3 × 3 gradient (80), a column (16), three curvatures (48).
+        // Quadratic no slip: an optional fit of nine Taylor coefficients (9 · 16 + 8).
         assert_eq!(
             Simulation::<DVec2>::heap_bytes_per_particle(false, false, true),
-            272 + 80 + 16 + 48
+            272 + 9 * 16 + 8
         );
     }
 

@@ -2,7 +2,6 @@
 //! viscous term. For fluid particles these are their own; for wall (dummy) particles they follow
 //! the generalised wall condition of Adami, Hu & Adams 2012 (J. Comput. Phys. 231, 7057–7075).
 
-use glam::{DMat3, DVec3};
 use lamella_cells::Vector;
 use rayon::prelude::*;
 
@@ -10,7 +9,8 @@ use crate::eos::StateLaw;
 use crate::kernel::Kernel;
 use crate::neighbours::Neighbourhood;
 use crate::particles::{Kind, Particles};
-use crate::shear_rate::{Flow, MIN_STRESS_DETERMINANT, velocity_gradient};
+use crate::shear_rate::Flow;
+use crate::velocity_fit::{QuadraticFit, quadratic_velocity_fit};
 
 /// How the velocity a wall particle shows the viscous term continues the fluid's profile.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -20,10 +20,10 @@ pub enum NoSlip<V> {
     /// First order: on a curved profile (Poiseuille flow) the wall drags too little.
     Averaged,
     /// ṽ_w = 2 v_w − u(x_m) + Σ_a ∂²u/∂x_a² d_a²: the no-slip continuation across the wall of
-    /// a quadratic profile, u(x_m) the fluid velocity at the mirror point x_m by a first-order
-    /// Taylor expansion from each fluid neighbour, d_a the wall particle's distance beyond the
-    /// wall face on axis a (both faces at a corner). The walls are the faces of the box
-    /// `[lower, upper]` on the axes that are not periodic.
+    /// a quadratic profile, u(x_m) the fluid velocity at the mirror point x_m by a second-order
+    /// Taylor expansion from each fluid neighbour ([`NearWallFlow`]), d_a the wall particle's
+    /// distance beyond the wall face on axis a (both faces at a corner). The walls are the
+    /// faces of the box `[lower, upper]` on the axes that are not periodic.
     Quadratic {
         /// Lower corner of the box whose faces are the walls (m).
         lower: V,
@@ -32,34 +32,22 @@ pub enum NoSlip<V> {
     },
 }
 
-/// The fluid's velocity gradient and curvature next to the walls, which
-/// [`NoSlip::Quadratic`] takes; buffers reused every step.
+/// The fluid's velocity field to second order next to the walls, which [`NoSlip::Quadratic`]
+/// takes; a buffer reused every step.
 #[derive(Clone, Debug, Default)]
 pub struct NearWallFlow<V> {
-    /// Velocity gradient of each fluid particle within two supports of a wall, over its own
-    /// phase ([`velocity_gradient`]); `None` elsewhere or where it is undefined.
-    gradient: Vec<Option<DMat3>>,
-    /// Column `a` of each particle's gradient, ∂u/∂x_a (work space).
-    column: Vec<V>,
-    /// ∂²u/∂x_a² of each fluid particle within one support of a wall, for each walled axis
-    /// a (zero where undefined, which leaves the first-order expansion).
-    curvature: Vec<[V; 3]>,
+    /// The [`quadratic_velocity_fit`] of each fluid particle within one support of a wall
+    /// face, over its own phase; `None` elsewhere or where it is undefined.
+    fit: Vec<Option<QuadraticFit<V>>>,
 }
 
 impl<V: Vector> NearWallFlow<V> {
-    /// Heap bytes per particle: a gradient, a column and three curvatures.
-    pub const BYTES_PER_PARTICLE: usize = std::mem::size_of::<Option<DMat3>>()
-        + std::mem::size_of::<V>()
-        + std::mem::size_of::<[V; 3]>();
+    /// Heap bytes per particle: one fit.
+    pub const BYTES_PER_PARTICLE: usize = std::mem::size_of::<Option<QuadraticFit<V>>>();
 
-    /// Evaluates the gradients (fluid particles within two supports of a wall face) and then
-    /// the normal curvatures (within one support) for the walls of `walls` on the axes where
-    /// `walled` is true; parallel maps, each a fixed-order sum. `known` passes gradients
-    /// already computed for every particle by [`crate::shear_rate::velocity_gradients`] (zero
-    /// where undefined), which are then taken instead of computed again.
-    ///
-    /// The curvature is the corrected gradient of the corrected gradient (Bonet & Lok 1999),
-    /// exact for a quadratic field where both supports are full of the particle's phase.
+    /// Fits the velocity around every fluid particle within one support of a wall face of
+    /// `walls` on the axes where `walled` is true (the fluid neighbours of wall particles); a
+    /// parallel map, each a fixed-order sum.
     pub fn evaluate<N: Neighbourhood<V>>(
         &mut self,
         (lower, upper): (V, V),
@@ -67,93 +55,44 @@ impl<V: Vector> NearWallFlow<V> {
         kernel: &Kernel,
         particles: &Particles<V>,
         neighbours: &N,
-        known: Option<&[DMat3]>,
     ) {
-        let n = particles.len();
         let p = particles;
         let reach = kernel.support_radius();
-        let distance = |x: V| wall_distance(x, lower, upper, walled);
-        let volume = |b: usize| p.mass[b] / p.density[b];
         let flow = Flow {
             position: &p.position,
             velocity: &p.velocity,
             kind: &p.kind,
         };
-        self.gradient.resize(n, None);
-        self.gradient
-            .par_iter_mut()
-            .enumerate()
-            .for_each(|(a, gradient)| {
-                if p.kind[a] != Kind::Fluid || distance(p.position[a]) >= 2.0 * reach {
-                    *gradient = None;
-                    return;
-                }
-                *gradient = match known {
-                    Some(known) => (known[a] != DMat3::ZERO).then_some(known[a]),
-                    None => velocity_gradient(
-                        neighbours,
-                        a,
-                        flow,
-                        volume,
-                        kernel,
-                        |b| p.phase[b] == p.phase[a],
-                        MIN_STRESS_DETERMINANT,
-                    ),
-                };
-            });
-        self.curvature.clear();
-        self.curvature.resize(n, [V::ZERO; 3]);
-        self.column.resize(n, V::ZERO);
-        for axis in (0..V::DIM).filter(|&axis| walled[axis]) {
-            let gradient = &self.gradient;
-            self.column
-                .par_iter_mut()
-                .zip(gradient.par_iter())
-                .for_each(|(column, g)| {
-                    *column = g.map_or(V::ZERO, |g| V::from_fn(|i| g.col(axis)[i]));
-                });
-            let column_flow = Flow {
-                position: &p.position,
-                velocity: &self.column,
-                kind: &p.kind,
+        self.fit.resize(p.len(), None);
+        self.fit.par_iter_mut().enumerate().for_each(|(a, fit)| {
+            *fit = if wall_distance(p.position[a], lower, upper, walled) < reach {
+                quadratic_velocity_fit(
+                    neighbours,
+                    a,
+                    flow,
+                    |b| p.mass[b] / p.density[b],
+                    kernel,
+                    |b| p.phase[b] == p.phase[a],
+                )
+            } else {
+                None
             };
-            self.curvature
-                .par_iter_mut()
-                .enumerate()
-                .for_each(|(a, curvature)| {
-                    if gradient[a].is_none() || distance(p.position[a]) >= reach {
-                        return;
-                    }
-                    let same = |b: usize| p.phase[b] == p.phase[a] && gradient[b].is_some();
-                    if let Some(h) = velocity_gradient(
-                        neighbours,
-                        a,
-                        column_flow,
-                        volume,
-                        kernel,
-                        same,
-                        MIN_STRESS_DETERMINANT,
-                    ) {
-                        curvature[axis] = V::from_fn(|i| h.col(axis)[i]);
-                    }
-                });
-        }
+        });
     }
 
-    /// The velocity fluid particle `f` predicts at `delta` from its position (first-order
+    /// The velocity fluid particle `f` predicts at `delta` from its position (second-order
     /// Taylor expansion) minus Σ_a ∂²u/∂x_a² d_a², d the wall particle's distances beyond each
-    /// face.
+    /// face; without a fit, its own velocity.
     fn continued(&self, particles: &Particles<V>, f: usize, delta: V, beyond: [f64; 3]) -> V {
-        let mut u = particles.velocity[f];
-        if let Some(g) = self.gradient[f] {
-            let d3 = DVec3::from_array(std::array::from_fn(|k| {
-                if k < V::DIM { delta.get(k) } else { 0.0 }
-            }));
-            let change = g * d3;
-            u += V::from_fn(|k| change[k]);
-        }
-        for (curvature, d) in self.curvature[f].iter().zip(beyond) {
-            u -= *curvature * (d * d);
+        let u = particles.velocity[f];
+        let Some(fit) = &self.fit[f] else {
+            return u;
+        };
+        let mut u = u + fit.change(delta);
+        for (axis, d) in beyond.iter().enumerate().take(V::DIM) {
+            if *d != 0.0 {
+                u -= fit.curvature(axis) * (d * d);
+            }
         }
         u
     }
@@ -411,7 +350,7 @@ mod tests {
         };
         let (lower, upper) = (DVec2::ZERO, DVec2::new(0.8, height));
         let mut flow = NearWallFlow::default();
-        flow.evaluate((lower, upper), [false, true, false], &kernel, &p, &nb, None);
+        flow.evaluate((lower, upper), [false, true, false], &kernel, &p, &nb);
         let averaged = states(&p, &kernel, &law, 0.0, None);
         let quadratic = states(&p, &kernel, &law, 0.0, Some((&flow, lower, upper)));
         let peak = 0.25 * height * height;
