@@ -83,7 +83,7 @@ fn implicit_layered_channel_at_ratio_1000_viscous_below() {
     check_layers(36, 1000.0, true, 3.0, (0.01, 0.01));
 }
 
-/// Measured 2026-12-04: L2 0.380 %, runny flow rate −0.031 %.
+/// Measured 2026-12-04: L2 0.381 %, runny flow rate −0.034 %.
 #[test]
 fn implicit_layered_channel_at_ratio_100_viscous_above() {
     check_layers(18, 100.0, false, 0.2, (0.01, 0.01));

@@ -83,31 +83,38 @@ impl<V: Vector> QuadraticFit<V> {
     }
 }
 
-/// The second-order fit of the velocity around fluid particle `a` over its fluid neighbours b
-/// with `takes_part(b)`: the coefficients c minimise Σ_b W_ab V_b |u_b − u_a − Σ_t c_t φ_t(x_b − x_a)|²
+/// The second-order fit of the velocity around fluid particle `a` over its fluid neighbours b:
+/// the coefficients c minimise Σ_b W_ab V_b |u_b − u_a − Σ_t c_t φ_t(x_b − x_a)|²
 /// ([`taylor_terms`] φ), solved from the normal equations by Cholesky factorisation with the
-/// offsets scaled by the smoothing length. `None` for a wall particle, or where the neighbours
-/// do not determine every term (fewer than the five terms in 2D, nine in 3D, or all on one
-/// line): the smallest pivot of the factorisation below 10⁻⁶ of the largest diagonal entry
-/// (common practice: a conditioning floor; the value is chosen here).
+/// offsets scaled by the smoothing length. `None` for a wall particle; for a particle with a
+/// fluid neighbour of another phase (across an interface the velocity's gradient jumps, and a
+/// drop's film against a wall leaves too few rows of one liquid to fit); and where the
+/// neighbours do not determine every term (fewer than the five terms in 2D, nine in 3D, or all
+/// on one line): the smallest pivot of the factorisation below 10⁻⁶ of the largest diagonal
+/// entry (common practice: a conditioning floor; the value is chosen here).
 pub fn quadratic_velocity_fit<V: Vector>(
     neighbours: &impl Neighbourhood<V>,
     a: usize,
     flow: Flow<'_, V>,
     volume: impl Fn(usize) -> f64,
     kernel: &Kernel,
-    takes_part: impl Fn(usize) -> bool,
+    phase: &[u16],
 ) -> Option<QuadraticFit<V>> {
     if flow.kind[a] != Kind::Fluid {
         return None;
     }
+    let mut one_liquid = true;
     let used = terms(V::DIM);
     let h = kernel.smoothing_length();
     let v_a = flow.velocity[a];
     let mut normal = SMatrix::<f64, MAX_TERMS, MAX_TERMS>::zeros();
     let mut right = [SVector::<f64, MAX_TERMS>::zeros(); 3];
     neighbours.for_each_neighbour(flow.position, a, |b, r_ab, distance| {
-        if flow.kind[b] != Kind::Fluid || !takes_part(b) {
+        if flow.kind[b] != Kind::Fluid {
+            return;
+        }
+        if phase[b] != phase[a] {
+            one_liquid = false;
             return;
         }
         let weight = kernel.value(distance) * volume(b);
@@ -120,7 +127,7 @@ pub fn quadratic_velocity_fit<V: Vector>(
         }
     });
     let largest = (0..used).map(|t| normal[(t, t)]).fold(0.0f64, f64::max);
-    if !(largest > 0.0) {
+    if !one_liquid || !(largest > 0.0) {
         return None;
     }
     for t in used..MAX_TERMS {
@@ -170,7 +177,10 @@ mod tests {
             for i in 0..12 {
                 // A slightly irregular lattice: the fit must not rely on symmetry.
                 let jitter = 0.07 * dx * ((i * 7 + j * 3) % 5) as f64 / 5.0;
-                position.push(DVec2::new((i as f64 + 0.5) * dx + jitter, (j as f64 + 0.5) * dx));
+                position.push(DVec2::new(
+                    (i as f64 + 0.5) * dx + jitter,
+                    (j as f64 + 0.5) * dx,
+                ));
             }
         }
         let velocity = position.iter().map(|&x| field(x)).collect();
@@ -183,8 +193,10 @@ mod tests {
     /// & Lightfoot, Transport Phenomena, 2nd ed., §2.3) plus terms that exercise every entry.
     #[test]
     fn a_quadratic_field_is_fitted_exactly_on_a_one_sided_support() {
-        let field = |x: DVec2| DVec2::new(x.y * (1.0 - x.y) + x.x * x.y, x.x * x.x - 3.0 * x.x * x.y);
+        let field =
+            |x: DVec2| DVec2::new(x.y * (1.0 - x.y) + x.x * x.y, x.x * x.x - 3.0 * x.x * x.y);
         let (position, velocity, kind) = half_lattice_2d(field);
+        let mut phase = vec![0u16; position.len()];
         let kernel = Kernel::new(KernelKind::WendlandC2, 0.13, 2);
         let nb = BruteForce {
             radius: kernel.support_radius(),
@@ -198,11 +210,19 @@ mod tests {
         // A particle in the first row, in the middle of x.
         let a = 6;
         let x = position[a];
-        let fit = quadratic_velocity_fit(&nb, a, flow, |_| 0.01, &kernel, |_| true).expect("fit");
+        let fit = quadratic_velocity_fit(&nb, a, flow, |_| 0.01, &kernel, &phase).expect("fit");
         let slope_x = DVec2::new(x.y, 2.0 * x.x - 3.0 * x.y);
         let slope_y = DVec2::new(1.0 - 2.0 * x.y + x.x, -3.0 * x.x);
-        assert!((fit.slope(0) - slope_x).length() < 1e-9, "{:?}", fit.slope(0));
-        assert!((fit.slope(1) - slope_y).length() < 1e-9, "{:?}", fit.slope(1));
+        assert!(
+            (fit.slope(0) - slope_x).length() < 1e-9,
+            "{:?}",
+            fit.slope(0)
+        );
+        assert!(
+            (fit.slope(1) - slope_y).length() < 1e-9,
+            "{:?}",
+            fit.slope(1)
+        );
         assert!((fit.curvature(0) - DVec2::new(0.0, 2.0)).length() < 1e-7);
         assert!((fit.curvature(1) - DVec2::new(-2.0, 0.0)).length() < 1e-7);
         // Evaluated at a point below the particle, outside the support's half (the mirror
@@ -210,6 +230,14 @@ mod tests {
         let delta = DVec2::new(0.03, -0.12);
         let exact = field(x + delta) - field(x);
         assert!((fit.change(delta) - exact).length() < 1e-9);
+        // A neighbour of another liquid in the support: no fit.
+        phase[a + 12] = 1;
+        let flow = Flow {
+            position: &position,
+            velocity: &velocity,
+            kind: &kind,
+        };
+        assert!(quadratic_velocity_fit(&nb, a, flow, |_| 0.01, &kernel, &phase).is_none());
     }
 
     #[test]
@@ -226,6 +254,7 @@ mod tests {
         }
         let velocity: Vec<DVec3> = position.iter().map(|&x| field(x)).collect();
         let kind = vec![Kind::Fluid; position.len()];
+        let phase = vec![0u16; position.len()];
         let kernel = Kernel::new(KernelKind::WendlandC2, 0.13, 3);
         let nb = BruteForce {
             radius: kernel.support_radius(),
@@ -237,7 +266,7 @@ mod tests {
             kind: &kind,
         };
         // The corner particle: its support is an eighth of a ball.
-        let fit = quadratic_velocity_fit(&nb, 0, flow, |_| 1e-3, &kernel, |_| true).expect("fit");
+        let fit = quadratic_velocity_fit(&nb, 0, flow, |_| 1e-3, &kernel, &phase).expect("fit");
         let delta = DVec3::new(-0.05, 0.02, -0.1);
         let exact = field(delta) - field(DVec3::ZERO);
         assert!((fit.change(delta) - exact).length() < 1e-9);
@@ -247,9 +276,14 @@ mod tests {
     #[test]
     fn too_few_neighbours_give_no_fit() {
         // Three particles on a line cannot determine a curvature across it.
-        let position = vec![DVec2::new(0.0, 0.0), DVec2::new(0.1, 0.0), DVec2::new(0.2, 0.0)];
+        let position = vec![
+            DVec2::new(0.0, 0.0),
+            DVec2::new(0.1, 0.0),
+            DVec2::new(0.2, 0.0),
+        ];
         let velocity = vec![DVec2::ZERO; 3];
         let kind = vec![Kind::Fluid; 3];
+        let phase = vec![0u16; 3];
         let kernel = Kernel::new(KernelKind::WendlandC2, 0.13, 2);
         let nb = BruteForce {
             radius: kernel.support_radius(),
@@ -260,9 +294,12 @@ mod tests {
             velocity: &velocity,
             kind: &kind,
         };
-        assert!(quadratic_velocity_fit(&nb, 1, flow, |_| 0.01, &kernel, |_| true).is_none());
+        assert!(quadratic_velocity_fit(&nb, 1, flow, |_| 0.01, &kernel, &phase).is_none());
         let walls = vec![Kind::Wall; 3];
-        let flow = Flow { kind: &walls, ..flow };
-        assert!(quadratic_velocity_fit(&nb, 1, flow, |_| 0.01, &kernel, |_| true).is_none());
+        let flow = Flow {
+            kind: &walls,
+            ..flow
+        };
+        assert!(quadratic_velocity_fit(&nb, 1, flow, |_| 0.01, &kernel, &phase).is_none());
     }
 }

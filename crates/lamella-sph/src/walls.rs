@@ -22,7 +22,9 @@ pub enum NoSlip<V> {
     /// ṽ_w = 2 v_w − u(x_m) + Σ_a ∂²u/∂x_a² d_a²: the no-slip continuation across the wall of
     /// a quadratic profile, u(x_m) the fluid velocity at the mirror point x_m by a second-order
     /// Taylor expansion from each fluid neighbour ([`NearWallFlow`]), d_a the wall particle's
-    /// distance beyond the wall face on axis a (both faces at a corner). The walls are the
+    /// distance beyond the wall face on axis a. Fluid in a corner (within a kernel support of
+    /// two faces) or next to another liquid enters with its own velocity, as in
+    /// [`NoSlip::Averaged`]. The walls are the
     /// faces of the box `[lower, upper]` on the axes that are not periodic.
     Quadratic {
         /// Lower corner of the box whose faces are the walls (m).
@@ -36,8 +38,9 @@ pub enum NoSlip<V> {
 /// takes; a buffer reused every step.
 #[derive(Clone, Debug, Default)]
 pub struct NearWallFlow<V> {
-    /// The [`quadratic_velocity_fit`] of each fluid particle within one support of a wall
-    /// face, over its own phase; `None` elsewhere or where it is undefined.
+    /// The [`quadratic_velocity_fit`] of each fluid particle within one support of exactly one
+    /// wall face; `None` elsewhere (corners included) or where it is undefined (next to an
+    /// interface, too few neighbours).
     fit: Vec<Option<QuadraticFit<V>>>,
 }
 
@@ -47,7 +50,11 @@ impl<V: Vector> NearWallFlow<V> {
 
     /// Fits the velocity around every fluid particle within one support of a wall face of
     /// `walls` on the axes where `walled` is true (the fluid neighbours of wall particles); a
-    /// parallel map, each a fixed-order sum.
+    /// parallel map, each a fixed-order sum. Within one support of two faces (a corner) there
+    /// is no fit, so the wall particles there take the fluid's own velocities, Adami's
+    /// first-order average: the flow at a lid corner is singular, and a quadratic fitted over a
+    /// quarter of a support and carried across both faces pushed a particle through the side
+    /// wall of a viscous cavity within a quarter of a lid transit (measured; DEVELOPERS.md).
     pub fn evaluate<N: Neighbourhood<V>>(
         &mut self,
         (lower, upper): (V, V),
@@ -65,14 +72,14 @@ impl<V: Vector> NearWallFlow<V> {
         };
         self.fit.resize(p.len(), None);
         self.fit.par_iter_mut().enumerate().for_each(|(a, fit)| {
-            *fit = if wall_distance(p.position[a], lower, upper, walled) < reach {
+            *fit = if faces_within(p.position[a], (lower, upper), walled, reach) == 1 {
                 quadratic_velocity_fit(
                     neighbours,
                     a,
                     flow,
                     |b| p.mass[b] / p.density[b],
                     kernel,
-                    |b| p.phase[b] == p.phase[a],
+                    &p.phase,
                 )
             } else {
                 None
@@ -82,7 +89,7 @@ impl<V: Vector> NearWallFlow<V> {
 
     /// The velocity fluid particle `f` predicts at `delta` from its position (second-order
     /// Taylor expansion) minus Σ_a ∂²u/∂x_a² d_a², d the wall particle's distances beyond each
-    /// face; without a fit, its own velocity.
+    /// face; without a fit (corners), its own velocity.
     fn continued(&self, particles: &Particles<V>, f: usize, delta: V, beyond: [f64; 3]) -> V {
         let u = particles.velocity[f];
         let Some(fit) = &self.fit[f] else {
@@ -98,13 +105,12 @@ impl<V: Vector> NearWallFlow<V> {
     }
 }
 
-/// Distance (m) from `x` to the nearest face of `[lower, upper]` on a walled axis (infinite
-/// when no axis is walled).
-fn wall_distance<V: Vector>(x: V, lower: V, upper: V, walled: [bool; 3]) -> f64 {
+/// How many faces of `[lower, upper]` on walled axes lie closer to `x` than `reach` (m).
+fn faces_within<V: Vector>(x: V, (lower, upper): (V, V), walled: [bool; 3], reach: f64) -> usize {
     (0..V::DIM)
         .filter(|&axis| walled[axis])
-        .map(|axis| (x.get(axis) - lower.get(axis)).min(upper.get(axis) - x.get(axis)))
-        .fold(f64::INFINITY, f64::min)
+        .filter(|&axis| (x.get(axis) - lower.get(axis)).min(upper.get(axis) - x.get(axis)) < reach)
+        .count()
 }
 
 /// The mirror image of a wall particle at `x` across every face of `[lower, upper]` it lies
@@ -332,9 +338,10 @@ mod tests {
     }
 
     /// The wall velocity for a plane Poiseuille profile u = y (H − y) over a wall at y = 0:
-    /// no slip continues it to u(−d) = −d (H + d) below the wall, which the quadratic no slip
-    /// comes much closer to than the average (Bird, Stewart & Lightfoot,
-    /// Transport Phenomena, 2nd ed., §2.3: the parabolic profile of a slit flow).
+    /// no slip continues it to u(−d) = −d (H + d) below the wall (Bird, Stewart & Lightfoot,
+    /// Transport Phenomena, 2nd ed., §2.3: the parabolic profile of a slit flow). The
+    /// quadratic no slip gives it to round-off (every fluid neighbour's second-order fit is
+    /// exact for a parabola); the average does not.
     #[test]
     fn quadratic_no_slip_continues_a_parabolic_profile() {
         let height = 0.8;
@@ -355,17 +362,16 @@ mod tests {
         let quadratic = states(&p, &kernel, &law, 0.0, Some((&flow, lower, upper)));
         let peak = 0.25 * height * height;
         // The wall rows y = −0.05 and −0.15 (indices 2 · 8 and 1 · 8; the lowest has no fluid
-        // in reach), each with a bound on the quadratic error relative to the averaged one.
-        for (row, ratio) in [(2, 0.6), (1, 0.3)] {
+        // in reach).
+        for row in [2, 1] {
             let i = row * 8;
             let d = p.position[i].y;
             let exact = d * (height - d);
             let first = (averaged[i].viscous_velocity.x - exact).abs() / peak;
             let second = (quadratic[i].viscous_velocity.x - exact).abs() / peak;
             eprintln!("row {row}: averaged {first:.3e}, quadratic {second:.3e} of the peak");
-            // The one-sided corrected gradients next to the wall are themselves first order,
-            // so the continuation is not exact, but it must be clearly closer.
-            assert!(second < ratio * first, "{second} vs {first}");
+            assert!(second < 1e-10, "{second}");
+            assert!(first > 1e-3, "the average is first order: {first}");
         }
     }
 }
