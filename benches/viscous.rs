@@ -53,7 +53,11 @@ fn main() {
                 layers.rows,
                 layers.ratio,
                 layers.width_ratio,
-                if layers.viscous_below { "below" } else { "above" },
+                if layers.viscous_below {
+                    "below"
+                } else {
+                    "above"
+                },
                 m.steps,
                 m.iterations,
                 m.iterations as f64 / m.steps as f64,

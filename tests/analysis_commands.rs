@@ -611,7 +611,7 @@ fn profile_of_layers_of_unequal_density_follows_each_layers_own_driving_force() 
     // The bundled two-layer channel with the syrup at 1300 kg/m³ under water at 1000 kg/m³:
     // a horizontal body force drives each layer by its own ρ_i g, and the layered reference
     // (Bird, Stewart & Lightfoot §2.5 with f1 = ρ1 g, f2 = ρ2 g) is what the run reaches.
-    // Measured: relative L2 error 0.27 %; against one density in both layers (1300 or
+    // Measured: relative L2 error 0.16 %; against one density in both layers (1300 or
     // 1000 kg/m³) the same run is 8.4 % or 20 % off, so the bound of 1 % tells them apart.
     let dir = tempfile::tempdir().unwrap();
     let mut case = lamella_case::load(&cases_dir().join("two-layer-channel.ron")).unwrap();
