@@ -127,7 +127,7 @@ pub fn quadratic_velocity_fit<V: Vector>(
         }
     });
     let largest = (0..used).map(|t| normal[(t, t)]).fold(0.0f64, f64::max);
-    if !one_liquid || !(largest > 0.0) {
+    if !one_liquid || largest <= 0.0 {
         return None;
     }
     for t in used..MAX_TERMS {
