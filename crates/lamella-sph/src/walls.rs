@@ -24,8 +24,8 @@ pub enum NoSlip<V> {
     /// Taylor expansion from each fluid neighbour ([`NearWallFlow`]), d_a the wall particle's
     /// distance beyond the wall face on axis a. Fluid in a corner (within a kernel support of
     /// two faces) or next to another liquid enters with its own velocity, as in
-    /// [`NoSlip::Averaged`]. The walls are the
-    /// faces of the box `[lower, upper]` on the axes that are not periodic.
+    /// [`NoSlip::Averaged`]. The walls are the faces of the box `[lower, upper]` on the axes
+    /// that are not periodic.
     Quadratic {
         /// Lower corner of the box whose faces are the walls (m).
         lower: V,
@@ -50,11 +50,12 @@ impl<V: Vector> NearWallFlow<V> {
 
     /// Fits the velocity around every fluid particle within one support of a wall face of
     /// `walls` on the axes where `walled` is true (the fluid neighbours of wall particles); a
-    /// parallel map, each a fixed-order sum. Within one support of two faces (a corner) there
-    /// is no fit, so the wall particles there take the fluid's own velocities, Adami's
-    /// first-order average: the flow at a lid corner is singular, and a quadratic fitted over a
-    /// quarter of a support and carried across both faces pushed a particle through the side
-    /// wall of a viscous cavity within a quarter of a lid transit (measured; DEVELOPERS.md).
+    /// parallel map, each a fixed-order sum. Within one support of two faces (a corner) and
+    /// next to another liquid there is no fit, so the wall particles there take the fluid's own
+    /// velocities, Adami's first-order average: the flow at a lid corner is singular, and a
+    /// quadratic fitted over a quarter of a support and carried across both faces pushed a
+    /// particle through the side wall of a viscous cavity within a quarter of a lid transit
+    /// (measured; DEVELOPERS.md).
     pub fn evaluate<N: Neighbourhood<V>>(
         &mut self,
         (lower, upper): (V, V),
