@@ -168,9 +168,34 @@ mod tests {
         assert_eq!(terms(3), MAX_TERMS);
     }
 
+    /// The fit around particle `a` of particles at `position` (all fluid unless `kind` says
+    /// otherwise) with velocity `velocity`, phase `phase` and volume `volume`, over a brute-force
+    /// search with a Wendland C2 kernel of h = 0.13 in the dimension of `V`.
+    fn fit_at<V: Vector>(
+        position: &[V],
+        velocity: &[V],
+        phase: &[u16],
+        kind: Option<&[Kind]>,
+        a: usize,
+        volume: f64,
+    ) -> Option<QuadraticFit<V>> {
+        let fluid = vec![Kind::Fluid; position.len()];
+        let kernel = Kernel::new(KernelKind::WendlandC2, 0.13, V::DIM);
+        let nb = BruteForce {
+            radius: kernel.support_radius(),
+            period: V::ZERO,
+        };
+        let flow = Flow {
+            position,
+            velocity,
+            kind: kind.unwrap_or(&fluid),
+        };
+        quadratic_velocity_fit(&nb, a, flow, |_| volume, &kernel, phase)
+    }
+
     /// A lattice of fluid particles filling y > 0 only (the support of the particles in the
     /// first rows is cut as by a wall), with the velocity of `field`.
-    fn half_lattice_2d(field: impl Fn(DVec2) -> DVec2) -> (Vec<DVec2>, Vec<DVec2>, Vec<Kind>) {
+    fn half_lattice_2d(field: impl Fn(DVec2) -> DVec2) -> (Vec<DVec2>, Vec<DVec2>) {
         let dx = 0.1;
         let mut position = Vec::new();
         for j in 0..8 {
@@ -184,8 +209,7 @@ mod tests {
             }
         }
         let velocity = position.iter().map(|&x| field(x)).collect();
-        let kind = vec![Kind::Fluid; position.len()];
-        (position, velocity, kind)
+        (position, velocity)
     }
 
     /// Exact for a quadratic field next to a cut support, where the corrected gradient is not:
@@ -195,22 +219,12 @@ mod tests {
     fn a_quadratic_field_is_fitted_exactly_on_a_one_sided_support() {
         let field =
             |x: DVec2| DVec2::new(x.y * (1.0 - x.y) + x.x * x.y, x.x * x.x - 3.0 * x.x * x.y);
-        let (position, velocity, kind) = half_lattice_2d(field);
+        let (position, velocity) = half_lattice_2d(field);
         let mut phase = vec![0u16; position.len()];
-        let kernel = Kernel::new(KernelKind::WendlandC2, 0.13, 2);
-        let nb = BruteForce {
-            radius: kernel.support_radius(),
-            period: DVec2::ZERO,
-        };
-        let flow = Flow {
-            position: &position,
-            velocity: &velocity,
-            kind: &kind,
-        };
         // A particle in the first row, in the middle of x.
         let a = 6;
         let x = position[a];
-        let fit = quadratic_velocity_fit(&nb, a, flow, |_| 0.01, &kernel, &phase).expect("fit");
+        let fit = fit_at(&position, &velocity, &phase, None, a, 0.01).expect("fit");
         let slope_x = DVec2::new(x.y, 2.0 * x.x - 3.0 * x.y);
         let slope_y = DVec2::new(1.0 - 2.0 * x.y + x.x, -3.0 * x.x);
         assert!(
@@ -232,12 +246,7 @@ mod tests {
         assert!((fit.change(delta) - exact).length() < 1e-9);
         // A neighbour of another liquid in the support: no fit.
         phase[a + 12] = 1;
-        let flow = Flow {
-            position: &position,
-            velocity: &velocity,
-            kind: &kind,
-        };
-        assert!(quadratic_velocity_fit(&nb, a, flow, |_| 0.01, &kernel, &phase).is_none());
+        assert!(fit_at(&position, &velocity, &phase, None, a, 0.01).is_none());
     }
 
     #[test]
@@ -253,20 +262,9 @@ mod tests {
             }
         }
         let velocity: Vec<DVec3> = position.iter().map(|&x| field(x)).collect();
-        let kind = vec![Kind::Fluid; position.len()];
         let phase = vec![0u16; position.len()];
-        let kernel = Kernel::new(KernelKind::WendlandC2, 0.13, 3);
-        let nb = BruteForce {
-            radius: kernel.support_radius(),
-            period: DVec3::ZERO,
-        };
-        let flow = Flow {
-            position: &position,
-            velocity: &velocity,
-            kind: &kind,
-        };
         // The corner particle: its support is an eighth of a ball.
-        let fit = quadratic_velocity_fit(&nb, 0, flow, |_| 1e-3, &kernel, &phase).expect("fit");
+        let fit = fit_at(&position, &velocity, &phase, None, 0, 1e-3).expect("fit");
         let delta = DVec3::new(-0.05, 0.02, -0.1);
         let exact = field(delta) - field(DVec3::ZERO);
         assert!((fit.change(delta) - exact).length() < 1e-9);
@@ -282,24 +280,9 @@ mod tests {
             DVec2::new(0.2, 0.0),
         ];
         let velocity = vec![DVec2::ZERO; 3];
-        let kind = vec![Kind::Fluid; 3];
         let phase = vec![0u16; 3];
-        let kernel = Kernel::new(KernelKind::WendlandC2, 0.13, 2);
-        let nb = BruteForce {
-            radius: kernel.support_radius(),
-            period: DVec2::ZERO,
-        };
-        let flow = Flow {
-            position: &position,
-            velocity: &velocity,
-            kind: &kind,
-        };
-        assert!(quadratic_velocity_fit(&nb, 1, flow, |_| 0.01, &kernel, &phase).is_none());
+        assert!(fit_at(&position, &velocity, &phase, None, 1, 0.01).is_none());
         let walls = vec![Kind::Wall; 3];
-        let flow = Flow {
-            kind: &walls,
-            ..flow
-        };
-        assert!(quadratic_velocity_fit(&nb, 1, flow, |_| 0.01, &kernel, &phase).is_none());
+        assert!(fit_at(&position, &velocity, &phase, Some(&walls), 1, 0.01).is_none());
     }
 }
