@@ -31,7 +31,7 @@ use lamella_suite::layered::{self, DENSITY, HEIGHT, Layering};
 
 /// Lower-layer share of the height: h1 = 0.4 H, h2 = 0.6 H.
 const LOWER_SHARE: f64 = 0.4;
-/// Periodic length in units of H/15, a whole number of spacings at 15, 30 and 60 rows.
+/// Periodic length in units of H/15, a whole number of spacings at 15, 20, 30 and 60 rows.
 const LENGTH_UNITS: f64 = 6.0;
 /// Viscosity of the less viscous layer (Pa·s); the other has `ratio` or `1/ratio` times more.
 const THIN_VISCOSITY: f64 = 1.0e-3;
