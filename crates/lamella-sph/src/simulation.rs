@@ -337,22 +337,28 @@ impl<V: Vector> Simulation<V> {
         Ok(())
     }
 
+    /// The velocity gradients the full viscous stress takes (one pass, only when the case has
+    /// more than one viscosity). Only fluid neighbours count, so the fluid's own volumes m/ρ
+    /// serve.
+    fn evaluate_stress_gradients(&mut self) {
+        if !self.config.full_viscous_stress {
+            return;
+        }
+        let p = &self.particles;
+        self.scratch.gradients.resize(p.len(), DMat3::ZERO);
+        velocity_gradients(
+            &self.cells,
+            p,
+            |b| p.mass[b] / p.density[b],
+            &self.config.kernel,
+            &mut self.scratch.gradients,
+        );
+    }
+
     fn evaluate_interaction_states(&mut self) {
         let n = self.particles.len();
         self.scratch.seen.resize(n, InteractionState::default());
-        // The velocity gradients of the full viscous stress. Only fluid neighbours count, so
-        // the fluid's own volumes m/ρ serve.
         let p = &self.particles;
-        if self.config.full_viscous_stress {
-            self.scratch.gradients.resize(n, DMat3::ZERO);
-            velocity_gradients(
-                &self.cells,
-                p,
-                |b| p.mass[b] / p.density[b],
-                &self.config.kernel,
-                &mut self.scratch.gradients,
-            );
-        }
         let near_wall = match self.config.no_slip {
             NoSlip::Averaged => None,
             NoSlip::Quadratic { lower, upper } => {
@@ -444,6 +450,7 @@ impl<V: Vector> Simulation<V> {
         }
         self.evaluate_interaction_states();
         self.update_viscosities();
+        self.evaluate_stress_gradients();
         let n = self.particles.len();
         let Scratch {
             inverse_reference_density,

@@ -140,7 +140,7 @@ pub fn quadratic_velocity_fit<V: Vector>(
     if smallest_pivot < 1e-6 * largest {
         return None;
     }
-    let solved: Vec<_> = right.iter().map(|rhs| factor.solve(rhs)).collect();
+    let solved = right.map(|rhs| factor.solve(&rhs));
     let mut coefficients = [V::ZERO; MAX_TERMS];
     for (t, coefficient) in coefficients.iter_mut().enumerate().take(used) {
         // Undo the scaling: first derivatives carry 1/h, second derivatives 1/h².
