@@ -64,8 +64,11 @@ pub struct Rates<V> {
     pub acceleration: V,
     /// ∇C = Σ_b V_b ∇_a W_ab (1/m), the particle-concentration gradient (Lind et al. 2012).
     pub concentration_gradient: V,
-    /// Σ over fluid neighbours of another phase of V_b ∇_a W_ab (1/m): points towards the
-    /// other phase; zero away from an interface.
+    /// Σ over fluid neighbours of another phase that are at most as viscous as this particle
+    /// of V_b ∇_a W_ab (1/m): points towards the other phase. Zero away from an interface and
+    /// on the runnier side of one, so that shifting ([`crate::shifting::shift`]) holds only
+    /// the more viscous side's particles (both sides where the viscosities are equal) to the
+    /// interface.
     pub interface_normal: V,
 }
 
@@ -132,7 +135,9 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
                 let seen_b = &seen[b];
                 let (rho_b, vol_b) = (seen_b.density, seen_b.volume);
                 let fluid_b = particles.kind[b] == Kind::Fluid;
-                if fluid_b && particles.phase[b] != phase_a {
+                // Only a liquid at most as viscous as this particle's holds it to the
+                // interface (see `Rates::interface_normal`).
+                if fluid_b && particles.phase[b] != phase_a && particles.viscosity[b] <= mu_a {
                     normal += grad * vol_b;
                 }
                 gradient += grad * vol_b;
@@ -474,9 +479,8 @@ mod tests {
             momentum_rate.length() < 1e-12 * scale,
             "{momentum_rate} vs {scale}"
         );
-        // Interface normals point from phase 0 (below) up towards phase 1 near y = 0.5.
-        let below = 4 * 10 + 3;
-        assert!(rates[below].interface_normal.y > 0.0);
+        // Away from the interface there is no interface normal (next to it, see
+        // `only_the_more_viscous_side_has_an_interface_normal`).
         assert_eq!(rates[2 * 10 + 3].interface_normal, DVec2::ZERO);
     }
 
@@ -535,6 +539,41 @@ mod tests {
         particle_rates(&params, &p, &seen, &[], &nb, &mut momentum);
         let corner = (5 + 3) * 12 + 3; // fluid site (0, 5), under the lid's left end
         assert!(momentum[corner].acceleration.x > 0.0);
+    }
+
+    /// Shifting's interface restriction holds the more viscous side only: in the two-phase box
+    /// (rows 0–4 of viscosity 1, rows 5–9 of viscosity 4) a particle of row 4 has no interface
+    /// normal, one of row 5 has one pointing down, towards the runnier rows; with equal
+    /// viscosities both sides have one.
+    #[test]
+    fn only_the_more_viscous_side_has_an_interface_normal() {
+        let (p, nb, kernel) = periodic_box();
+        let rho0 = [1000.0, 1000.0];
+        let inverse = rho0.map(|r| 1.0 / r);
+        let params = test_parameters(
+            kernel,
+            &rho0,
+            &inverse,
+            DVec2::ZERO,
+            PairViscosity::Harmonic,
+        );
+        let normals = |p: &Particles<DVec2>| {
+            let seen = wall_and_fluid_states(p, &nb, &kernel, &rho0, 0.0);
+            let mut rates = vec![Rates::default(); p.len()];
+            particle_rates(&params, p, &seen, &[], &nb, &mut rates);
+            (
+                rates[4 * 10 + 3].interface_normal,
+                rates[5 * 10 + 3].interface_normal,
+            )
+        };
+        let (runny, viscous) = normals(&p);
+        assert_eq!(runny, DVec2::ZERO);
+        assert!(viscous.y < -10.0 * viscous.x.abs(), "{viscous}");
+        let mut equal = p.clone();
+        equal.viscosity.fill(1.0);
+        let (lower, upper) = normals(&equal);
+        assert!(lower.y > 10.0 * lower.x.abs(), "{lower}");
+        assert!(upper.y < -10.0 * upper.x.abs(), "{upper}");
     }
 
     #[test]

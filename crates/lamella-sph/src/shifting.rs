@@ -16,10 +16,14 @@ pub enum Regularisation {
     },
 }
 
-/// The shift of one particle, −D ∇C, with the part along the interface normal removed
-/// when the particle has neighbours of another phase, so shifting never moves a particle towards
-/// or away from the interface (only along it). With D in m² it is the displacement δr (m); the
-/// solver passes D/dt (m²/s) and gets the shifting velocity δv = δr/dt (m/s).
+/// The shift of one particle, −D ∇C, with the part along `interface_normal` removed where that
+/// is not zero, so shifting never moves such a particle towards or away from the interface (only
+/// along it). The solver gives a normal to the particles on the more viscous side of an
+/// interface only ([`crate::forces::Rates::interface_normal`]): they carry the interface's shape,
+/// and the runnier liquid's particles are shifted freely against them (held on both sides, the
+/// runny rows next to the interface sit out of place; DEVELOPERS.md). With D in m² the result is
+/// the displacement δr (m); the solver passes D/dt (m²/s) and gets the shifting velocity
+/// δv = δr/dt (m/s).
 #[inline]
 pub fn shift<V: Vector>(diffusivity: f64, concentration_gradient: V, interface_normal: V) -> V {
     let mut delta = concentration_gradient * (-diffusivity);
