@@ -93,3 +93,63 @@ fn a_case_without_an_analytical_profile_is_refused_with_the_reason() {
     );
     assert!(!study.exists());
 }
+
+#[test]
+fn fit_options_are_refused_for_a_study_without_an_interface_wave() {
+    let dir = tempfile::tempdir().unwrap();
+    let study = dir.path().join("study");
+    let out = lamella(&[
+        "converge",
+        couette().to_str().unwrap(),
+        "--spacings",
+        "1.2e-4,8e-5",
+        "--window",
+        "0.1,0.2",
+        "--out",
+        study.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("records no interface wave")
+            && stderr(&out).contains("leave them out"),
+        "{}",
+        stderr(&out)
+    );
+    assert!(!study.exists());
+}
+
+#[test]
+fn a_wave_study_fits_every_spacing_over_the_window_given() {
+    // The bundled growing wave at two coarse spacings (20 and 30 particles across), run to
+    // 0.05 s and fitted over the same 0.01..0.05 s at both: growth_convergence.csv names that
+    // window on every row.
+    let dir = tempfile::tempdir().unwrap();
+    let study = dir.path().join("study");
+    let case = lamella_suite::cases_dir().join("interface-growth.ron");
+    let out = lamella(&[
+        "converge",
+        case.to_str().unwrap(),
+        "--spacings",
+        "6e-5,4e-5",
+        "--end",
+        "0.05",
+        "--window",
+        "0.01,0.05",
+        "--out",
+        study.to_str().unwrap(),
+    ]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let csv = std::fs::read_to_string(study.join("growth_convergence.csv")).unwrap();
+    let mut lines = csv.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let column = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let rows: Vec<Vec<f64>> = lines
+        .map(|l| l.split(',').map(|v| v.parse().unwrap()).collect())
+        .collect();
+    assert_eq!(rows.len(), 2, "{csv}");
+    for row in &rows {
+        assert!((row[column("fit_start_s")] - 0.01).abs() < 1e-9, "{csv}");
+        assert!((row[column("fit_end_s")] - 0.05).abs() < 1e-9, "{csv}");
+        assert!(row[column("growth_rate_per_s")] > 0.0, "{csv}");
+    }
+}

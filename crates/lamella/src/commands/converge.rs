@@ -16,7 +16,7 @@ use lamella_post::table::csv_document;
 
 use crate::Failure;
 use crate::commands::Globals;
-use crate::commands::shared::{parse_list, period_line};
+use crate::commands::shared::{FitArgs, parse_list, period_line};
 use lamella_case::Case;
 use lamella_run::analysis::folder::Run;
 use lamella_run::analysis::growth::{FitSettings, measure};
@@ -32,7 +32,9 @@ use lamella_run::reference::channel_reference_or_why;
 #[command(
     after_help = "Writes one run folder per spacing, convergence.csv and convergence.png \
     into --out; for a case that records InterfaceAmplitude, growth_convergence.csv: the growth \
-    rate and wave speed of each run against linear theory. A study starts new runs: an --out \
+    rate and wave speed of each run against linear theory, and the window of each fit, fitted as `lamella growth` fits \
+    them (--window, --min-r2, --start-up; the same window for every spacing compares like \
+    with like). A study starts new runs: an --out \
     folder that already holds files is refused (choose another, remove it, or pass --force), \
     and a refused study writes nothing. Exit codes: 0 done, 1 a run failed or its growth fit \
     refused, 2 bad input (case, spacings, an --out folder in use)."
@@ -58,12 +60,25 @@ pub struct Args {
     /// Replace the results of an earlier study in --out.
     #[arg(long)]
     pub force: bool,
+    /// The growth fit of a wave study (as `lamella growth`). Give one --window for every
+    /// spacing: the automatic window picks a different stretch of each run's record.
+    #[command(flatten)]
+    pub fit: FitArgs,
 }
 
 /// Runs `lamella converge`.
 pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
     let mut case = load_case(&args.case)?;
     let wave_study = InterfaceTracker::of(&case).is_some();
+    if args.fit.given() && !wave_study {
+        return Err(Failure::BadInput(format!(
+            "{}: --window, --min-r2 and --start-up set the growth fit of a wave study, and \
+             this case records no interface wave (no InterfaceAmplitude in output.analyses); \
+             leave them out",
+            args.case.display()
+        )));
+    }
+    let fit_settings = args.fit.settings()?;
     if let Err(why) = channel_reference_or_why(&case) {
         return Err(Failure::BadInput(format!(
             "{}: no analytical profile for this case ({why}); a convergence study needs a \
@@ -171,7 +186,7 @@ pub fn run(args: Args, globals: Globals) -> Result<(), Failure> {
         }
     }
     if wave_study {
-        return summarise_waves(&out, &case, &args.case, &runs, globals);
+        return summarise_waves(&out, &case, &args.case, &runs, &fit_settings, globals);
     }
     let mut l2 = Vec::new();
     let mut max = Vec::new();
@@ -215,15 +230,15 @@ fn summarise_waves(
     case: &Case,
     case_path: &Path,
     runs: &[(f64, PathBuf, PathBuf)],
+    fit_settings: &FitSettings,
     globals: Globals,
 ) -> Result<(), Failure> {
     let predicted = predicted_mode(case, case_path)?;
     let (rate, speed) = (predicted.rate, predicted.wave_speed);
-    let fit_settings = FitSettings::default();
-    let mut columns = vec![Vec::new(); 7];
+    let mut columns = vec![Vec::new(); 9];
     for (dx, path, dir) in runs {
         let folder = RunFolder::open(dir)?;
-        let measured = measure(&folder, &load_case(path)?, &fit_settings)?;
+        let measured = measure(&folder, &load_case(path)?, fit_settings)?;
         let fit = *measured.fit.as_ref().map_err(|why| {
             Failure::RunFailed(format!(
                 "run at spacing {dx:e} m: the growth fit refuses: {why}"
@@ -237,6 +252,8 @@ fn summarise_waves(
             fit.wave_speed,
             fit.wave_speed_ci95,
             fit.wave_speed / speed - 1.0,
+            fit.start,
+            fit.end,
         ]) {
             column.push(value);
         }
@@ -263,6 +280,8 @@ fn summarise_waves(
             "wave_speed_m_per_s",
             "wave_speed_ci95_m_per_s",
             "wave_speed_relative_error",
+            "fit_start_s",
+            "fit_end_s",
         ],
         &columns.iter().map(Vec::as_slice).collect::<Vec<_>>(),
     )
