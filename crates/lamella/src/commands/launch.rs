@@ -154,13 +154,15 @@ fn run_case<V: Vector>(
 /// Restores the newest valid checkpoint of the run folder `folder` and runs on to the end time,
 /// or to `until` (s) as `lamella resume --until` takes it.
 pub fn resume(folder: &Path, until: Option<f64>, globals: Globals) -> Result<(), Failure> {
+    // The interrupt handler comes first: a Ctrl-C that arrives once the lock is taken (which a
+    // caller may watch for) must stop the run with a checkpoint, not kill the process.
+    let stop = interrupt_flag()?;
     // Locked before anything is read: a second resume of the folder stops here (exit 2).
     let folder = RunFolder::open(folder)?.locked()?;
     let case = load_case(&folder.case())?;
     let case_text = std::fs::read_to_string(folder.case()).map_err(|err| {
         Failure::BadInput(format!("cannot read {}: {err}", folder.case().display()))
     })?;
-    let stop = interrupt_flag()?;
     match case.dimension {
         2 => resume_case::<DVec2>(folder, &case, &case_text, until, &stop, globals),
         3 => resume_case::<DVec3>(folder, &case, &case_text, until, &stop, globals),
