@@ -19,7 +19,12 @@ fn path_str(path: &Path) -> &str {
 fn growth_case(dir: &Path, name: &str, end: f64, seeded: bool) -> PathBuf {
     let bundled = lamella_suite::cases_dir().join("interface-growth.ron");
     let mut text = std::fs::read_to_string(bundled).unwrap();
-    text = text.replace("end: 0.1,", &format!("end: {end},"));
+    let bundled_end = "end: 0.18,";
+    assert!(
+        text.contains(bundled_end),
+        "the bundled case's end time moved"
+    );
+    text = text.replace(bundled_end, &format!("end: {end},"));
     if !seeded {
         let start = text.find("    interface_perturbation: (").unwrap();
         let end = start + text[start..].find("    ),\n").unwrap() + "    ),\n".len();
