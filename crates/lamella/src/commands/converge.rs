@@ -31,11 +31,12 @@ use lamella_run::reference::channel_reference_or_why;
 #[derive(Debug, clap::Args)]
 #[command(
     after_help = "Writes one run folder per spacing, convergence.csv and convergence.png \
-    into --out; for a case that records InterfaceAmplitude, growth_convergence.csv: the growth \
-    rate and wave speed of each run against linear theory, and the window of each fit, fitted as `lamella growth` fits \
-    them (--window, --min-r2, --start-up; the same window for every spacing compares like \
-    with like). A study starts new runs: an --out \
-    folder that already holds files is refused (choose another, remove it, or pass --force), \
+    into --out; for a case that records InterfaceAmplitude, growth_convergence.csv instead: \
+    the growth rate and wave speed of each run against linear theory, with each fit's window. \
+    The fits follow `lamella growth` (--window, --min-r2, --start-up); give one --window so \
+    that every spacing is fitted over the same stretch of its record (the automatic window \
+    picks a different one for each run). A study starts new runs: an --out folder that \
+    already holds files is refused (choose another, remove it, or pass --force), \
     and a refused study writes nothing. Exit codes: 0 done, 1 a run failed or its growth fit \
     refused, 2 bad input (case, spacings, an --out folder in use)."
 )]
@@ -60,8 +61,7 @@ pub struct Args {
     /// Replace the results of an earlier study in --out.
     #[arg(long)]
     pub force: bool,
-    /// The growth fit of a wave study (as `lamella growth`). Give one --window for every
-    /// spacing: the automatic window picks a different stretch of each run's record.
+    /// The growth fit of a wave study, as `lamella growth` takes it.
     #[command(flatten)]
     pub fit: FitArgs,
 }
