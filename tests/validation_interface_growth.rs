@@ -22,7 +22,8 @@
 //! the growth rate right, for both cases (the bounds the validation asks of a coarse run).
 //! Measured at 30 particles across (this machine, 2026-12-04, shifting held to the interface
 //! on the more viscous side only): growing σ = 4.758 1/s against 4.532 (+5.0 %; fitted over
-//! 0.02–0.18 s, the first, faster wave period included), c = 0.01083 m/s against 0.01105
+//! 0.02–0.18 s: the linear rate is about 8 % fast at this resolution and the end of the window,
+//! k·A near 0.1, begins to saturate), c = 0.01083 m/s against 0.01105
 //! (−2.0 %); decaying σ = −5.590 1/s against −5.790 (−3.4 %), c = 0.07532 m/s against 0.07568
 //! (−0.5 %).
 
