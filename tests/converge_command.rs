@@ -1,8 +1,8 @@
-//! `lamella converge` refusals, run on the binary: a case with no analytical profile is refused
-//! with the reason, a study never starts into a folder that holds an earlier study, and a
-//! refused study writes nothing.
+//! `lamella converge` on the binary: a case with no analytical profile is refused with the
+//! reason, a study never starts into a folder that holds an earlier study, a refused study
+//! writes nothing, and a wave study fits every spacing over the window it is given.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 use std::process::Output;
 
 fn couette() -> PathBuf {
@@ -11,6 +11,14 @@ fn couette() -> PathBuf {
 
 fn lamella(args: &[&str]) -> Output {
     lamella_suite::run(env!("CARGO_BIN_EXE_lamella"), args)
+}
+
+/// `lamella converge CASE --spacings SPACINGS EXTRA... --out STUDY`.
+fn converge(case: &Path, spacings: &str, extra: &[&str], study: &Path) -> Output {
+    let mut args = vec!["converge", case.to_str().unwrap(), "--spacings", spacings];
+    args.extend_from_slice(extra);
+    args.extend(["--out", study.to_str().unwrap()]);
+    lamella(&args)
 }
 
 fn stderr(out: &Output) -> String {
@@ -23,14 +31,7 @@ fn an_existing_study_folder_is_bad_input_with_advice_that_fits_converge() {
     let study = dir.path().join("study");
     std::fs::create_dir(&study).unwrap();
     std::fs::write(study.join("convergence.csv"), "earlier results\n").unwrap();
-    let out = lamella(&[
-        "converge",
-        couette().to_str().unwrap(),
-        "--spacings",
-        "1.2e-4,8e-5",
-        "--out",
-        study.to_str().unwrap(),
-    ]);
+    let out = converge(&couette(), "1.2e-4,8e-5", &[], &study);
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
     let message = stderr(&out);
     assert!(message.contains(study.to_str().unwrap()), "{message}");
@@ -52,14 +53,7 @@ fn a_refused_study_leaves_no_folder_behind() {
     let dir = tempfile::tempdir().unwrap();
     let study = dir.path().join("study");
     // The second spacing is larger than the channel: that case is invalid, so nothing runs.
-    let out = lamella(&[
-        "converge",
-        couette().to_str().unwrap(),
-        "--spacings",
-        "1.2e-4,0.1",
-        "--out",
-        study.to_str().unwrap(),
-    ]);
+    let out = converge(&couette(), "1.2e-4,0.1", &[], &study);
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
     assert!(stderr(&out).contains("spacing 1e-1 m"), "{}", stderr(&out));
     assert!(
@@ -74,14 +68,7 @@ fn a_case_without_an_analytical_profile_is_refused_with_the_reason() {
     let dir = tempfile::tempdir().unwrap();
     let study = dir.path().join("study");
     let cavity = lamella_suite::cases_dir().join("cavity-re100.ron");
-    let out = lamella(&[
-        "converge",
-        cavity.to_str().unwrap(),
-        "--spacings",
-        "1e-4,5e-5",
-        "--out",
-        study.to_str().unwrap(),
-    ]);
+    let out = converge(&cavity, "1e-4,5e-5", &[], &study);
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
     assert!(
         stderr(&out).contains(
@@ -98,16 +85,7 @@ fn a_case_without_an_analytical_profile_is_refused_with_the_reason() {
 fn fit_options_are_refused_for_a_study_without_an_interface_wave() {
     let dir = tempfile::tempdir().unwrap();
     let study = dir.path().join("study");
-    let out = lamella(&[
-        "converge",
-        couette().to_str().unwrap(),
-        "--spacings",
-        "1.2e-4,8e-5",
-        "--window",
-        "0.1,0.2",
-        "--out",
-        study.to_str().unwrap(),
-    ]);
+    let out = converge(&couette(), "1.2e-4,8e-5", &["--window", "0.1,0.2"], &study);
     assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
     assert!(
         stderr(&out).contains("records no interface wave")
@@ -126,18 +104,12 @@ fn a_wave_study_fits_every_spacing_over_the_window_given() {
     let dir = tempfile::tempdir().unwrap();
     let study = dir.path().join("study");
     let case = lamella_suite::cases_dir().join("interface-growth.ron");
-    let out = lamella(&[
-        "converge",
-        case.to_str().unwrap(),
-        "--spacings",
+    let out = converge(
+        &case,
         "6e-5,4e-5",
-        "--end",
-        "0.05",
-        "--window",
-        "0.01,0.05",
-        "--out",
-        study.to_str().unwrap(),
-    ]);
+        &["--end", "0.05", "--window", "0.01,0.05"],
+        &study,
+    );
     assert!(out.status.success(), "{}", stderr(&out));
     let csv = std::fs::read_to_string(study.join("growth_convergence.csv")).unwrap();
     let mut lines = csv.lines();
