@@ -18,20 +18,13 @@ fn path_str(path: &Path) -> &str {
 /// The bundled growth case with `end` as its end time, with or without its interface seed.
 fn growth_case(dir: &Path, name: &str, end: f64, seeded: bool) -> PathBuf {
     let bundled = lamella_suite::cases_dir().join("interface-growth.ron");
-    let mut text = std::fs::read_to_string(bundled).unwrap();
-    let bundled_end = "end: 0.18,";
-    assert!(
-        text.contains(bundled_end),
-        "the bundled case's end time moved"
-    );
-    text = text.replace(bundled_end, &format!("end: {end},"));
+    let mut case = lamella_case::load(&bundled).expect("the bundled case loads");
+    case.time.end = end;
     if !seeded {
-        let start = text.find("    interface_perturbation: (").unwrap();
-        let end = start + text[start..].find("    ),\n").unwrap() + "    ),\n".len();
-        text.replace_range(start..end, "");
+        case.interface_perturbation = None;
     }
     let path = dir.join(name);
-    std::fs::write(&path, text).unwrap();
+    std::fs::write(&path, lamella_case::to_ron(&case)).unwrap();
     path
 }
 
@@ -100,10 +93,10 @@ fn a_seeded_run_starts_from_a_developed_run_and_is_extended() {
 
     // A state with other particles does not fit: exit 2, naming what differs.
     let coarse = dir.path().join("coarse.ron");
-    let text = std::fs::read_to_string(&seeded)
-        .unwrap()
-        .replace("spacing: 4.0e-5", "spacing: 6.0e-5");
-    std::fs::write(&coarse, text).unwrap();
+    let mut case = lamella_case::load(&seeded).unwrap();
+    assert_eq!(case.particles.spacing, 4.0e-5);
+    case.particles.spacing = 6.0e-5;
+    std::fs::write(&coarse, lamella_case::to_ron(&case)).unwrap();
     let out = lamella(&[
         "run",
         path_str(&coarse),

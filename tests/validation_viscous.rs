@@ -5,10 +5,11 @@
 //!   plane Poiseuille solution of Bird, Stewart & Lightfoot, Transport Phenomena, 2nd ed., §2.5:
 //!   relative L2 error and runny-layer flow rate within 1 % each (the bounds), with the
 //!   viscous layer above (m = 100, n = 0.2, 18 rows across, 15 of them runny) and below
-//!   (m = 100 and 1000, n = 3, 36 rows across, 9 runny; m = 1000, n = 0.2, 36 rows, 30 runny). The thin runny layer is the hard case:
-//!   its walls are the top wall and the nearly rigid viscous layer, and its error is the
-//!   near-boundary error at that layer's resolution (before the second-order fit of the no slip,
-//!   +1.13 % and +1.30 % flow rate at m = 100 and 1000; DEVELOPERS.md, "Quadratic no slip").
+//!   (m = 100 and 1000, n = 3, 36 rows across, 9 runny; m = 1000, n = 0.2, 36 rows, 30
+//!   runny). The thin runny layer is the hard case: its walls are the top wall and the
+//!   nearly rigid viscous layer, and its error is the near-boundary error at that layer's
+//!   resolution (before the second-order fit of the no slip, +1.13 % and +1.30 % flow rate at
+//!   m = 100 and 1000; DEVELOPERS.md, "Quadratic no slip").
 //!   The same with the explicit scheme, which `cargo bench --bench viscous` compares.
 //! - Start-up plane Poiseuille flow with the implicit option and its larger step, against the
 //!   series solution of Morris, Fox & Zhu 1997 (J. Comput. Phys. 136, §4.1), at times before
@@ -71,13 +72,13 @@ fn check_layers(
     );
 }
 
-/// Measured 2026-12-04: L2 0.479 %, runny flow rate +0.738 %.
+/// Measured 2026-12-04: L2 0.479 %, runny flow rate +0.740 %.
 #[test]
 fn implicit_layered_channel_at_ratio_100_viscous_below() {
     check_layers(36, 100.0, true, 3.0, (0.01, 0.01));
 }
 
-/// Measured 2026-12-04: L2 0.706 %, runny flow rate +0.810 %.
+/// Measured 2026-12-04: L2 0.705 %, runny flow rate +0.814 %.
 #[test]
 fn implicit_layered_channel_at_ratio_1000_viscous_below() {
     check_layers(36, 1000.0, true, 3.0, (0.01, 0.01));

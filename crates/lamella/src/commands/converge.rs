@@ -235,7 +235,18 @@ fn summarise_waves(
 ) -> Result<(), Failure> {
     let predicted = predicted_mode(case, case_path)?;
     let (rate, speed) = (predicted.rate, predicted.wave_speed);
-    let mut columns = vec![Vec::new(); 9];
+    const HEADER: [&str; 9] = [
+        "spacing_m",
+        "growth_rate_per_s",
+        "growth_rate_ci95_per_s",
+        "growth_rate_relative_error",
+        "wave_speed_m_per_s",
+        "wave_speed_ci95_m_per_s",
+        "wave_speed_relative_error",
+        "fit_start_s",
+        "fit_end_s",
+    ];
+    let mut columns = vec![Vec::new(); HEADER.len()];
     for (dx, path, dir) in runs {
         let folder = RunFolder::open(dir)?;
         let measured = measure(&folder, &load_case(path)?, fit_settings)?;
@@ -244,7 +255,8 @@ fn summarise_waves(
                 "run at spacing {dx:e} m: the growth fit refuses: {why}"
             ))
         })?;
-        for (column, value) in columns.iter_mut().zip([
+        // One value per column of HEADER (the array's type checks the count).
+        let row: [f64; HEADER.len()] = [
             *dx,
             fit.rate,
             fit.rate_ci95,
@@ -254,7 +266,8 @@ fn summarise_waves(
             fit.wave_speed / speed - 1.0,
             fit.start,
             fit.end,
-        ]) {
+        ];
+        for (column, value) in columns.iter_mut().zip(row) {
             column.push(value);
         }
         if !globals.quiet {
@@ -272,17 +285,7 @@ fn summarise_waves(
         }
     }
     let csv = csv_document(
-        &[
-            "spacing_m",
-            "growth_rate_per_s",
-            "growth_rate_ci95_per_s",
-            "growth_rate_relative_error",
-            "wave_speed_m_per_s",
-            "wave_speed_ci95_m_per_s",
-            "wave_speed_relative_error",
-            "fit_start_s",
-            "fit_end_s",
-        ],
+        &HEADER,
         &columns.iter().map(Vec::as_slice).collect::<Vec<_>>(),
     )
     .map_err(Failure::RunFailed)?;
