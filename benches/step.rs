@@ -94,6 +94,7 @@ fn step_and_parts(c: &mut Criterion) {
                 reference_density: &config.reference_density,
                 inverse_reference_density: &inverse_reference_density,
                 viscous_normalisation: config.viscous_normalisation,
+                wall_suction: config.wall_suction,
             };
             // The velocity gradients the full viscous stress needs (the standard case has two
             // viscosities); their pass is part of the rates here.

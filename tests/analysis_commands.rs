@@ -386,8 +386,7 @@ fn column<'a>(columns: &'a [(String, Vec<f64>)], name: &str) -> &'a [f64] {
 /// driving water over a five times more viscous syrup layer, with a syrup drop) at 20 particles
 /// across instead of 30, run to its end with `lamella run`, then `lamella mix` on every snapshot.
 /// Checks that each output exists and holds sane values: the CSV of global measures (ranges of
-/// Danckwerts 1952 and Lacey 1954; the lid-driven flow lowers the intensity of segregation and
-/// raises the mean mixing entropy), one PNG per chart over time and one PNG map per field, the
+/// Danckwerts 1952 and Lacey 1954; in its 0.6 s the lid barely mixes the liquids), one PNG per chart over time and one PNG map per field, the
 /// gridded volume fractions (.vti, each in [0, 1], summing to 1) and the per-particle fields
 /// (.vtp, one value per fluid particle).
 #[test]
@@ -458,18 +457,14 @@ fn mix_on_a_coarse_two_phase_cavity_writes_every_output() {
     // At t = 0 the FTLE is undefined (no elapsed time); later it is finite and positive.
     assert!(rows[0][4].is_nan());
     assert!(rows[1..].iter().all(|r| r[4].is_finite() && r[4] > 0.0));
-    let (first, last) = (&rows[0], &rows[snapshots - 1]);
-    assert!(
-        last[1] < first[1],
-        "segregation {} → {}: the lid-driven flow mixes",
-        first[1],
-        last[1]
-    );
     // In 0.6 s the lid stretches the interface about once (mean FTLE 1.7 1/s): the liquids
-    // barely mix, and the box-count indices stay near the start's 0 (measured: Lacey −0.14 to
-    // +0.05, entropy index −0.09 to +0.05 on this 10 × 10 grid; below 0 where fewer cells
-    // straddle the interface than at the start).
+    // barely mix, the intensity of segregation stays near the start's 1 (measured 0.965–1.056,
+    // it ended at 0.996 before the lid's corner rest and 1.002 since, so its sign of change is
+    // noise) and the box-count indices near the start's 0 (measured: Lacey −0.15 to +0.05,
+    // entropy index −0.11 to +0.05 on this 10 × 10 grid; below 0 where fewer cells straddle the
+    // interface than at the start).
     for row in &rows {
+        assert!((row[1] - 1.0).abs() < 0.1, "{row:?}");
         assert!(row[2].abs() < 0.25 && row[3].abs() < 0.25, "{row:?}");
     }
 

@@ -128,6 +128,8 @@ pub fn solver_config<V: Vector>(case: &Case) -> Result<SolverConfig<V>, SetupErr
                 upper: V::from_fn(|a| case.domain.upper[a]),
             },
         },
+        // Only where a moving wall meets another, whose upstream corner is in suction.
+        wall_suction: case.lid_corner_speed().is_none(),
         fluid_lower,
         fluid_upper,
     })

@@ -55,6 +55,9 @@ pub struct RateParameters<'a, V> {
     pub inverse_reference_density: &'a [f64],
     /// Factor on the viscous term, [`lattice_viscous_normalisation`] (1 leaves it unchanged).
     pub viscous_normalisation: f64,
+    /// Whether a wall may pull fluid towards it: false holds the fluid–wall pair pressure p̃ at
+    /// zero or above (see [`SolverConfig::wall_suction`](crate::SolverConfig::wall_suction)).
+    pub wall_suction: bool,
 }
 
 /// The momentum rate of one particle, and the sums particle regularisation needs.
@@ -78,7 +81,8 @@ pub struct Rates<V> {
 /// [`crate::walls::interaction_states`]:
 /// - pressure force in the inter-particle averaged form of Hu & Adams 2006 (J. Comput. Phys.
 ///   213, eq. 8), stable across a phase interface:
-///   −(1/m_a) Σ_b (V_a² + V_b²) p̃_ab ∇_a W_ab, p̃_ab = (ρ_b p_a + ρ_a p_b)/(ρ_a + ρ_b);
+///   −(1/m_a) Σ_b (V_a² + V_b²) p̃_ab ∇_a W_ab, p̃_ab = (ρ_b p_a + ρ_a p_b)/(ρ_a + ρ_b),
+///   against a wall held at p̃_ab ≥ 0 unless `wall_suction`;
 /// - viscous force after Morris, Fox & Zhu 1997 (J. Comput. Phys. 136, eq. 8):
 ///   Σ_b m_b 2 μ_ab/(ρ_a ρ_b) · (r_ab·∇_a W_ab)/(r² + 0.01 h²) · (v_a − ṽ_b), with μ_ab the
 ///   chosen pair mean, and μ_ab = μ_a against a wall;
@@ -141,7 +145,10 @@ pub fn particle_rates<V: Vector, N: Neighbourhood<V>>(
                     normal += grad * vol_b;
                 }
                 gradient += grad * vol_b;
-                let p_ab = (rho_b * p_a + rho_a * seen_b.pressure) / (rho_a + rho_b);
+                let mut p_ab = (rho_b * p_a + rho_a * seen_b.pressure) / (rho_a + rho_b);
+                if !fluid_b && !params.wall_suction {
+                    p_ab = p_ab.max(0.0);
+                }
                 force -= grad * ((vol_a * vol_a + vol_b * vol_b) * p_ab);
                 let mu_ab = if fluid_b {
                     params.pair_viscosity.mean(mu_a, particles.viscosity[b])
@@ -344,6 +351,7 @@ mod tests {
             reference_density,
             inverse_reference_density,
             viscous_normalisation: 1.0,
+            wall_suction: true,
         }
     }
 
@@ -539,6 +547,74 @@ mod tests {
         particle_rates(&params, &p, &seen, &[], &nb, &mut momentum);
         let corner = (5 + 3) * 12 + 3; // fluid site (0, 5), under the lid's left end
         assert!(momentum[corner].acceleration.x > 0.0);
+    }
+
+    /// A row of fluid at rest in suction (ρ below ρ0, so p = c0² (ρ − ρ0) = −100 Pa) under
+    /// three rows of wall, which continue its pressure (Adami et al. 2012): with wall suction
+    /// the wall pulls the row up, towards itself; without it the fluid–wall pair pressure is
+    /// held at zero and nothing pulls (the row's own pairs are horizontal).
+    #[test]
+    fn a_wall_pulls_fluid_in_suction_only_with_wall_suction() {
+        let dx = 0.1;
+        let kernel = Kernel::new(KernelKind::WendlandC2, 1.3 * dx, 2);
+        let mut p = Particles::default();
+        for j in 0..4 {
+            for i in -3..9 {
+                let fluid = j == 0 && (0..6).contains(&i);
+                if j == 0 && !fluid {
+                    continue;
+                }
+                let x = DVec2::new((i as f64 + 0.5) * dx, (j as f64 + 0.5) * dx);
+                p.position.push(x);
+                p.initial_position.push(x);
+                p.velocity.push(DVec2::ZERO);
+                p.density.push(999.0);
+                p.pressure.push(0.0);
+                p.mass.push(1000.0 * dx * dx);
+                p.phase.push(0);
+                p.viscosity.push(1.0e-3);
+                p.kind.push(if fluid { Kind::Fluid } else { Kind::Wall });
+                p.id.push(p.id.len() as u64);
+            }
+        }
+        let nb = BruteForce {
+            radius: kernel.support_radius(),
+            period: DVec2::ZERO,
+        };
+        let rho0 = [1000.0];
+        let seen = wall_and_fluid_states(&p, &nb, &kernel, &rho0, 0.0);
+        assert!(
+            (seen[2].pressure + 100.0).abs() < 1e-9,
+            "{}",
+            seen[2].pressure
+        );
+        let inverse = rho0.map(|r| 1.0 / r);
+        let mut params = test_parameters(
+            kernel,
+            &rho0,
+            &inverse,
+            DVec2::ZERO,
+            PairViscosity::Harmonic,
+        );
+        let mut rates = vec![Rates::default(); p.len()];
+        particle_rates(&params, &p, &seen, &[], &nb, &mut rates);
+        let middle = 2; // fluid site (2, 0), the first six particles are the row
+        // Of the order of |p|/(ρ dx) = 1 m/s².
+        assert!(
+            rates[middle].acceleration.y > 0.5,
+            "{}",
+            rates[middle].acceleration
+        );
+        params.wall_suction = false;
+        particle_rates(&params, &p, &seen, &[], &nb, &mut rates);
+        assert!(
+            rates[..6].iter().all(|r| r.acceleration.y.abs() < 1e-12),
+            "{:?}",
+            rates[..6]
+                .iter()
+                .map(|r| r.acceleration)
+                .collect::<Vec<_>>()
+        );
     }
 
     /// Shifting's interface restriction holds the more viscous side only: in the two-phase box

@@ -476,6 +476,7 @@ mod tests {
             reference_density: &rho0,
             inverse_reference_density: &inverse,
             viscous_normalisation: 1.0,
+            wall_suction: true,
         };
         // Pressure is zero everywhere (ρ unchanged is not zero pressure, so take it out):
         // compare with and without viscosity instead.

@@ -97,6 +97,12 @@ pub struct SolverConfig<V: Vector> {
     pub search_domain: Domain<V>,
     /// How wall particles continue the fluid's velocity for the viscous term.
     pub no_slip: NoSlip<V>,
+    /// Whether a wall may pull fluid towards it. Adami's wall pressure continues the fluid's,
+    /// so where the fluid pressure is negative the wall attracts it. Under a moving lid the
+    /// corner upstream is such a suction (−960 Pa measured in a glaze-over-water cavity), and it
+    /// draws a runny particle there into the lid; false holds the fluid–wall pair pressure at
+    /// zero or above, so walls only push (common practice for walls in suction).
+    pub wall_suction: bool,
     /// Fluid particles must stay within `[fluid_lower, fluid_upper]` on non-periodic axes (m).
     pub fluid_lower: V,
     /// Upper corner of the fluid's allowed region (m).
@@ -486,6 +492,7 @@ impl<V: Vector> Simulation<V> {
             } else {
                 self.config.viscous_normalisation
             },
+            wall_suction: self.config.wall_suction,
         };
         particle_rates(
             &params,
@@ -776,6 +783,7 @@ mod tests {
             density_tolerance: 0.5,
             search_domain: Domain::new(DVec2::ZERO, size, [true, true, false]).unwrap(),
             no_slip: NoSlip::Averaged,
+            wall_suction: true,
             fluid_lower: DVec2::ZERO,
             fluid_upper: size,
         };
