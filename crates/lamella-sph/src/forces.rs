@@ -492,6 +492,28 @@ mod tests {
         assert_eq!(rates[2 * 10 + 3].interface_normal, DVec2::ZERO);
     }
 
+    /// Appends a lattice site of water (ρ0 = 1000 kg/m³, 1 mPa·s, phase 0) at `x`: a fluid
+    /// particle, or a wall particle when `fluid` is false.
+    fn push_water_site(
+        p: &mut Particles<DVec2>,
+        x: DVec2,
+        dx: f64,
+        velocity: DVec2,
+        density: f64,
+        fluid: bool,
+    ) {
+        p.position.push(x);
+        p.initial_position.push(x);
+        p.velocity.push(velocity);
+        p.density.push(density);
+        p.pressure.push(0.0);
+        p.mass.push(1000.0 * dx * dx);
+        p.phase.push(0);
+        p.viscosity.push(1.0e-3);
+        p.kind.push(if fluid { Kind::Fluid } else { Kind::Wall });
+        p.id.push(p.id.len() as u64);
+    }
+
     #[test]
     fn a_lid_sliding_over_fluid_at_rest_changes_no_density() {
         // A 6 × 6 box of fluid at rest in three wall rows; the top rows slide along +x and end
@@ -505,20 +527,12 @@ mod tests {
                 let fluid = (0..6).contains(&i) && (0..6).contains(&j);
                 let lid = j >= 6 && (0..6).contains(&i);
                 let x = DVec2::new((i as f64 + 0.5) * dx, (j as f64 + 0.5) * dx);
-                p.position.push(x);
-                p.initial_position.push(x);
-                p.velocity.push(if lid {
+                let velocity = if lid {
                     DVec2::new(1.0, 0.0)
                 } else {
                     DVec2::ZERO
-                });
-                p.density.push(1000.0);
-                p.pressure.push(0.0);
-                p.mass.push(1000.0 * dx * dx);
-                p.phase.push(0);
-                p.viscosity.push(1.0e-3);
-                p.kind.push(if fluid { Kind::Fluid } else { Kind::Wall });
-                p.id.push(p.id.len() as u64);
+                };
+                push_water_site(&mut p, x, dx, velocity, 1000.0, fluid);
             }
         }
         let nb = BruteForce {
@@ -565,16 +579,7 @@ mod tests {
                     continue;
                 }
                 let x = DVec2::new((i as f64 + 0.5) * dx, (j as f64 + 0.5) * dx);
-                p.position.push(x);
-                p.initial_position.push(x);
-                p.velocity.push(DVec2::ZERO);
-                p.density.push(999.0);
-                p.pressure.push(0.0);
-                p.mass.push(1000.0 * dx * dx);
-                p.phase.push(0);
-                p.viscosity.push(1.0e-3);
-                p.kind.push(if fluid { Kind::Fluid } else { Kind::Wall });
-                p.id.push(p.id.len() as u64);
+                push_water_site(&mut p, x, dx, DVec2::ZERO, 999.0, fluid);
             }
         }
         let nb = BruteForce {
