@@ -364,6 +364,16 @@ fn add_walls<V: Vector>(case: &Case, lattice: &Lattice, grid: &[u16], out: &mut 
             .find(|w| w.side == side)
             .map_or(0, |w| i64::from(w.layers))
     };
+    let resting: Vec<Side> = case
+        .walls
+        .iter()
+        .filter(|w| {
+            w.velocity
+                .as_ref()
+                .is_none_or(|v| v.iter().all(|&c| c == 0.0))
+        })
+        .map(|w| w.side)
+        .collect();
     for wall in &case.walls {
         let axis = wall.side.axis().index();
         if axis >= lattice.dim || case.is_periodic(wall.side.axis()) {
@@ -403,7 +413,7 @@ fn add_walls<V: Vector>(case: &Case, lattice: &Lattice, grid: &[u16], out: &mut 
                     let index = [i, j, k];
                     let p = site_position(lattice, index);
                     let at_corner = moving != V::ZERO
-                        && spacings_to_resting_wall(case, lattice, index, axis) < corner_reach;
+                        && spacings_to_resting_wall(&resting, lattice, index, axis) < corner_reach;
                     let wall_velocity = if at_corner { V::ZERO } else { moving };
                     out.position.push(V::from_fn(|a| p[a]));
                     out.velocity.push(wall_velocity);
@@ -418,7 +428,8 @@ fn add_walls<V: Vector>(case: &Case, lattice: &Lattice, grid: &[u16], out: &mut 
 }
 
 /// Distance, in spacings, from wall site `index` of the wall across `axis` to the first
-/// particle row of the nearest resting wall across another axis (infinite when none is).
+/// particle row of the nearest wall across another axis whose side is in `resting` (infinite
+/// when none is).
 ///
 /// A moving wall's particles closer than one kernel support to a resting wall are made at
 /// rest, so at a lid corner the lid's speed drops to zero over one support. Without it the
@@ -428,15 +439,12 @@ fn add_walls<V: Vector>(case: &Case, lattice: &Lattice, grid: &[u16], out: &mut 
 /// 0.1 Pa·s glaze over water; a linear fall of the speed over the support did not hold it:
 /// DEVELOPERS.md). The same idea as the regularised driven cavity, whose lid speed falls to
 /// zero at the corners (Shen 1991, J. Comput. Phys. 95; recalled from memory).
-fn spacings_to_resting_wall(case: &Case, lattice: &Lattice, index: [i64; 3], axis: usize) -> f64 {
-    let resting = |side: Side| {
-        case.walls.iter().any(|w| {
-            w.side == side
-                && w.velocity
-                    .as_ref()
-                    .is_none_or(|v| v.iter().all(|&c| c == 0.0))
-        })
-    };
+fn spacings_to_resting_wall(
+    resting: &[Side],
+    lattice: &Lattice,
+    index: [i64; 3],
+    axis: usize,
+) -> f64 {
     (0..lattice.dim)
         .filter(|&b| b != axis && !lattice.periodic[b])
         .flat_map(|b| {
@@ -444,8 +452,8 @@ fn spacings_to_resting_wall(case: &Case, lattice: &Lattice, index: [i64; 3], axi
             let n = lattice.counts[b] as i64;
             // The first row of the low wall across b has index −1, of the high wall index n.
             [
-                resting(low).then_some((index[b] + 1) as f64),
-                resting(high).then_some((n - index[b]) as f64),
+                resting.contains(&low).then_some((index[b] + 1) as f64),
+                resting.contains(&high).then_some((n - index[b]) as f64),
             ]
         })
         .flatten()
