@@ -316,11 +316,14 @@ pub fn linear_amplitude_limit(wavenumber: f64, thinner_layer: f64) -> f64 {
 ///    settling transient); from each start the longest window with R² ≥ the minimum is taken
 ///    (one that dips under the minimum and recovers counts: over a few wave periods the rate
 ///    of a simulated wave swings with the period, and stopping at the first dip kept only a
-///    short early window), and of these windows the straightest (highest R²) wins, the
-///    earliest on a tie.
+///    short early window); of these windows, those at most one wave period (from the phase
+///    over the usable run) shorter than the longest compete, and the straightest (highest R²)
+///    wins, the earliest on a tie.
 ///    A longer clean record raises R² (the spread of ln A grows faster than the residuals),
 ///    a transient at the start lowers it, so this keeps the whole linear stage and drops a
-///    transient (common practice). No window of [`MIN_POINTS`] with R² ≥ the minimum: refused.
+///    transient (common practice). The length bound keeps a slowly decaying wave, whose ln A
+///    spreads little, from being fitted over a short straight stretch: its rate changes from
+///    one period to the next. No window of [`MIN_POINTS`] with R² ≥ the minimum: refused.
 ///
 /// The growth rate of a simulated wave is not constant over its linear stage: on the bundled
 /// interface-growth case it is higher over the first wave period than over the next ones, and at
@@ -609,7 +612,7 @@ fn automatic_window(
     }
     let log_a: Vec<f64> = series.amplitude.iter().map(|a| a.ln()).collect();
     let skip = ((hi - lo) as f64 * MAX_SKIPPED_SHARE) as usize;
-    let mut chosen: Option<(usize, usize, f64)> = None;
+    let mut candidates: Vec<(usize, usize, f64)> = Vec::new();
     let mut best_r2 = f64::NEG_INFINITY;
     for s in lo..=(lo + skip).min(hi - MIN_POINTS) {
         // Shifted to the window's first sample, so the sums lose no digits.
@@ -626,9 +629,22 @@ fn automatic_window(
                 end = Some((e, r2));
             }
         }
-        if let Some((e, r2)) = end
-            && chosen.is_none_or(|(_, _, best)| r2 > best)
-        {
+        if let Some((e, r2)) = end {
+            candidates.push((s, e, r2));
+        }
+    }
+    // A window more than one wave period shorter than the longest is not a candidate: the rate
+    // of a simulated wave changes from one period to the next, and a short straight stretch of
+    // it is not the wave's rate.
+    let period = usable_run_period(series, options.wavenumber, lo, hi);
+    let longest = candidates
+        .iter()
+        .map(|&(s, e, _)| time[e] - time[s])
+        .fold(f64::NEG_INFINITY, f64::max);
+    let mut chosen: Option<(usize, usize, f64)> = None;
+    for &(s, e, r2) in &candidates {
+        let long_enough = time[e] - time[s] >= longest - period;
+        if long_enough && chosen.is_none_or(|(_, _, best)| r2 > best) {
             chosen = Some((s, e, r2));
         }
     }
@@ -641,6 +657,15 @@ fn automatic_window(
             start: time[lo],
             end: time[hi - 1],
         })
+}
+
+/// The wave period T = 2π/(k |c|) over the usable samples `lo..hi` (s), c from the slope of
+/// the unwrapped phase; infinite when the phase cannot be fitted or the wave is at rest.
+fn usable_run_period(series: &ModeSeries, wavenumber: f64, lo: usize, hi: usize) -> f64 {
+    let phase = unwrap_phase(&series.phase[lo..hi]);
+    linear_fit(&series.time[lo..hi], &phase).map_or(f64::INFINITY, |travel| {
+        wave_period(wavenumber, travel.slope / wavenumber)
+    })
 }
 
 #[cfg(test)]
@@ -855,6 +880,42 @@ mod tests {
         let fit = fit_mode(&series, &options(0.0)).expect("a fit");
         assert!(fit.points >= 100, "window {}..{} s", fit.start, fit.end);
         assert!((fit.rate / sigma - 1.0).abs() < 0.05, "rate {}", fit.rate);
+    }
+
+    #[test]
+    fn a_slow_decay_whose_rate_changes_by_the_period_is_fitted_over_all_but_one_period_at_most() {
+        // ln A falls at −1.5, −5.5, −3, −3, −3.5, −4, −3, −3.5 1/s over successive periods of
+        // T = 0.04 s (c = 0.12 m/s), like the slowly decaying long wave of the stability sweep
+        // run at 40 particles across. The whole record is straight enough (R² = 0.997), but
+        // windows that skip the first periods are straighter; the window may skip one period
+        // at most, and the rate is the whole record's slope, −3.5 1/s, to 5 %.
+        let period = 0.04;
+        let rates = [-1.5, -5.5, -3.0, -3.0, -3.5, -4.0, -3.0, -3.5];
+        let time: Vec<f64> = (0..=120).map(|i| i as f64 * 0.0025).collect();
+        let mut log_a = vec![(2e-5f64).ln()];
+        for w in time.windows(2) {
+            let which = ((w[0] + 1e-12) / period) as usize;
+            log_a.push(log_a[log_a.len() - 1] + rates[which.min(7)] * (w[1] - w[0]));
+        }
+        let amplitude: Vec<f64> = log_a.iter().map(|l| l.exp()).collect();
+        let speed = 4.8e-3 / period;
+        let phase: Vec<f64> = time.iter().map(|&t| wrap(-K * speed * t)).collect();
+        let noise = vec![1e-8; time.len()];
+        let series = ModeSeries {
+            time: &time,
+            amplitude: &amplitude,
+            phase: &phase,
+            noise: &noise,
+        };
+        let fit = fit_mode(&series, &options(0.0)).expect("a fit");
+        assert!(
+            fit.end - fit.start >= 0.3 - period - 1e-9,
+            "window {}..{} s",
+            fit.start,
+            fit.end
+        );
+        assert!((fit.rate / -3.5 - 1.0).abs() < 0.05, "rate {}", fit.rate);
+        assert!((fit.wave_period / period - 1.0).abs() < 1e-6);
     }
 
     #[test]
