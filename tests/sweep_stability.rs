@@ -9,9 +9,11 @@
 //! - (b) the long-wave limit of Yih 1967 (§3) and Hooper 1985 (Phys. Fluids 28, "Long-wave
 //!   instability at the interface between two viscous fluids: thin layer effects"), σ ≈ α² Re J
 //!   with the sign of J alone deciding, computed here from m and n alone: members 0 (m = 20,
-//!   n = 1) and 1 (m = 10, n = 0.5), both unstable (m > n²). Member 2 (m = 10, n = 2) lies in the
-//!   band n² < m < 4n² where long waves grow but the wave of k h = π decays: there the test
-//!   checks that the two theories differ and the measurement follows (a).
+//!   n = 1) and 1 (m = 10, n = 0.5), both unstable (m > n²), and member 3 (m = 3, n = 3, k h =
+//!   π/3), stable (1 < m < n²: the runny liquid in the thinner layer, Hooper 1985). Member 2
+//!   (m = 10, n = 2) lies in the band n² < m < 4n² where long waves grow but the wave of
+//!   k h = π decays: there the test checks that the two theories differ and the measurement
+//!   follows (a).
 
 use std::fs;
 
@@ -71,9 +73,9 @@ fn every_member_grows_or_decays_as_linear_theory_says() {
             cells: l.split(',').collect(),
         })
         .collect();
-    assert_eq!(rows.len(), 3, "{table}");
+    assert_eq!(rows.len(), 4, "{table}");
     // Which theory each member is checked against (see the module documentation).
-    let long_wave_applies = [true, true, false];
+    let long_wave_applies = [true, true, false, true];
     for (row, long_wave_applies) in rows.iter().zip(long_wave_applies) {
         let member = row.text("member");
         assert_eq!(row.text("status"), "finished", "member {member}: {table}");
