@@ -724,6 +724,19 @@ mod tests {
     }
 
     impl Synthetic {
+        /// A record of the given amplitudes, free of noise, of a wave travelling at `speed`
+        /// (m/s), over a noise floor of 10 nm.
+        fn clean(time: Vec<f64>, amplitude: Vec<f64>, speed: f64) -> Synthetic {
+            let phase = time.iter().map(|&t| wrap(-K * speed * t)).collect();
+            let noise = vec![1e-8; time.len()];
+            Synthetic {
+                time,
+                amplitude,
+                phase,
+                noise,
+            }
+        }
+
         fn series(&self) -> ModeSeries<'_> {
             ModeSeries {
                 time: &self.time,
@@ -869,15 +882,8 @@ mod tests {
                 8e-6 * (sigma * t + epsilon * (std::f64::consts::TAU * t / period).sin()).exp()
             })
             .collect();
-        let phase: Vec<f64> = time.iter().map(|&t| wrap(-K * 1.1e-2 * t)).collect();
-        let noise = vec![1e-8; time.len()];
-        let series = ModeSeries {
-            time: &time,
-            amplitude: &amplitude,
-            phase: &phase,
-            noise: &noise,
-        };
-        let fit = fit_mode(&series, &options(0.0)).expect("a fit");
+        let record = Synthetic::clean(time, amplitude, 1.1e-2);
+        let fit = fit_mode(&record.series(), &options(0.0)).expect("a fit");
         assert!(fit.points >= 100, "window {}..{} s", fit.start, fit.end);
         assert!((fit.rate / sigma - 1.0).abs() < 0.05, "rate {}", fit.rate);
     }
@@ -898,16 +904,8 @@ mod tests {
             log_a.push(log_a[log_a.len() - 1] + rates[which.min(7)] * (w[1] - w[0]));
         }
         let amplitude: Vec<f64> = log_a.iter().map(|l| l.exp()).collect();
-        let speed = 4.8e-3 / period;
-        let phase: Vec<f64> = time.iter().map(|&t| wrap(-K * speed * t)).collect();
-        let noise = vec![1e-8; time.len()];
-        let series = ModeSeries {
-            time: &time,
-            amplitude: &amplitude,
-            phase: &phase,
-            noise: &noise,
-        };
-        let fit = fit_mode(&series, &options(0.0)).expect("a fit");
+        let record = Synthetic::clean(time, amplitude, 4.8e-3 / period);
+        let fit = fit_mode(&record.series(), &options(0.0)).expect("a fit");
         assert!(
             fit.end - fit.start >= 0.3 - period - 1e-9,
             "window {}..{} s",
