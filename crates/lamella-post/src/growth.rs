@@ -359,8 +359,7 @@ pub fn fit_mode(series: &ModeSeries, options: &FitOptions) -> Result<ModeFit, Gr
             end: t[t.len() - 1],
         });
     }
-    let phase = unwrap_phase(series.phase);
-    let travel = linear_fit(t, &phase[first..=last]).ok_or_else(too_few)?;
+    let travel = phase_line(series, first..last + 1).ok_or_else(too_few)?;
     let k = options.wavenumber;
     let noise_floor = noise[first..=last].iter().sum::<f64>() / t.len() as f64;
     let wave_speed = -travel.slope / k;
@@ -662,10 +661,16 @@ fn automatic_window(
 /// The wave period T = 2π/(k |c|) over the usable samples `lo..hi` (s), c from the slope of
 /// the unwrapped phase; infinite when the phase cannot be fitted or the wave is at rest.
 fn usable_run_period(series: &ModeSeries, wavenumber: f64, lo: usize, hi: usize) -> f64 {
-    let phase = unwrap_phase(&series.phase[lo..hi]);
-    linear_fit(&series.time[lo..hi], &phase).map_or(f64::INFINITY, |travel| {
-        wave_period(wavenumber, travel.slope / wavenumber)
+    phase_line(series, lo..hi).map_or(f64::INFINITY, |travel| {
+        wave_period(wavenumber, -travel.slope / wavenumber)
     })
+}
+
+/// Straight-line fit of the unwrapped phase against time over the samples `range`: its slope
+/// is −k c. `None` with fewer than two distinct times.
+fn phase_line(series: &ModeSeries, range: std::ops::Range<usize>) -> Option<LinearFit> {
+    let phase = unwrap_phase(&series.phase[range.clone()]);
+    linear_fit(&series.time[range], &phase)
 }
 
 #[cfg(test)]
